@@ -1,0 +1,217 @@
+"""The immutable result of a noise analysis.
+
+Axis order, fixed for the whole project: **sources first, then frequency**.
+``source_density[k, i]`` is the one-sided output noise power density (V²/Hz)
+that noise source ``k`` produces at ``frequency[i]`` (Hz).
+
+The object stores the minimum (grid, per-source densities, per-source band
+integrals, the cumulative total) and derives everything else as properties.
+All arrays are read-only.  Units are SI throughout; engineering units belong
+to :mod:`netnoise.report` and :mod:`netnoise.plotting`.
+"""
+
+from __future__ import annotations
+
+import math
+from dataclasses import dataclass, field
+from functools import cached_property
+
+import numpy as np
+
+__all__ = ["Contribution", "NoiseResult"]
+
+
+def _frozen(array, dtype=float) -> np.ndarray:
+    out = np.array(array, dtype=dtype, copy=True)
+    out.setflags(write=False)
+    return out
+
+
+@dataclass(frozen=True)
+class Contribution:
+    """One row of the ranked noise budget."""
+
+    element: str  # element name, hierarchical (``X1.R2``)
+    mechanism: str  # "thermal", ...
+    value: str  # the element's value as a short human string, e.g. "10 kΩ"
+    variance_V2: float  # band-integrated output noise power, V²
+    share: float  # fraction of the total output noise power, 0..1
+    cumulative_share: float  # running sum of shares down the ranking
+
+    @property
+    def rms_V(self) -> float:
+        return math.sqrt(self.variance_V2)
+
+
+@dataclass(frozen=True, eq=False)
+class NoiseResult:
+    """Output noise of one circuit, one output, one band, one temperature.
+
+    Parameters (all stored read-only)
+    ----------
+    title : netlist title line.
+    temperature_K : analysis temperature, kelvin.
+    output_node, reference_node : the output is v(output_node) - v(reference_node).
+    input_source : name of the signal input source, or None.
+    input_unit : "V" for a voltage input source, "A" for a current one, None.
+    band_low_Hz, band_high_Hz : integration band; ``band_high_Hz`` may be ``inf``.
+    frequency_Hz : (F,) the reported spectrum grid, increasing, Hz.
+    source_names, source_mechanisms, source_values : (K,) per noise source.
+    source_density : (K, F) output noise power density per source, V²/Hz.
+    source_variance : (K,) band-integrated output noise power per source, V².
+        Computed by the engine to full accuracy (adaptive or exact), not by
+        summing ``source_density`` on the grid.
+    cumulative_variance : (F,) total output noise power integrated from
+        ``band_low_Hz`` (or from the grid's first point when the band starts
+        below it) up to each grid frequency, V².
+    gain : (F,) |H(f)| from the input source to the output (V/V or V/A), or None.
+    gain_squared_integral : ∫|H|² df over the band (V²·Hz/V² or V²·Hz/A²), or None.
+    integration_rel_error : the integrator's estimate of its relative error.
+    notes : remarks for the user (defaults chosen, warnings), in order.
+    """
+
+    title: str
+    temperature_K: float
+    output_node: str
+    reference_node: str
+    input_source: str | None
+    input_unit: str | None
+    band_low_Hz: float
+    band_high_Hz: float
+    frequency_Hz: np.ndarray
+    source_names: tuple[str, ...]
+    source_mechanisms: tuple[str, ...]
+    source_values: tuple[str, ...]
+    source_density: np.ndarray
+    source_variance: np.ndarray
+    cumulative_variance: np.ndarray
+    gain: np.ndarray | None = None
+    gain_squared_integral: float | None = None
+    integration_rel_error: float = 0.0
+    notes: tuple[str, ...] = field(default=())
+
+    def __post_init__(self) -> None:
+        set_ = object.__setattr__
+        set_(self, "frequency_Hz", _frozen(self.frequency_Hz))
+        set_(self, "source_density", _frozen(self.source_density))
+        set_(self, "source_variance", _frozen(self.source_variance))
+        set_(self, "cumulative_variance", _frozen(self.cumulative_variance))
+        if self.gain is not None:
+            set_(self, "gain", _frozen(self.gain))
+        set_(self, "source_names", tuple(self.source_names))
+        set_(self, "source_mechanisms", tuple(self.source_mechanisms))
+        set_(self, "source_values", tuple(self.source_values))
+        set_(self, "notes", tuple(self.notes))
+        k, f = len(self.source_names), len(self.frequency_Hz)
+        if self.source_density.shape != (k, f):
+            raise ValueError(f"source_density has shape {self.source_density.shape}, expected {(k, f)}")
+        if self.source_variance.shape != (k,):
+            raise ValueError(f"source_variance has shape {self.source_variance.shape}, expected {(k,)}")
+
+    # --- totals -----------------------------------------------------------
+    @cached_property
+    def output_density(self) -> np.ndarray:
+        """(F,) total output noise power density, V²/Hz."""
+        out = self.source_density.sum(axis=0)
+        out.setflags(write=False)
+        return out
+
+    @property
+    def output_density_rt(self) -> np.ndarray:
+        """(F,) total output noise amplitude density, V/√Hz."""
+        return np.sqrt(self.output_density)
+
+    @property
+    def total_variance(self) -> float:
+        """Band-integrated output noise power, V²."""
+        return float(self.source_variance.sum())
+
+    @property
+    def total_rms(self) -> float:
+        """Band-integrated output noise, V rms."""
+        return math.sqrt(self.total_variance)
+
+    @property
+    def shares(self) -> np.ndarray:
+        """(K,) each source's fraction of the total output noise power."""
+        total = self.total_variance
+        if total <= 0.0:
+            return np.zeros_like(self.source_variance)
+        return self.source_variance / total
+
+    @cached_property
+    def contributions(self) -> tuple[Contribution, ...]:
+        """The noise budget, largest share first."""
+        order = np.argsort(-self.source_variance, kind="stable")
+        shares = self.shares
+        running = 0.0
+        rows = []
+        for k in order:
+            running += float(shares[k])
+            rows.append(
+                Contribution(
+                    element=self.source_names[k],
+                    mechanism=self.source_mechanisms[k],
+                    value=self.source_values[k],
+                    variance_V2=float(self.source_variance[k]),
+                    share=float(shares[k]),
+                    cumulative_share=min(running, 1.0),
+                )
+            )
+        return tuple(rows)
+
+    @property
+    def cumulative_rms(self) -> np.ndarray:
+        """(F,) integrated output noise from the band's low edge to each grid point, V rms."""
+        return np.sqrt(self.cumulative_variance)
+
+    # --- signal path ----------------------------------------------------
+    @property
+    def band_is_unbounded(self) -> bool:
+        return math.isinf(self.band_high_Hz)
+
+    @property
+    def gain_at_max(self) -> float | None:
+        """Largest |H| from the input source to the output on the grid within the band."""
+        if self.gain is None or self.gain.size == 0:
+            return None
+        return float(np.max(self.gain))
+
+    @property
+    def input_referred_rms(self) -> float | None:
+        """Total output rms divided by ``gain_at_max`` (V or A, see ``input_unit``)."""
+        g = self.gain_at_max
+        if g is None or g == 0.0:
+            return None
+        return self.total_rms / g
+
+    @property
+    def input_referred_density(self) -> np.ndarray | None:
+        """(F,) output density divided by |H(f)|², point by point (V²/Hz or A²/Hz)."""
+        if self.gain is None:
+            return None
+        with np.errstate(divide="ignore"):
+            out = np.where(self.gain > 0, self.output_density / np.where(self.gain > 0, self.gain, 1.0) ** 2, np.inf)
+        return out
+
+    @property
+    def enbw_Hz(self) -> float | None:
+        """Equivalent noise bandwidth of the signal path: ∫|H|²df / gain_at_max², Hz."""
+        g = self.gain_at_max
+        if g is None or g == 0.0 or self.gain_squared_integral is None:
+            return None
+        return self.gain_squared_integral / g**2
+
+    def spot_density(self, frequency_Hz: float) -> float:
+        """Total output amplitude density at ``frequency_Hz`` (V/√Hz), interpolated
+        log-log on the grid; ValueError outside the grid."""
+        f = self.frequency_Hz
+        if not (f[0] <= frequency_Hz <= f[-1]):
+            raise ValueError(f"{frequency_Hz} Hz is outside the analysed grid {f[0]:g}..{f[-1]:g} Hz")
+        positive = f > 0
+        d = self.output_density
+        return float(
+            math.sqrt(
+                math.exp(np.interp(math.log(frequency_Hz), np.log(f[positive]), np.log(np.maximum(d[positive], 1e-300))))
+            )
+        )
