@@ -66,6 +66,8 @@ class NoiseResult:
         below it) up to each grid frequency, V².
     gain : (F,) |H(f)| from the input source to the output (V/V or V/A), or None.
     gain_squared_integral : ∫|H|² df over the band (V²·Hz/V² or V²·Hz/A²), or None.
+    gain_peak : the largest |H| the engine found anywhere in the band (it
+        samples more finely than the grid, and at 0 Hz), or None.
     integration_rel_error : the integrator's estimate of its relative error.
     notes : remarks for the user (defaults chosen, warnings), in order.
     """
@@ -87,6 +89,7 @@ class NoiseResult:
     cumulative_variance: np.ndarray
     gain: np.ndarray | None = None
     gain_squared_integral: float | None = None
+    gain_peak: float | None = None
     integration_rel_error: float = 0.0
     notes: tuple[str, ...] = field(default=())
 
@@ -172,10 +175,10 @@ class NoiseResult:
 
     @property
     def gain_at_max(self) -> float | None:
-        """Largest |H| from the input source to the output on the grid within the band."""
+        """Largest |H| from the input source to the output within the band."""
         if self.gain is None or self.gain.size == 0:
             return None
-        return float(np.max(self.gain))
+        return max(float(np.max(self.gain)), self.gain_peak or 0.0)
 
     @property
     def input_referred_rms(self) -> float | None:

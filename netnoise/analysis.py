@@ -1,0 +1,288 @@
+"""The noise analysis: settings resolved, circuit solved, band integrated.
+
+:func:`analyze` is the one entry point.  It resolves the output, input
+source, band, grid density and temperature (arguments first, then the
+netlist's ``.noise`` / ``.temp`` cards, then defaults, each choice recorded
+in the result's notes), assembles the MNA system, collects the noise
+sources, and integrates the output density over the band:
+
+* finite band: adaptive integration on the reported grid (:mod:`netnoise.integrate`);
+* band to infinity: the exact state-space total (:mod:`netnoise.total_variance`),
+  minus the numerically integrated stretch below the band's low edge.
+"""
+
+from __future__ import annotations
+
+import math
+from dataclasses import dataclass
+
+import numpy as np
+
+from . import circuit as ck
+from .errors import CircuitError, UsageError
+from .integrate import integrate_band
+from .mna import MnaSystem, assemble
+from .noise_sources import NoiseSources, collect_noise_sources
+from .result import NoiseResult
+from .topology import check_topology
+from .total_variance import EXACT_LIMIT, finite_poles_Hz, infinite_band_totals
+from .transfer import adjoint_solutions
+
+__all__ = ["analyze", "output_density_function", "DEFAULT_TEMPERATURE_C", "DEFAULT_POINTS_PER_DECADE"]
+
+DEFAULT_TEMPERATURE_C = 27.0  # the trade's customary default, 300.15 K
+DEFAULT_POINTS_PER_DECADE = 20
+ZERO_CELSIUS_K = 273.15
+
+
+@dataclass(frozen=True)
+class _Settings:
+    output: str
+    reference: str
+    input_source: str | None
+    low: float
+    high: float
+    points_per_decade: float
+    temperature_K: float
+    notes: tuple[str, ...]
+
+
+def _resolve(circuit, output, reference, input_source, band, points_per_decade, temperature_celsius) -> _Settings:
+    notes = list(circuit.notices)
+    card = circuit.noise_card
+    if output is None:
+        if card is None:
+            raise UsageError(
+                "no output given: name the output node with --out NODE (API: output=...) "
+                "or add a card such as '.noise v(out) Vin dec 20 1 100k' to the netlist"
+            )
+        output, reference = card.output_node, reference if reference is not None else card.reference_node
+    if reference is None:
+        reference = ck.GROUND
+    if ck.name_key(output) == ck.name_key(reference):
+        raise UsageError(f"output node and reference node are the same ('{output}')")
+    if input_source is None and card is not None and card.input_source:
+        input_source = card.input_source
+
+    sweep = card.sweep if card is not None else None
+    if band is None:
+        if sweep is not None:
+            band = (sweep.start, sweep.stop)
+        else:
+            band = (0.0, math.inf)
+            notes.append("no band given: integrating from 0 Hz to infinite bandwidth (exact)")
+    low, high = (float(x) for x in band)
+    if math.isnan(low) or math.isnan(high) or low < 0 or math.isinf(low):
+        raise UsageError(f"band low edge must be a finite frequency >= 0 Hz, got {low:g}")
+    if not high > low:
+        raise UsageError(f"band high edge ({high:g} Hz) must be above the low edge ({low:g} Hz)")
+
+    if points_per_decade is None:
+        if sweep is not None and sweep.kind == "dec":
+            points_per_decade = sweep.points
+        elif sweep is not None and sweep.kind == "oct":
+            points_per_decade = sweep.points * math.log2(10.0)
+        else:
+            points_per_decade = DEFAULT_POINTS_PER_DECADE
+            if sweep is not None:
+                notes.append(f"linear sweep on the noise card: reported on a log grid of {points_per_decade} points/decade")
+    if not (points_per_decade >= 1):
+        raise UsageError(f"points per decade must be at least 1, got {points_per_decade}")
+
+    if temperature_celsius is None:
+        temperature_celsius = circuit.temperature_celsius
+    if temperature_celsius is None:
+        temperature_celsius = DEFAULT_TEMPERATURE_C
+        notes.append(f"temperature not given: {DEFAULT_TEMPERATURE_C:g} °C (300.15 K), the customary default")
+    temperature_K = float(temperature_celsius) + ZERO_CELSIUS_K
+    if not temperature_K > 0 or not math.isfinite(temperature_K):
+        raise UsageError(f"temperature {temperature_celsius:g} °C is below absolute zero (-273.15 °C)")
+    return _Settings(output, reference, input_source, low, high, float(points_per_decade), temperature_K, tuple(notes))
+
+
+class _Problem:
+    """The assembled circuit with its output selector, sources and input."""
+
+    def __init__(self, circuit: ck.Circuit, settings: _Settings):
+        check_topology(circuit)
+        self.system: MnaSystem = assemble(circuit)
+        self.selector = self.system.node_pair_vector(settings.output, settings.reference)
+        self.sources: NoiseSources = collect_noise_sources(self.system, settings.temperature_K)
+        self.input_vector = None
+        self.input_unit = None
+        if settings.input_source is not None:
+            self.input_vector, self.input_unit = self.system.excitation_vector(settings.input_source)
+
+    @property
+    def has_input(self) -> bool:
+        return self.input_vector is not None
+
+    def densities(self, frequency_Hz: np.ndarray) -> np.ndarray:
+        """(K [+1], F): output density per source (V²/Hz), then |H|² of the input."""
+        z = adjoint_solutions(self.system, self.selector, frequency_Hz)  # (F, n)
+        gains = np.asarray(self.sources.injection.T @ z.T).T if len(self.sources) else np.zeros((z.shape[0], 0))
+        rows = (np.abs(gains) ** 2).T * self.sources.density(frequency_Hz)
+        if self.has_input:
+            rows = np.vstack([rows, np.abs(z @ self.input_vector)[None, :] ** 2])
+        return rows
+
+    def groups(self) -> list[slice]:
+        k = len(self.sources)
+        return [slice(0, k)] + ([slice(k, k + 1)] if self.has_input else [])
+
+    def poles_Hz(self) -> np.ndarray | None:
+        if self.system.size > EXACT_LIMIT:
+            return None
+        return finite_poles_Hz(self.system.G.toarray(), self.system.C.toarray())
+
+
+def _decade_floor(x: float) -> float:
+    return 10.0 ** math.floor(math.log10(x))
+
+
+def _decade_ceil(x: float) -> float:
+    return 10.0 ** math.ceil(math.log10(x))
+
+
+def _positive(poles):
+    return poles[poles > 0] if poles is not None else np.zeros(0)
+
+
+def analyze(
+    circuit: ck.Circuit,
+    *,
+    output: str | None = None,
+    reference: str | None = None,
+    input_source: str | None = None,
+    band: tuple[float, float] | None = None,
+    points_per_decade: float | None = None,
+    temperature_celsius: float | None = None,
+) -> NoiseResult:
+    """Output noise of ``circuit`` at v(output) - v(reference).
+
+    ``band`` is (low, high) in Hz, high may be ``math.inf``; ``temperature_celsius``
+    in °C.  Arguments left None come from the netlist's ``.noise``/``.temp``
+    cards, else defaults (0 Hz to infinity, 20 points/decade, 27 °C).
+    """
+    settings = _resolve(circuit, output, reference, input_source, band, points_per_decade, temperature_celsius)
+    problem = _Problem(circuit, settings)
+    notes = list(settings.notes)
+    low, high = settings.low, settings.high
+    k = len(problem.sources)
+    poles = _positive(problem.poles_Hz()) if (low == 0.0 or math.isinf(high)) else None
+
+    if math.isinf(high):
+        exact = _exact_totals(problem)
+        top = _decade_ceil(poles.max() * 1e3) if poles.size else 1e9
+        start = low if low > 0 else (_decade_floor(poles.min() / 100) if poles.size else top * 1e-9)
+        top = max(top, start * 1e3)
+        shown = integrate_band(
+            problem.densities, low, top, points_per_decade=settings.points_per_decade,
+            groups=problem.groups(), linear_below=start if low == 0.0 else None,
+        )
+        totals = exact
+        if low > 0.0:
+            below = integrate_band(
+                problem.densities, 0.0, low, points_per_decade=settings.points_per_decade,
+                groups=problem.groups(), linear_below=_linear_start(poles, low),
+            )
+            totals = exact - below.values
+        totals = np.maximum(totals, 0.0)
+        rel_error = shown.rel_error if low > 0 else 0.0
+        notes.append(f"spectrum shown up to {top:.3g} Hz; the total is exact to infinite bandwidth")
+    else:
+        shown = integrate_band(
+            problem.densities, low, high, points_per_decade=settings.points_per_decade,
+            groups=problem.groups(), linear_below=_linear_start(poles, high) if low == 0.0 else None,
+        )
+        totals = shown.values
+        rel_error = shown.rel_error
+    if rel_error > 1e-4:
+        notes.append(f"band integral converged only to about {rel_error:.1e} relative; raise --points")
+
+    source_variance = totals[:k]
+    gain = gain_integral = gain_peak = None
+    if problem.has_input:
+        gain = np.sqrt(shown.grid_density[k])
+        gain_peak = math.sqrt(shown.sample_max[k])  # every sample of `shown` lies in the band
+        gain_integral = float(totals[k]) if math.isfinite(totals[k]) else None
+        if gain_integral is None:
+            notes.append("the signal path has no roll-off: its noise bandwidth is unbounded")
+    _refuse_non_finite(source_variance, shown.grid_density[:k])
+    return NoiseResult(
+        title=circuit.title,
+        temperature_K=settings.temperature_K,
+        output_node=ck.name_key(settings.output),
+        reference_node=ck.name_key(settings.reference) if settings.reference not in ("gnd",) else ck.GROUND,
+        input_source=problem.system.circuit.element(settings.input_source).name if problem.has_input else None,
+        input_unit=problem.input_unit,
+        band_low_Hz=low,
+        band_high_Hz=high,
+        frequency_Hz=shown.grid_Hz,
+        source_names=tuple(s.element for s in problem.sources.sources),
+        source_mechanisms=tuple(s.mechanism for s in problem.sources.sources),
+        source_values=tuple(s.value for s in problem.sources.sources),
+        source_density=shown.grid_density[:k],
+        source_variance=source_variance,
+        cumulative_variance=shown.grid_cumulative[0],
+        gain=gain,
+        gain_squared_integral=gain_integral,
+        gain_peak=gain_peak,
+        integration_rel_error=rel_error,
+        notes=tuple(notes),
+    )
+
+
+def _linear_start(poles: np.ndarray | None, high: float) -> float:
+    """Where the log grid starts for a band from 0 Hz: well below the lowest pole."""
+    if poles is not None and poles.size:
+        return min(high / 10.0, _decade_floor(poles.min() / 100.0))
+    return high * 1e-4
+
+
+def _exact_totals(problem: _Problem) -> np.ndarray:
+    system = problem.system
+    if system.size > EXACT_LIMIT:
+        raise CircuitError(
+            f"the exact infinite-bandwidth total is computed for circuits of up to {EXACT_LIMIT} "
+            f"unknowns; this one has {system.size}. Give a finite band with --band LOW HIGH"
+        )
+    columns = problem.sources.injection.toarray()
+    density = np.asarray(problem.sources.white_density)
+    if problem.has_input:
+        columns = np.hstack([columns, problem.input_vector[:, None]])
+        density = np.append(density, 1.0)
+    totals = infinite_band_totals(system.G.toarray(), system.C.toarray(), problem.selector, columns, density)
+    k = len(problem.sources)
+    unbounded = [problem.sources.sources[i].element for i in np.flatnonzero(np.isinf(totals.variance[:k]))]
+    if unbounded:
+        shown = ", ".join(unbounded[:5]) + (f" and {len(unbounded) - 5} more" if len(unbounded) > 5 else "")
+        raise CircuitError(
+            "the output noise integrated to infinite bandwidth is unbounded: the white noise of "
+            f"{shown} reaches the output with no roll-off (nothing limits the bandwidth). "
+            "Give a finite band (--band LOW HIGH, or a .noise card), or add the capacitance "
+            "that limits the real circuit's bandwidth"
+        )
+    return totals.variance
+
+
+def _refuse_non_finite(variance: np.ndarray, density: np.ndarray) -> None:
+    if not (np.all(np.isfinite(variance)) and np.all(np.isfinite(density))):
+        raise CircuitError(
+            "the analysis produced non-finite noise values (overflow or a near-singular circuit); "
+            "check for extreme element values or a resonance without loss"
+        )
+
+
+def output_density_function(
+    circuit: ck.Circuit, *, output: str, reference: str = ck.GROUND, temperature_celsius: float = DEFAULT_TEMPERATURE_C
+):
+    """A function f (Hz, array) -> total output noise density (V²/Hz), for
+    users who integrate or plot it themselves."""
+    settings = _resolve(circuit, output, reference, None, (1.0, 2.0), 1, temperature_celsius)
+    problem = _Problem(circuit, settings)
+
+    def density(frequency_Hz):
+        return problem.densities(np.atleast_1d(np.asarray(frequency_Hz, dtype=float))).sum(axis=0)
+
+    return density

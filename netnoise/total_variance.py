@@ -1,0 +1,171 @@
+"""Exact noise power to infinite bandwidth, from the circuit's state space.
+
+The MNA equations ``(G + sC) x = B w`` are the descriptor system
+``E x' = A x + B w`` with ``E = C``, ``A = -G``.  For white inputs of
+one-sided density ``S_k`` (two-sided intensity ``S_k / 2``) the output
+``y = cᵀx`` has finite variance only if no source reaches the output
+without roll-off.  Then
+
+    var_k = (S_k / 2) · b_kᵀ W b_k,    Aᵀ W + W A + c cᵀ = 0
+
+on the finite (dynamic) part of the pencil, with W the observability
+Gramian: one Lyapunov solve gives every source's share.
+
+Steps: scale (time by s0 = ‖G‖/‖C‖, rows and columns to unit size); QZ with
+the finite eigenvalues ordered first (``scipy.linalg.ordqz``, a callable
+sort: the built-in ones place infinite eigenvalues in neither half); a
+generalized Sylvester equation (LAPACK ``dtgsyl``) decouples the finite and
+infinite blocks; the infinite block must contribute nothing (otherwise the
+variance is infinite); a Lyapunov solve (``solve_continuous_lyapunov``) on
+the finite block.
+"""
+
+from __future__ import annotations
+
+import math
+from dataclasses import dataclass
+
+import numpy as np
+import scipy.linalg as la
+from scipy.linalg import lapack
+
+from .errors import CircuitError
+
+__all__ = ["InfiniteBandTotals", "infinite_band_totals", "EXACT_LIMIT", "finite_poles_Hz"]
+
+EXACT_LIMIT = 1500  # unknowns; dense QZ costs O(n³)
+_INFINITE_RATIO = 1e11  # |alpha/beta| beyond this (after scaling) is an infinite eigenvalue
+
+
+@dataclass(frozen=True, eq=False)
+class InfiniteBandTotals:
+    """``variance`` (K,): ∫0^∞ |H_k|² S_k df per input column; ``poles_Hz``:
+    the magnitudes of the finite poles, Hz."""
+
+    variance: np.ndarray
+    poles_Hz: np.ndarray
+
+
+@dataclass(frozen=True, eq=False)
+class _Scaled:
+    a: np.ndarray
+    e: np.ndarray
+    c: np.ndarray
+    b: np.ndarray
+    s0: float  # rad/s per unit of scaled frequency
+
+
+def _scale(G: np.ndarray, C: np.ndarray, c: np.ndarray, B: np.ndarray) -> _Scaled:
+    norm_g = np.abs(G).sum(axis=0).max() if G.size else 0.0
+    norm_c = np.abs(C).sum(axis=0).max() if C.size else 0.0
+    s0 = norm_g / norm_c if norm_c > 0 and norm_g > 0 else 1.0
+    m = np.abs(G) + s0 * np.abs(C)
+    dr = np.ones(G.shape[0])
+    dc = np.ones(G.shape[0])
+    for _ in range(3):  # a few passes of max-norm equilibration
+        row = (m * dc[None, :] * dr[:, None]).max(axis=1)
+        dr = dr / np.where(row > 0, np.sqrt(row), 1.0)
+        col = (m * dc[None, :] * dr[:, None]).max(axis=0)
+        dc = dc / np.where(col > 0, np.sqrt(col), 1.0)
+    a = -(dr[:, None] * G * dc[None, :])
+    e = s0 * (dr[:, None] * C * dc[None, :])
+    return _Scaled(a=a, e=e, c=dc * c, b=dr[:, None] * B, s0=s0)
+
+
+def _finite_first(alpha, beta):
+    return np.abs(beta) * _INFINITE_RATIO > np.abs(alpha)
+
+
+def finite_poles_Hz(G: np.ndarray, C: np.ndarray) -> np.ndarray:
+    """Magnitudes |p|/2π (Hz) of the finite poles of ``det(G + sC) = 0``."""
+    n = G.shape[0]
+    sc = _scale(G, C, np.zeros(n), np.zeros((n, 0)))
+    w = la.eigvals(sc.a, sc.e, homogeneous_eigvals=True)
+    alpha, beta = w[0], w[1]
+    finite = _finite_first(alpha, beta)
+    return np.abs(alpha[finite] / beta[finite]) * sc.s0 / (2 * math.pi)
+
+
+def infinite_band_totals(
+    G: np.ndarray, C: np.ndarray, c: np.ndarray, B: np.ndarray, density: np.ndarray
+) -> InfiniteBandTotals:
+    """∫0^∞ |cᵀ(G + j2πfC)⁻¹ b_k|² S_k df for every column b_k of ``B``.
+
+    ``density`` (K,) are one-sided white densities S_k.  A column whose white
+    input reaches the output without roll-off gets ``inf``; CircuitError for
+    a pole on or right of the imaginary axis.
+    """
+    n = G.shape[0]
+    sc = _scale(np.asarray(G, float), np.asarray(C, float), np.asarray(c, float), np.asarray(B, float))
+    aa, ee, alpha, beta, q, z = la.ordqz(sc.a, sc.e, sort=_finite_first, output="real")
+    nf = int(np.count_nonzero(_finite_first(alpha, beta)))
+    bt = q.T @ sc.b
+    ct = z.T @ sc.c
+    b1, b2 = bt[:nf], bt[nf:]
+    c1, c2 = ct[:nf], ct[nf:]
+    if 0 < nf < n:
+        # [[I, L],[0, I]] (AA, EE) [[I, R],[0, I]] block diagonal:
+        # A11 R - L' A22 = -A12, E11 R - L' E22 = -E12 with L = -L'
+        r, l_neg, scale, _, info = lapack.dtgsyl(
+            aa[:nf, :nf], aa[nf:, nf:], -aa[:nf, nf:], ee[:nf, :nf], ee[nf:, nf:], -ee[:nf, nf:]
+        )
+        if info < 0 or scale == 0:
+            raise CircuitError("internal error: could not separate the circuit's finite and infinite modes")
+        r, l_neg = r / scale, l_neg / scale
+        b1 = b1 - l_neg @ b2
+        c2 = c2 + r.T @ c1
+    sk = np.asarray(density, float)
+    unbounded = _direct_paths(aa[nf:, nf:], ee[nf:, nf:], c2, b2, np.linalg.norm(sc.c)) & (sk > 0)
+
+    variance = np.zeros(B.shape[1])
+    poles = np.zeros(0)
+    if nf:
+        e11, a11 = ee[:nf, :nf], aa[:nf, :nf]
+        af = la.solve_triangular(e11, a11)  # E11 is upper triangular in the real QZ form
+        bf = la.solve_triangular(e11, b1)
+        lam = np.linalg.eigvals(af)
+        poles = np.abs(lam) * sc.s0 / (2 * math.pi)
+        _refuse_unstable(lam, sc.s0)
+        w = la.solve_continuous_lyapunov(af.T, -np.outer(c1, c1))
+        w = 0.5 * (w + w.T)
+        variance = sc.s0 * 0.5 * sk * np.einsum("ik,ij,jk->k", bf, w, bf)
+        variance = np.maximum(variance, 0.0)
+    variance[unbounded] = np.inf
+    return InfiniteBandTotals(variance=variance, poles_Hz=poles)
+
+
+def _direct_paths(a22, e22, c2, b2, c_norm) -> np.ndarray:
+    """(K,) True where the infinite block's transfer -Σ s^k c2ᵀ N^k A22⁻¹ b_k
+    does not vanish, i.e. white input reaches the output unfiltered."""
+    m = a22.shape[0]
+    if m == 0:
+        return np.zeros(b2.shape[1], dtype=bool)
+    row = np.linalg.solve(a22.T, c2)  # c2ᵀ A22⁻¹ as a column
+    nil = np.linalg.solve(a22, e22)  # N = A22⁻¹ E22, nilpotent
+    a22_inv_norm = np.linalg.norm(np.linalg.inv(a22), 2)
+    reach = np.zeros(b2.shape[1])
+    coefficient = row
+    for _ in range(m):
+        reach = np.maximum(reach, np.abs(coefficient @ b2))
+        coefficient = nil.T @ coefficient
+        if not np.any(np.abs(coefficient) > 1e-14 * np.abs(row).max(initial=1e-300)):
+            break
+    threshold = 1e-9 * c_norm * a22_inv_norm * np.linalg.norm(b2, axis=0)
+    return reach > threshold
+
+
+def _refuse_unstable(lam: np.ndarray, s0: float) -> None:
+    scale = np.abs(lam).max(initial=0.0)
+    bad = lam.real >= -1e-10 * max(scale, 1e-300)
+    if not np.any(bad):
+        return
+    worst = lam[bad][np.argmax(lam[bad].real)]
+    f = abs(worst) * s0 / (2 * math.pi)
+    if worst.real > 1e-6 * max(scale, 1e-300):
+        kind = "the circuit is unstable (a pole in the right half-plane)"
+    else:
+        kind = "the circuit has a lossless mode (a pole on the imaginary axis)"
+    raise CircuitError(
+        f"{kind} near {f:.4g} Hz, so its noise to infinite bandwidth is not defined; "
+        "add the loss the real circuit has, or integrate over a finite band"
+    )

@@ -1,0 +1,81 @@
+"""Small circuits built directly as netnoise.circuit objects (no parser),
+so the engine tests do not depend on the netlist front end."""
+
+from __future__ import annotations
+
+from netnoise.circuit import (
+    Capacitor,
+    Circuit,
+    CurrentControlledCurrentSource,
+    CurrentControlledVoltageSource,
+    CurrentSource,
+    Inductor,
+    Resistor,
+    VoltageControlledVoltageSource,
+    VoltageSource,
+)
+
+
+def circuit(*elements, title="test circuit"):
+    return Circuit(title=title, elements=tuple(elements))
+
+
+def R(name, a, b, value):
+    return Resistor(name=name, nodes=(a, b), resistance=value)
+
+
+def C(name, a, b, value):
+    return Capacitor(name=name, nodes=(a, b), capacitance=value)
+
+
+def L(name, a, b, value):
+    return Inductor(name=name, nodes=(a, b), inductance=value)
+
+
+def V(name, a, b, ac=1.0):
+    return VoltageSource(name=name, nodes=(a, b), ac_magnitude=ac)
+
+
+def I(name, a, b, ac=1.0):
+    return CurrentSource(name=name, nodes=(a, b), ac_magnitude=ac)
+
+
+def E(name, a, b, ca, cb, gain):
+    return VoltageControlledVoltageSource(name=name, nodes=(a, b), control_nodes=(ca, cb), gain=gain)
+
+
+def F(name, a, b, control, gain):
+    return CurrentControlledCurrentSource(name=name, nodes=(a, b), control_source=control, gain=gain)
+
+
+def H(name, a, b, control, r):
+    return CurrentControlledVoltageSource(name=name, nodes=(a, b), control_source=control, transresistance=r)
+
+
+def butterworth_ladder(order: int, r0: float, f3db: float):
+    """Doubly terminated LC Butterworth low-pass ending in a shunt C.
+
+    Odd orders start with a shunt C, even orders with a series L, so the
+    load's own noise is filtered too (an even order ending in a series L
+    would pass RL's white noise unfiltered: unbounded to infinite bandwidth).
+
+    Prototype values g_k = 2 sin((2k-1)π/2n) (Williams & Taylor, Electronic
+    Filter Design Handbook; the standard closed form), de-normalised to the
+    termination r0 (ohms) and corner f3db (Hz).  Input source Vin with
+    series Rs, output across RL at node 'n{order}'.
+    """
+    import math
+
+    w = 2 * math.pi * f3db
+    parts = [V("Vin", "src", "0"), R("Rs", "src", "n0", r0)]
+    node = "n0"
+    for k in range(1, order + 1):
+        g = 2 * math.sin((2 * k - 1) * math.pi / (2 * order))
+        if (k + order) % 2 == 0:  # shunt capacitor at the current node
+            parts.append(C(f"C{k}", node, "0", g / (r0 * w)))
+        else:  # series inductor to a new node
+            nxt = f"n{k}"
+            parts.append(L(f"L{k}", node, nxt, g * r0 / w))
+            node = nxt
+    parts.append(R("RL", node, "0", r0))
+    return circuit(*parts, title=f"Butterworth n={order}"), node
