@@ -101,6 +101,7 @@ def result_to_dict(result: NoiseResult) -> dict[str, Any]:
 
     Raises :class:`CircuitError` if any number in it is NaN or infinite.
     """
+    _check_stored_arrays(result)
     referred = result.input_referred_rms
     spectrum: dict[str, Any] = {
         "frequency_Hz": _floats(result.frequency_Hz),
@@ -146,6 +147,24 @@ def result_to_dict(result: NoiseResult) -> dict[str, Any]:
     return data
 
 
+def _check_stored_arrays(result: NoiseResult) -> None:
+    """Refuse non-finite stored numbers before deriving anything from them."""
+    arrays = {
+        "frequency_Hz": result.frequency_Hz,
+        "source_density": result.source_density,
+        "source_variance": result.source_variance,
+        "cumulative_variance": result.cumulative_variance,
+    }
+    if result.gain is not None:
+        arrays["gain"] = result.gain
+    for name, array in arrays.items():
+        if not np.all(np.isfinite(array)):
+            raise CircuitError(
+                f"cannot export: the result's {name} holds NaN or infinite values; "
+                "JSON and CSV hold finite numbers only"
+            )
+
+
 def _check_finite(value: Any, where: str) -> None:
     if isinstance(value, float):
         if not math.isfinite(value):
@@ -184,6 +203,7 @@ def csv_header(result: NoiseResult) -> list[str]:
 
 
 def _csv_columns(result: NoiseResult) -> np.ndarray:
+    _check_stored_arrays(result)
     order = np.argsort(-result.source_variance, kind="stable")  # the ranking of result.contributions
     columns = [result.frequency_Hz, result.output_density_rt]
     columns += [_amplitude(result.source_density[k]) for k in order]
