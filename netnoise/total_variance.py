@@ -156,7 +156,7 @@ def _direct_paths(a22, e22, c2, b2, c_norm) -> np.ndarray:
 
 def _refuse_unstable(lam: np.ndarray, s0: float) -> None:
     scale = np.abs(lam).max(initial=0.0)
-    bad = lam.real >= -1e-10 * max(scale, 1e-300)
+    bad = lam.real >= -1e-13 * max(scale, 1e-300)
     if not np.any(bad):
         return
     worst = lam[bad][np.argmax(lam[bad].real)]
