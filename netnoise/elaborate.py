@@ -1,0 +1,573 @@
+"""Statements -> a flat :class:`~netnoise.circuit.Circuit`.
+
+What happens here, in order:
+
+1. ``.include`` cards are replaced by the statements of the file they name
+   (relative to the including file; cycles and nesting deeper than
+   :data:`MAX_INCLUDE_DEPTH` are refused).
+2. ``.subckt`` ... ``.ends`` blocks become definitions.  Definitions may nest;
+   a nested one is visible only inside its parent.
+3. The top level is expanded: its ``.param`` cards are evaluated in order
+   (each may use the ones before it), then every element line becomes an
+   element.  An ``X`` line expands its subcircuit in a new scope: the
+   instance's ``name=value`` overrides (evaluated where the ``X`` line is),
+   else the ``.subckt`` defaults, then the body's own ``.param`` cards.
+   Parameters are looked up in the instance scope, then the scope the
+   subcircuit was defined in, out to the global ``.param`` values.
+
+Naming: element ``R2`` inside instance ``X1`` is ``X1.R2``; internal node
+``mid`` is ``x1.mid``; pins stand for the outer nodes they are connected to;
+``0`` (alias ``gnd``) is the one global node.  ``F``/``H`` controlling
+sources and ``K`` inductors are names in the scope where the line is.
+"""
+
+from __future__ import annotations
+
+import dataclasses
+import difflib
+import math
+from dataclasses import dataclass, field
+from pathlib import Path
+
+from . import circuit as c
+from .errors import NetlistError, SourceLocation
+from .expressions import CONSTANTS, evaluate
+from .parser import (
+    AcCard,
+    Assignment,
+    Coupling,
+    CurrentControlled,
+    EndsCard,
+    IncludeCard,
+    IndependentSource,
+    Instance,
+    NoiseCard,
+    OptionsCard,
+    ParamCard,
+    ParsedFile,
+    Passive,
+    Statement,
+    SubcktCard,
+    Sweep,
+    TempCard,
+    Value,
+    VoltageControlled,
+    Word,
+    parse_statements,
+    read_netlist_text,
+)
+from .values import milli_slip_notice
+
+__all__ = ["MAX_INCLUDE_DEPTH", "GROUND_ALIASES", "elaborate"]
+
+MAX_INCLUDE_DEPTH = 16
+GROUND_ALIASES = frozenset({"0", "gnd"})
+_TOP_LEVEL_ONLY = (TempCard, AcCard, NoiseCard, OptionsCard)
+_CARD_NAMES = {TempCard: ".temp", AcCard: ".ac", NoiseCard: ".noise", OptionsCard: ".options"}
+ABSOLUTE_ZERO_CELSIUS = -273.15
+
+
+def _fail(message: str, location: SourceLocation | None, hint: str = "") -> NetlistError:
+    return NetlistError(message, location, hint)
+
+
+def _where(location: SourceLocation) -> str:
+    return f"{location.file}:{location.line}"
+
+
+# --------------------------------------------------------------------------
+# 1. includes
+
+
+def _expand_includes(
+    parsed: ParsedFile, directory: Path, chain: tuple[Path, ...]
+) -> list[Statement]:
+    out: list[Statement] = []
+    for statement in parsed.statements:
+        if not isinstance(statement, IncludeCard):
+            out.append(statement)
+            continue
+        target = (directory / statement.path).resolve()
+        if target in chain:
+            names = " -> ".join(p.name for p in (*chain[chain.index(target) :], target))
+            raise _fail(f"'.include {statement.path}' makes a cycle: {names}", statement.loc)
+        if len(chain) >= MAX_INCLUDE_DEPTH:
+            raise _fail(
+                f"includes are nested more than {MAX_INCLUDE_DEPTH} deep",
+                statement.loc,
+                "an included file includes another, and so on; is there a loop through copies?",
+            )
+        if not target.is_file():
+            raise _fail(
+                f"cannot find the included file '{statement.path}'",
+                statement.loc,
+                f"looked for {target}",
+            )
+        text = read_netlist_text(target, statement.loc)
+        included = parse_statements(text, str(target), has_title=False)
+        out.extend(_expand_includes(included, target.parent, (*chain, target)))
+    return out
+
+
+# --------------------------------------------------------------------------
+# 2. definitions
+
+
+@dataclass
+class _Definition:
+    name: str  # as written; '' for the top level
+    pins: tuple[Word, ...]
+    defaults: tuple[Assignment, ...]
+    loc: SourceLocation | None
+    parent: "_Definition | None"
+    body: list[Statement] = field(default_factory=list)
+    children: dict[str, "_Definition"] = field(default_factory=dict)
+
+    def find(self, key: str) -> "_Definition | None":
+        scope: _Definition | None = self
+        while scope is not None:
+            if key in scope.children:
+                return scope.children[key]
+            scope = scope.parent
+        return None
+
+    def visible_names(self) -> list[str]:
+        names: list[str] = []
+        scope: _Definition | None = self
+        while scope is not None:
+            names.extend(d.name for d in scope.children.values())
+            scope = scope.parent
+        return names
+
+
+def _build_definitions(statements: list[Statement]) -> _Definition:
+    top = _Definition("", (), (), None, None)
+    current = top
+    for statement in statements:
+        if isinstance(statement, SubcktCard):
+            key = statement.name.text.lower()
+            if key in current.children:
+                first = current.children[key].loc
+                raise _fail(
+                    f"subcircuit '{statement.name.text}' is defined twice",
+                    statement.name.loc,
+                    f"the first definition is at {_where(first)}" if first else "",
+                )
+            _check_pins(statement)
+            definition = _Definition(statement.name.text, statement.pins, statement.defaults, statement.loc, current)
+            current.children[key] = definition
+            current = definition
+        elif isinstance(statement, EndsCard):
+            if current is top:
+                raise _fail("'.ends' without a .subckt to close", statement.loc)
+            if statement.name is not None and statement.name.text.lower() != current.name.lower():
+                raise _fail(
+                    f"'.ends {statement.name.text}' does not match the open '.subckt {current.name}'",
+                    statement.name.loc,
+                    f"close '{current.name}' first (it starts at {_where(current.loc)})",
+                )
+            current = current.parent  # type: ignore[assignment]
+        else:
+            if current is not top and isinstance(statement, _TOP_LEVEL_ONLY):
+                raise _fail(
+                    f"'{_CARD_NAMES[type(statement)]}' belongs at the top level, not inside .subckt {current.name}",
+                    statement.loc,
+                )
+            current.body.append(statement)
+    if current is not top:
+        raise _fail(
+            f"'.subckt {current.name}' is never closed",
+            current.loc,
+            f"add '.ends {current.name}' after its last line",
+        )
+    return top
+
+
+def _check_pins(statement: SubcktCard) -> None:
+    seen: dict[str, Word] = {}
+    for pin in statement.pins:
+        key = pin.text.lower()
+        if key in GROUND_ALIASES:
+            raise _fail(
+                f"ground ('{pin.text}') cannot be a pin of .subckt {statement.name.text}",
+                pin.loc,
+                "ground is shared by every subcircuit already",
+            )
+        if key in seen:
+            raise _fail(f"pin '{pin.text}' appears twice on .subckt {statement.name.text}", pin.loc)
+        seen[key] = pin
+    names = {a.name.lower() for a in statement.defaults}
+    if len(names) != len(statement.defaults):
+        for index, assignment in enumerate(statement.defaults):
+            if assignment.name.lower() in {a.name.lower() for a in statement.defaults[:index]}:
+                raise _fail(f"parameter '{assignment.name}' is declared twice", assignment.loc)
+
+
+# --------------------------------------------------------------------------
+# 3. expansion
+
+
+@dataclass
+class _Scope:
+    definition: _Definition
+    parent: "_Scope | None"  # the scope the definition was written in
+    element_prefix: str  # 'X1.X2.' ('' at the top)
+    node_prefix: str  # 'x1.x2.'
+    pin_map: dict[str, str]
+    params: dict[str, float] = field(default_factory=dict)
+    param_origin: dict[str, SourceLocation] = field(default_factory=dict)
+
+    def visible(self) -> dict[str, float]:
+        chain: list[_Scope] = []
+        scope: _Scope | None = self
+        while scope is not None:
+            chain.append(scope)
+            scope = scope.parent
+        merged: dict[str, float] = {}
+        for scope in reversed(chain):
+            merged.update(scope.params)
+        return merged
+
+    def node(self, word: Word) -> str:
+        key = word.text.lower()
+        if key in GROUND_ALIASES:
+            return c.GROUND
+        if key in self.pin_map:
+            return self.pin_map[key]
+        return self.node_prefix + key
+
+
+@dataclass
+class _Pending:
+    """A name (F/H control source, K inductor) to check once all elements exist."""
+
+    index: int  # into the element list
+    word: Word
+    full_name: str
+    wanted: type
+    what: str
+    slot: str  # 'control_source' or 'inductors0' / 'inductors1'
+    owner: str
+
+
+class _Elaborator:
+    def __init__(self, notices: list[str]) -> None:
+        self.elements: list[c.Element] = []
+        self.by_key: dict[str, tuple[c.Element, SourceLocation]] = {}
+        self.pending: list[_Pending] = []
+        self.notices = notices
+        self.active: list[_Definition] = []  # instantiation stack, for recursion
+
+    # ---- values
+    def number(self, value: Value, scope: _Scope) -> float:
+        if value.number is not None:
+            result = value.number
+        else:
+            assert value.tree is not None and value.source is not None
+            result = evaluate(value.tree, scope.visible(), value.source.location)
+        if not math.isfinite(result):
+            raise _fail("the value is not a finite number", value.loc)
+        return result
+
+    def define_params(self, assignments: tuple[Assignment, ...], scope: _Scope, where: _Scope) -> None:
+        """Set each assignment in ``scope``, evaluating it in ``where``."""
+        for assignment in assignments:
+            key = assignment.name.lower()
+            if key in CONSTANTS:
+                raise _fail(f"'{assignment.name}' is a built-in constant and cannot be redefined", assignment.loc)
+            if key in scope.param_origin:
+                raise _fail(
+                    f"parameter '{assignment.name}' is already defined in this scope",
+                    assignment.loc,
+                    f"the first definition is at {_where(scope.param_origin[key])}",
+                )
+            scope.params[key] = self.number(assignment.value, where)
+            scope.param_origin[key] = assignment.loc
+
+    # ---- elements
+    def add(self, element: c.Element, loc: SourceLocation) -> int:
+        key = c.name_key(element.name)
+        if key in self.by_key:
+            first = self.by_key[key][1]
+            raise _fail(
+                f"duplicate element name '{element.name}'",
+                loc,
+                f"the first '{self.by_key[key][0].name}' is at {_where(first)}",
+            )
+        self.by_key[key] = (element, loc)
+        self.elements.append(element)
+        return len(self.elements) - 1
+
+    def expand(self, scope: _Scope) -> None:
+        body = scope.definition.body
+        for statement in body:
+            if isinstance(statement, ParamCard):
+                self.define_params(statement.assignments, scope, scope)
+        for statement in body:
+            if isinstance(statement, Instance):
+                self.instance(statement, scope)
+            elif not isinstance(statement, (ParamCard, *_TOP_LEVEL_ONLY)):
+                self.element(statement, scope)
+
+    def element(self, statement: Statement, scope: _Scope) -> None:
+        name = scope.element_prefix + statement.name  # type: ignore[union-attr]
+        loc = statement.loc
+        if isinstance(statement, Passive):
+            nodes = (scope.node(statement.nodes[0]), scope.node(statement.nodes[1]))
+            value = self.number(statement.value, scope)
+            if statement.letter == "R":
+                notice = milli_slip_notice(name, statement.value.text, value) if statement.value.number is not None else None
+                if notice:
+                    self.notices.append(f"{_where(statement.value.loc)}: {notice}")
+                self.add(c.Resistor(name, nodes, loc, resistance=value), loc)
+            elif statement.letter == "C":
+                self.add(c.Capacitor(name, nodes, loc, capacitance=value), loc)
+            else:
+                self.add(c.Inductor(name, nodes, loc, inductance=value), loc)
+        elif isinstance(statement, Coupling):
+            k = self.number(statement.value, scope)
+            if not 0 < abs(k) <= 1:
+                raise _fail(
+                    f"the coupling coefficient of {name} must satisfy 0 < |k| <= 1, not {k:g}",
+                    statement.value.loc,
+                )
+            first, second = (scope.element_prefix + w.text for w in statement.inductors)
+            index = self.add(c.MutualCoupling(name, (first, second), k, loc), loc)
+            for slot, word, full in (("inductors0", statement.inductors[0], first), ("inductors1", statement.inductors[1], second)):
+                self.pending.append(_Pending(index, word, full, c.Inductor, "inductor", slot, name))
+        elif isinstance(statement, IndependentSource):
+            nodes = (scope.node(statement.nodes[0]), scope.node(statement.nodes[1]))
+            dc = self.number(statement.dc, scope) if statement.dc else 0.0
+            magnitude = 0.0
+            if statement.has_ac:
+                magnitude = self.number(statement.ac_magnitude, scope) if statement.ac_magnitude else 1.0
+            phase = self.number(statement.ac_phase, scope) if statement.ac_phase else 0.0
+            if statement.waveform:
+                self.notices.append(
+                    f"{_where(loc)}: {name}: the {statement.waveform}(...) waveform is ignored; "
+                    "noise analysis works on the small-signal circuit"
+                )
+            kind = c.VoltageSource if statement.letter == "V" else c.CurrentSource
+            self.add(kind(name, nodes, loc, dc=dc, ac_magnitude=magnitude, ac_phase=phase), loc)
+        elif isinstance(statement, VoltageControlled):
+            nodes = (scope.node(statement.nodes[0]), scope.node(statement.nodes[1]))
+            control = (scope.node(statement.control_nodes[0]), scope.node(statement.control_nodes[1]))
+            gain = self.number(statement.gain, scope)
+            if statement.letter == "E":
+                self.add(c.VoltageControlledVoltageSource(name, nodes, loc, control_nodes=control, gain=gain), loc)
+            else:
+                self.add(
+                    c.VoltageControlledCurrentSource(name, nodes, loc, control_nodes=control, transconductance=gain),
+                    loc,
+                )
+        elif isinstance(statement, CurrentControlled):
+            nodes = (scope.node(statement.nodes[0]), scope.node(statement.nodes[1]))
+            gain = self.number(statement.gain, scope)
+            control = scope.element_prefix + statement.control.text
+            if statement.letter == "F":
+                element: c.Element = c.CurrentControlledCurrentSource(
+                    name, nodes, loc, control_source=control, gain=gain
+                )
+            else:
+                element = c.CurrentControlledVoltageSource(name, nodes, loc, control_source=control, transresistance=gain)
+            index = self.add(element, loc)
+            self.pending.append(
+                _Pending(index, statement.control, control, c.VoltageSource, "voltage source", "control_source", name)
+            )
+
+    def instance(self, statement: Instance, scope: _Scope) -> None:
+        key = statement.subckt.text.lower()
+        definition = scope.definition.find(key)
+        if definition is None:
+            close = difflib.get_close_matches(key, [n.lower() for n in scope.definition.visible_names()], n=3)
+            hint = "did you mean " + " or ".join(f"'{n}'" for n in close) + "?" if close else ""
+            if not hint and scope.definition.visible_names():
+                hint = "defined here: " + ", ".join(sorted(scope.definition.visible_names()))
+            raise _fail(f"{statement.name}: no subcircuit called '{statement.subckt.text}'", statement.subckt.loc, hint)
+        if definition in self.active:
+            cycle = " -> ".join(d.name for d in (*self.active[self.active.index(definition) :], definition))
+            raise _fail(f"{statement.name}: subcircuit '{definition.name}' instantiates itself ({cycle})", statement.loc)
+        if len(statement.nodes) != len(definition.pins):
+            pins = " ".join(p.text for p in definition.pins) or "none"
+            raise _fail(
+                f"{statement.name} connects {len(statement.nodes)} node(s) but subcircuit "
+                f"'{definition.name}' has {len(definition.pins)} pin(s) ({pins})",
+                statement.loc,
+                f"'{definition.name}' is defined at {_where(definition.loc)}",
+            )
+        # the enclosing scope of the definition: lexical, found on our chain
+        parent: _Scope | None = scope
+        while parent is not None and parent.definition is not definition.parent:
+            parent = parent.parent
+        name = scope.element_prefix + statement.name
+        inner = _Scope(
+            definition,
+            parent,
+            name + ".",
+            name.lower() + ".",
+            {pin.text.lower(): scope.node(node) for pin, node in zip(definition.pins, statement.nodes)},
+        )
+        declared = {a.name.lower(): a for a in definition.defaults}
+        overrides: dict[str, Assignment] = {}
+        for assignment in statement.overrides:
+            okey = assignment.name.lower()
+            if okey not in declared:
+                known = ", ".join(a.name for a in definition.defaults) or "none"
+                raise _fail(
+                    f"subcircuit '{definition.name}' has no parameter '{assignment.name}'",
+                    assignment.loc,
+                    f"its parameters: {known}",
+                )
+            if okey in overrides:
+                raise _fail(f"parameter '{assignment.name}' is given twice on {statement.name}", assignment.loc)
+            overrides[okey] = assignment
+        for default in definition.defaults:
+            okey = default.name.lower()
+            if okey in overrides:
+                inner.params[okey] = self.number(overrides[okey].value, scope)
+            else:
+                inner.params[okey] = self.number(default.value, inner)
+            inner.param_origin[okey] = default.loc
+        self.active.append(definition)
+        self.expand(inner)
+        self.active.pop()
+
+    # ---- references
+    def resolve(self) -> None:
+        for item in self.pending:
+            found = self.by_key.get(c.name_key(item.full_name))
+            if found is None or not isinstance(found[0], item.wanted):
+                candidates = [
+                    e.name for e, _ in self.by_key.values() if isinstance(e, item.wanted)
+                ]
+                close = difflib.get_close_matches(item.full_name, candidates, n=3)
+                hint = "did you mean " + " or ".join(f"'{n}'" for n in close) + "?" if close else ""
+                what = "is not a" if found is not None else "names no"
+                raise _fail(
+                    f"{item.owner}: '{item.word.text}' {what} {item.what} in this scope",
+                    item.word.loc,
+                    hint,
+                )
+            target = found[0].name
+            element = self.elements[item.index]
+            if item.slot == "control_source":
+                element = dataclasses.replace(element, control_source=target)  # type: ignore[arg-type]
+            else:
+                pair = list(element.inductors)  # type: ignore[union-attr]
+                pair[int(item.slot[-1])] = target
+                element = dataclasses.replace(element, inductors=tuple(pair))  # type: ignore[arg-type]
+            self.elements[item.index] = element
+            self.by_key[c.name_key(element.name)] = (element, self.by_key[c.name_key(element.name)][1])
+
+
+# --------------------------------------------------------------------------
+# analysis cards
+
+
+def _one(statements: list[Statement], kind: type) -> Statement | None:
+    found = [s for s in statements if isinstance(s, kind)]
+    if len(found) > 1:
+        raise _fail(
+            f"a second '{_CARD_NAMES[kind]}' card",
+            found[1].loc,
+            f"the first is at {_where(found[0].loc)}; keep one",
+        )
+    return found[0] if found else None
+
+
+def _sweep(sweep: Sweep, engine: _Elaborator, scope: _Scope) -> c.Sweep:
+    points = engine.number(sweep.points, scope)
+    if points < 1 or not float(points).is_integer():
+        raise _fail(f"the number of points must be a whole number of at least 1, not {points:g}", sweep.points.loc)
+    start = engine.number(sweep.start, scope)
+    stop = engine.number(sweep.stop, scope)
+    if sweep.kind in ("dec", "oct") and start <= 0:
+        raise _fail(f"a {sweep.kind} sweep needs a start frequency above 0 Hz, not {start:g}", sweep.start.loc)
+    if start < 0:
+        raise _fail(f"the start frequency cannot be negative ({start:g})", sweep.start.loc)
+    if stop < start:
+        raise _fail(f"the stop frequency ({stop:g} Hz) is below the start frequency ({start:g} Hz)", sweep.stop.loc)
+    return c.Sweep(sweep.kind, int(points), start, stop)
+
+
+def _node_check(word: Word, nodes: set[str], what: str) -> str:
+    key = word.text.lower()
+    if key in GROUND_ALIASES:
+        return c.GROUND
+    if key not in nodes:
+        close = difflib.get_close_matches(key, sorted(nodes), n=3)
+        hint = "did you mean " + " or ".join(f"'{n}'" for n in close) + "?" if close else ""
+        raise _fail(f"the {what} node '{word.text}' is not connected to any element", word.loc, hint)
+    return key
+
+
+def _noise_card(card: NoiseCard, engine: _Elaborator, scope: _Scope, nodes: set[str]) -> c.NoiseCard:
+    output = _node_check(card.output, nodes, ".noise output")
+    if output == c.GROUND:
+        raise _fail("the .noise output cannot be ground", card.output.loc)
+    reference = _node_check(card.reference, nodes, ".noise reference") if card.reference else c.GROUND
+    if reference == output:
+        raise _fail("the .noise output and reference are the same node", card.reference.loc)  # type: ignore[union-attr]
+    source_name = None
+    if card.source is not None:
+        found = engine.by_key.get(c.name_key(card.source.text))
+        if found is None or not isinstance(found[0], (c.VoltageSource, c.CurrentSource)):
+            sources = [e.name for e, _ in engine.by_key.values() if isinstance(e, (c.VoltageSource, c.CurrentSource))]
+            close = difflib.get_close_matches(card.source.text, sources, n=3)
+            hint = "did you mean " + " or ".join(f"'{n}'" for n in close) + "?" if close else ""
+            raise _fail(
+                f"the .noise input '{card.source.text}' is not a voltage or current source of this circuit",
+                card.source.loc,
+                hint,
+            )
+        source_name = found[0].name
+    sweep = _sweep(card.sweep, engine, scope) if card.sweep else None
+    return c.NoiseCard(output, reference, source_name, sweep, card.loc)
+
+
+# --------------------------------------------------------------------------
+# the entry point
+
+
+def elaborate(parsed: ParsedFile, base_dir: Path, source_file: str = "<text>", own_path: Path | None = None) -> c.Circuit:
+    """The flat circuit described by ``parsed`` (a top-level file).
+
+    ``base_dir`` is where its ``.include`` paths start; ``own_path`` (if the
+    text came from a file) lets an include cycle back to it be caught.
+    """
+    chain = (own_path.resolve(),) if own_path is not None else ()
+    statements = _expand_includes(parsed, base_dir, chain)
+    top = _build_definitions(statements)
+    notices: list[str] = []
+    engine = _Elaborator(notices)
+    scope = _Scope(top, None, "", "", {})
+    engine.expand(scope)
+    engine.resolve()
+
+    temperature = None
+    temp_card = _one(top.body, TempCard)
+    if temp_card is not None:
+        temperature = engine.number(temp_card.value, scope)  # type: ignore[union-attr]
+        if temperature <= ABSOLUTE_ZERO_CELSIUS:
+            raise _fail(
+                f"{temperature:g} °C is at or below absolute zero (-273.15 °C)",
+                temp_card.value.loc,  # type: ignore[union-attr]
+            )
+    ac_card = _one(top.body, AcCard)
+    ac_sweep = _sweep(ac_card.sweep, engine, scope) if ac_card is not None else None  # type: ignore[union-attr]
+    circuit_nodes = {n for e in engine.elements for n in (*getattr(e, "nodes", ()), *getattr(e, "control_nodes", ()))}
+    noise = _one(top.body, NoiseCard)
+    noise_card = _noise_card(noise, engine, scope, circuit_nodes) if noise is not None else None  # type: ignore[arg-type]
+    for statement in top.body:
+        if isinstance(statement, OptionsCard):
+            notices.append(f"{_where(statement.loc)}: .options ignored: netnoise has no simulator options to set")
+
+    return c.Circuit(
+        title=parsed.title,
+        elements=tuple(engine.elements),
+        temperature_celsius=temperature,
+        noise_card=noise_card,
+        ac_sweep=ac_sweep,
+        notices=tuple(dict.fromkeys(notices)),
+        source_file=source_file,
+    )

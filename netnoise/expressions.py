@@ -1,0 +1,211 @@
+"""Evaluate ``{expression}`` values and ``.param`` right-hand sides.
+
+We walk the lark parse tree ourselves; nothing is ever handed to Python's
+``eval``.  What an expression may contain:
+
+* numbers with the usual suffixes (``4.7k``, ``1e-9``, ``2meg``)
+* parameter names (case-insensitive) and the constant ``pi``
+* ``+ - * /``, unary ``-`` and ``+``, powers ``**`` or ``^`` (right
+  associative and tighter than a sign: ``-2**2`` is -4), parentheses
+* functions: ``sqrt exp log log10 sin cos tan abs`` (one argument), ``pow``
+  (two), ``min max`` (two or more); ``log`` is the natural logarithm and the
+  trigonometric functions take radians.
+
+Every failure is a :class:`~netnoise.errors.NetlistError` at the place in the
+file where it happened.
+"""
+
+from __future__ import annotations
+
+import difflib
+import math
+from collections.abc import Callable, Mapping
+
+from lark import Token, Tree
+
+from .errors import NetlistError, SourceLocation
+from .values import split_value
+
+__all__ = ["CONSTANTS", "FUNCTIONS", "Locator", "evaluate", "evaluate_text", "referenced_names"]
+
+Locator = Callable[[int, int], SourceLocation]
+"""Turns a (line, column) of the parsed text into a SourceLocation."""
+
+CONSTANTS: dict[str, float] = {"pi": math.pi}
+
+
+def _domain(check: Callable[..., bool], why: str, func: Callable[..., float]) -> Callable[..., float]:
+    def guarded(*args: float) -> float:
+        if not check(*args):
+            raise _DomainError(why)
+        return func(*args)
+
+    return guarded
+
+
+class _DomainError(Exception):
+    pass
+
+
+# name -> (smallest, largest number of arguments (None: any), function)
+FUNCTIONS: dict[str, tuple[int, int | None, Callable[..., float]]] = {
+    "sqrt": (1, 1, _domain(lambda x: x >= 0, "sqrt of a negative number", math.sqrt)),
+    "exp": (1, 1, math.exp),
+    "log": (1, 1, _domain(lambda x: x > 0, "log of a number that is not positive", math.log)),
+    "log10": (1, 1, _domain(lambda x: x > 0, "log10 of a number that is not positive", math.log10)),
+    "sin": (1, 1, math.sin),
+    "cos": (1, 1, math.cos),
+    "tan": (1, 1, math.tan),
+    "abs": (1, 1, abs),
+    "min": (2, None, min),
+    "max": (2, None, max),
+    "pow": (2, 2, lambda x, y: _power(x, y)),
+}
+
+
+def _power(base: float, exponent: float) -> float:
+    if base == 0.0 and exponent < 0:
+        raise _DomainError("zero raised to a negative power")
+    if base < 0 and not float(exponent).is_integer():
+        raise _DomainError("a negative number raised to a fractional power")
+    return math.pow(base, exponent)
+
+
+def _arity_text(low: int, high: int | None) -> str:
+    if high is None:
+        return f"at least {low} arguments"
+    return "1 argument" if low == 1 else f"{low} arguments"
+
+
+def _start(node: Tree | Token) -> tuple[int, int]:
+    if isinstance(node, Token):
+        return node.line, node.column
+    return node.meta.line, node.meta.column
+
+
+class _Evaluator:
+    def __init__(self, params: Mapping[str, float], locate: Locator) -> None:
+        self.params = params
+        self.locate = locate
+
+    def fail(self, node: Tree | Token, message: str, hint: str = "") -> NetlistError:
+        return NetlistError(message, self.locate(*_start(node)), hint)
+
+    def checked(self, node: Tree | Token, value: float) -> float:
+        if not math.isfinite(value):
+            raise self.fail(node, "the expression overflows (its value is not a finite number)")
+        return value
+
+    def value(self, node: Tree | Token) -> float:
+        if isinstance(node, Token):  # only reached through malformed trees
+            raise self.fail(node, f"unexpected '{node}' in an expression")
+        method = getattr(self, "do_" + node.data, None)
+        if method is None:
+            raise self.fail(node, f"cannot evaluate '{node.data}'")
+        try:
+            return self.checked(node, method(node))
+        except OverflowError:
+            raise self.fail(node, "the expression overflows (its value is too large)") from None
+
+    # ---- leaves
+    def do_number(self, node: Tree) -> float:
+        token = node.children[0]
+        try:
+            return split_value(str(token))[0]
+        except ValueError as exc:
+            raise self.fail(token, f"bad number: {exc}") from None
+
+    def do_name(self, node: Tree) -> float:
+        token = node.children[0]
+        key = str(token).lower()
+        if key in self.params:
+            return self.params[key]
+        if key in CONSTANTS:
+            return CONSTANTS[key]
+        if key in FUNCTIONS:
+            raise self.fail(token, f"'{token}' is a function; call it as {token}(...)")
+        known = sorted(set(self.params) | set(CONSTANTS))
+        close = difflib.get_close_matches(key, known, n=3, cutoff=0.6)
+        hint = "did you mean " + " or ".join(f"'{c}'" for c in close) + "?" if close else ""
+        raise self.fail(token, f"undefined parameter '{token}'", hint)
+
+    # ---- operators
+    def do_braced(self, node: Tree) -> float:
+        return self.value(node.children[0])
+
+    def do_neg(self, node: Tree) -> float:
+        return -self.value(node.children[0])
+
+    def do_pos(self, node: Tree) -> float:
+        return self.value(node.children[0])
+
+    def do_add(self, node: Tree) -> float:
+        return self.value(node.children[0]) + self.value(node.children[1])
+
+    def do_sub(self, node: Tree) -> float:
+        return self.value(node.children[0]) - self.value(node.children[1])
+
+    def do_mul(self, node: Tree) -> float:
+        return self.value(node.children[0]) * self.value(node.children[1])
+
+    def do_div(self, node: Tree) -> float:
+        numerator = self.value(node.children[0])
+        denominator = self.value(node.children[1])
+        if denominator == 0.0:
+            raise self.fail(node.children[1], "division by zero")
+        return numerator / denominator
+
+    def do_pow(self, node: Tree) -> float:
+        base_node, _, exponent_node = node.children
+        base = self.value(base_node)
+        exponent = self.value(exponent_node)
+        try:
+            return _power(base, exponent)
+        except _DomainError as exc:
+            raise self.fail(base_node, str(exc)) from None
+
+    def do_function(self, node: Tree) -> float:
+        name_token = node.children[0]
+        arguments = node.children[1].children if len(node.children) > 1 else []
+        key = str(name_token).lower()
+        if key not in FUNCTIONS:
+            known = ", ".join(sorted(FUNCTIONS))
+            raise self.fail(name_token, f"unknown function '{name_token}'", f"the functions are: {known}")
+        low, high, func = FUNCTIONS[key]
+        if len(arguments) < low or (high is not None and len(arguments) > high):
+            raise self.fail(
+                name_token,
+                f"{key}() takes {_arity_text(low, high)}, not {len(arguments)}",
+            )
+        values = [self.value(argument) for argument in arguments]
+        try:
+            return func(*values)
+        except _DomainError as exc:
+            raise self.fail(name_token, str(exc)) from None
+        except ValueError:
+            raise self.fail(name_token, f"{key}() is not defined for these arguments") from None
+
+
+def evaluate(tree: Tree, params: Mapping[str, float], locate: Locator) -> float:
+    """The value of the expression ``tree``; ``params`` keys are lower case."""
+    return _Evaluator(params, locate).value(tree)
+
+
+def referenced_names(tree: Tree) -> set[str]:
+    """The (lower-case) parameter names ``tree`` uses, constants excluded."""
+    names = set()
+    for node in tree.iter_subtrees():
+        if node.data == "name":
+            key = str(node.children[0]).lower()
+            if key not in CONSTANTS:
+                names.add(key)
+    return names
+
+
+def evaluate_text(text: str, params: Mapping[str, float] | None = None, filename: str = "<expression>") -> float:
+    """Parse and evaluate one expression, e.g. ``evaluate_text("2*pi*1k")``."""
+    from .parser import parse_expression  # the parser owns lark's error messages
+
+    tree, locate = parse_expression(text, filename)
+    lowered = {key.lower(): value for key, value in (params or {}).items()}
+    return evaluate(tree, lowered, locate)

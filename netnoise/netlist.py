@@ -1,0 +1,45 @@
+"""The front door: netlist text or file -> :class:`~netnoise.circuit.Circuit`.
+
+>>> circuit = parse_netlist("divider\\nV1 in 0 1\\nR1 in out 1k\\nR2 out 0 1k\\n")
+>>> [e.name for e in circuit.elements]
+['V1', 'R1', 'R2']
+
+Every problem with the text is a :class:`~netnoise.errors.NetlistError`
+carrying file, line and column.
+"""
+
+from __future__ import annotations
+
+import os
+from pathlib import Path
+
+from .circuit import Circuit
+from .elaborate import elaborate
+from .parser import parse_statements, read_netlist_text
+
+__all__ = ["parse_netlist", "load_netlist"]
+
+
+def parse_netlist(text: str, filename: str = "<text>", base_dir: str | os.PathLike | None = None) -> Circuit:
+    """The circuit described by netlist ``text`` (its first line is the title).
+
+    ``filename`` is used in messages.  ``.include`` paths are taken relative
+    to ``base_dir``; by default the folder of ``filename`` when that names a
+    file, else the current folder.
+    """
+    own_path = None
+    if base_dir is None:
+        if not (filename.startswith("<") and filename.endswith(">")):
+            own_path = Path(filename)
+            base_dir = own_path.parent
+        else:
+            base_dir = Path.cwd()
+    parsed = parse_statements(text, filename, has_title=True)
+    return elaborate(parsed, Path(base_dir), source_file=filename, own_path=own_path)
+
+
+def load_netlist(path: str | os.PathLike) -> Circuit:
+    """Read a netlist file (UTF-8) and elaborate it."""
+    path = Path(path)
+    text = read_netlist_text(path)
+    return parse_netlist(text, filename=str(path), base_dir=path.parent)

@@ -1,0 +1,125 @@
+"""Numbers as netlists write them: ``4.7k``, ``100n``, ``1e-12``, ``10kOhm``.
+
+A value is a decimal number (``47``, ``4.7``, ``.5``, ``1e-12``), then an
+optional scale suffix, then an optional unit name.  Letters are not case
+sensitive.
+
+======  ==========  ==================================================
+suffix  scale       note
+======  ==========  ==================================================
+f       1e-15       so a bare ``1F`` is one *femto*, not one farad
+p       1e-12
+n       1e-9
+u, µ    1e-6        the micro sign and the Greek mu are both accepted
+m       1e-3        ``M`` too: ``1M`` is one *milli*, as SPICE has it
+k       1e3
+meg     1e6         write ``1meg`` for a megohm
+g       1e9
+t       1e12
+mil     25.4e-6     a thousandth of an inch
+======  ==========  ==================================================
+
+Units recognised after the suffix (and ignored, since the element letter
+already says what the value is): ``ohm``, ``ohms``, ``Ω``, ``f``, ``h``,
+``v``, ``a``, ``hz``, ``s``.  So ``10kOhm``, ``4.7uF``, ``1mH`` and ``1kHz``
+read as expected, while ``1F`` is 1 fF and ``1MHz`` is 1 mHz.  Any other
+trailing letters are an error rather than silently dropped.
+"""
+
+from __future__ import annotations
+
+import math
+import re
+
+from .engformat import format_quantity
+
+__all__ = ["SUFFIXES", "UNITS", "parse_value", "split_value", "milli_slip_notice"]
+
+SUFFIXES: dict[str, float] = {
+    "meg": 1e6,
+    "mil": 25.4e-6,
+    "f": 1e-15,
+    "p": 1e-12,
+    "n": 1e-9,
+    "u": 1e-6,
+    "\u00b5": 1e-6,  # micro sign
+    "\u03bc": 1e-6,  # Greek small letter mu
+    "m": 1e-3,
+    "k": 1e3,
+    "g": 1e9,
+    "t": 1e12,
+}
+
+UNITS = frozenset({"ohm", "ohms", "\u03c9", "f", "h", "v", "a", "hz", "s"})
+
+_NUMBER = re.compile(r"[+-]?(?:\d+(?:\.\d*)?|\.\d+)(?:[eE][+-]?\d+)?")
+_BAD_EXPONENT = re.compile(r"[eE][+-]?(?!\d)")
+# longest suffixes first, so 'meg' and 'mil' win over 'm'
+_SUFFIX_ORDER = sorted(SUFFIXES, key=len, reverse=True)
+
+
+def split_value(text: str) -> tuple[float, str, str]:
+    """Split ``text`` into (number, suffix, unit), all checked.
+
+    ``suffix`` and ``unit`` are returned lower case ('' when absent).
+    Raises ValueError with a short reason when ``text`` is not a value.
+    """
+    stripped = text.strip()
+    if not stripped:
+        raise ValueError("empty value")
+    match = _NUMBER.match(stripped)
+    if match is None:
+        raise ValueError(f"'{stripped}' is not a number")
+    number = float(match.group())
+    rest = stripped[match.end() :]
+    if _BAD_EXPONENT.match(rest):
+        raise ValueError(f"'{stripped}' has an exponent without digits")
+    lowered = rest.lower()
+    suffix = next((s for s in _SUFFIX_ORDER if lowered.startswith(s)), "")
+    unit = lowered[len(suffix) :]
+    if unit and unit not in UNITS:
+        extra = rest[len(suffix) :]
+        if suffix and _starts_suffix(unit):
+            raise ValueError(f"'{stripped}' has two scale suffixes")
+        raise ValueError(f"'{stripped}' ends in '{extra}', which is neither a scale suffix nor a unit")
+    value = number * SUFFIXES.get(suffix, 1.0)
+    if not math.isfinite(value):
+        raise ValueError(f"'{stripped}' is too large to represent")
+    return value, suffix, unit
+
+
+def _starts_suffix(text: str) -> bool:
+    return any(text.startswith(candidate) for candidate in _SUFFIX_ORDER)
+
+
+def parse_value(text: str) -> float:
+    """The value of a netlist number such as ``4.7k`` or ``10kOhm``, in SI units.
+
+    >>> parse_value("4.7k")
+    4700.0
+    >>> parse_value("1meg")
+    1000000.0
+
+    Raises ValueError (with a short reason) for anything else.
+    """
+    return split_value(text)[0]
+
+
+def milli_slip_notice(name: str, text: str, value: float) -> str | None:
+    """A notice when resistor ``name`` was probably meant in megohms.
+
+    ``1M`` means one milliohm in a netlist; a resistor below 1 Ω written with
+    an ``m``/``M`` suffix is almost always a slip for ``meg``.
+    """
+    try:
+        _, suffix, _ = split_value(text)
+    except ValueError:
+        return None
+    if suffix != "m" or abs(value) >= 1.0:
+        return None
+    stripped = text.strip()
+    written_as = stripped[: _NUMBER.match(stripped).end()]
+    return (
+        f"{name} = {format_quantity(value, 'Ω')}: 'M' means milli; "
+        f"write {written_as}meg for megohms"
+    )
