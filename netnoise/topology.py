@@ -11,6 +11,14 @@ from .errors import CircuitError
 
 __all__ = ["check_topology"]
 
+# elements that fix the voltage between their terminals (at DC for L)
+_VOLTAGE_DEFINING = (
+    ck.VoltageSource,
+    ck.VoltageControlledVoltageSource,
+    ck.CurrentControlledVoltageSource,
+    ck.Inductor,
+)
+
 # elements whose two terminals are joined by a path that conducts at DC
 _DC_CONDUCTING = (
     ck.Resistor,
@@ -32,12 +40,17 @@ class _DisjointSets:
             x = self.parent[x]
         return x
 
-    def union(self, a: str, b: str) -> None:
-        self.parent[self.find(a)] = self.find(b)
+    def union(self, a: str, b: str) -> bool:
+        """Join the sets of a and b; False if they were joined already."""
+        ra, rb = self.find(a), self.find(b)
+        self.parent[ra] = rb
+        return ra != rb
 
 
 def check_topology(circuit: ck.Circuit) -> None:
-    """Raise CircuitError if the circuit has no ground or nodes without a DC path to it."""
+    """Raise CircuitError for a circuit whose equations cannot be solved:
+    no ground, parts not connected to ground at all, nodes without a DC path
+    to ground, or a loop of voltage sources and inductors."""
     if not circuit.elements:
         raise CircuitError("the circuit has no elements")
     nodes = circuit.nodes
@@ -47,6 +60,8 @@ def check_topology(circuit: ck.Circuit) -> None:
             "no element connects to ground (node 0); every circuit needs a reference node: "
             "connect the circuit's common to node 0 (or 'gnd')"
         )
+    _check_connected(circuit)
+    _check_voltage_loops(circuit)
     dc = _DisjointSets()
     dc.find(ck.GROUND)
     for element in circuit.elements:
@@ -61,3 +76,37 @@ def check_topology(circuit: ck.Circuit) -> None:
             "capacitors or current sources, so their DC voltage is undefined. Add a resistor to "
             "ground (a large value such as 1 GΩ models a leakage path) or check the node names"
         )
+
+
+def _check_connected(circuit: ck.Circuit) -> None:
+    joined = _DisjointSets()
+    joined.find(ck.GROUND)
+    for element in circuit.elements:
+        terminals = list(getattr(element, "nodes", ())) + list(getattr(element, "control_nodes", ()))
+        for node in terminals[1:]:
+            joined.union(terminals[0], node)
+    ground = joined.find(ck.GROUND)
+    apart = [node for node in circuit.nodes if joined.find(node) != ground]
+    if apart:
+        shown = ", ".join(apart[:8]) + (f" and {len(apart) - 8} more" if len(apart) > 8 else "")
+        raise CircuitError(
+            f"part of the circuit is not connected to the rest at all (nodes {shown}); "
+            "connect it, or remove it from the netlist"
+        )
+
+
+def _check_voltage_loops(circuit: ck.Circuit) -> None:
+    loops = _DisjointSets()
+    for element in circuit.elements:
+        if isinstance(element, _VOLTAGE_DEFINING):
+            a, b = element.nodes
+            if a == b or not loops.union(a, b):
+                members = [
+                    e.name for e in circuit.elements
+                    if isinstance(e, _VOLTAGE_DEFINING) and loops.find(e.nodes[0]) == loops.find(a)
+                ]
+                raise CircuitError(
+                    f"{element.name} closes a loop of voltage sources and/or inductors "
+                    f"({', '.join(members[:8])}): at DC the loop's voltages over-determine each "
+                    "other. Add the series resistance the real parts have"
+                )
