@@ -157,7 +157,8 @@ def _mark_band(ax: Axes, result: NoiseResult, *, label: bool) -> None:
     if f.size == 0:
         return
     edges = [result.band_low_Hz, result.band_high_Hz]
-    visible = [e for e in edges if np.isfinite(e) and f[0] <= e <= f[-1]]
+    slack = 1e-9  # grid ends may differ from the band edges by round-off
+    visible = [e for e in edges if np.isfinite(e) and f[0] * (1 - slack) <= e <= f[-1] * (1 + slack)]
     for n, edge in enumerate(visible):
         ax.axvline(
             edge,

@@ -127,9 +127,9 @@ def _totals(result: NoiseResult) -> list[str]:
     if gain is None or gain <= 0.0:
         lines.append(_field("signal gain", "zero in the band: no input-referred figures"))
         return lines
-    lines.append(
-        _field("gain at maximum", f"|H| = {format_quantity(gain, gain_unit, 4)}  ({round(20.0 * math.log10(gain), 2) + 0.0:.2f} {db_ref})")
-    )
+    magnitude = f"{gain:.4g} V/V" if gain_unit == "V/V" else format_quantity(gain, gain_unit, 4)
+    decibels = round(20.0 * math.log10(gain), 2) + 0.0  # + 0.0: no "-0.00"
+    lines.append(_field("gain at maximum", f"|H| = {magnitude}  ({decibels:.2f} {db_ref})"))
     referred = result.input_referred_rms
     if referred is not None:
         lines.append(_field("input-referred noise", f"{format_quantity(referred, unit)} rms"))
@@ -229,6 +229,10 @@ def _headline(result: NoiseResult) -> list[str]:
     if not rows or result.total_variance <= 0.0:
         return ["", "No noise source contributes to this output."]
     lead = rows[0]
+    tied = [c for c in rows if math.isclose(c.share, lead.share, rel_tol=1e-6)]
+    if len(tied) > 1:
+        names = ", ".join(c.element for c in tied[:-1]) + f" and {tied[-1].element}"
+        return ["", f"Largest sources: {names} tie at {_percent(lead.share)} of the output noise power each."]
     value = f", {lead.value}" if lead.value else ""
     return [
         "",

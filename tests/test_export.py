@@ -2,6 +2,7 @@
 
 from __future__ import annotations
 
+import dataclasses
 import importlib.util
 import io
 import json
@@ -120,7 +121,7 @@ def test_zero_gain_point_gives_null_input_referred_density():
     result = samples.resistors()
     gain = np.array(result.gain)
     gain[0] = 0.0
-    data = _parsed(samples.NoiseResult(**{**vars(result), "gain": gain}))
+    data = _parsed(dataclasses.replace(result, gain=gain))
     referred = data["spectrum"]["input_referred_density_per_rtHz"]
     assert referred[0] is None and all(isinstance(x, float) for x in referred[1:])
 

@@ -2,6 +2,7 @@
 
 from __future__ import annotations
 
+import dataclasses
 import importlib.util
 import os
 import pathlib
@@ -136,3 +137,11 @@ def test_failed_save_leaves_no_file(tmp_path, monkeypatch):
     with pytest.raises(RuntimeError):
         plotting.save_plot(samples.white(), tmp_path / "noise.png")
     assert os.listdir(tmp_path) == []
+
+
+def test_band_edge_within_round_off_of_the_grid_end_is_drawn():
+    result = samples.white(low=1.0, high=5.0)
+    nudged = dataclasses.replace(result, frequency_Hz=result.frequency_Hz * (1 + 4e-16) + 2e-16)
+    fig = plotting.plot_noise(nudged)
+    edges = sorted(line.get_xdata()[0] for line in _lines(fig.axes[0], plotting.GID_BAND_EDGE))
+    assert edges == pytest.approx([1.0, 5.0], rel=1e-12)

@@ -2,6 +2,7 @@
 
 from __future__ import annotations
 
+import dataclasses
 import importlib.util
 import math
 import pathlib
@@ -179,3 +180,23 @@ def test_circuit_without_noise():
     text = format_report(quiet)
     assert "No noise source contributes" in text
     assert "0 V rms" in text
+
+
+def test_equal_shares_are_called_a_tie():
+    result = samples.resistors()
+    two = dataclasses.replace(
+        result,
+        source_names=("R1", "R2"),
+        source_mechanisms=("thermal",) * 2,
+        source_values=("10 kΩ",) * 2,
+        source_density=result.source_density[[1, 1]],
+        source_variance=result.source_variance[[1, 1]],
+    )
+    text = format_report(two)
+    assert "Largest sources: R1 and R2 tie at 50.0 %" in text  # two equal halves (arithmetic)
+    assert "Dominant source" not in text
+
+
+def test_gain_below_one_is_shown_plainly():
+    text = format_report(samples.resistors(gain=0.5))
+    assert "|H| = 0.5 V/V  (-6.02 dB)" in text  # 20·log10(0.5) = -6.02 dB (common practice)
