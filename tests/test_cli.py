@@ -284,3 +284,23 @@ def test_python_dash_m_netnoise():
     )
     assert completed.returncode == 0
     assert completed.stdout.strip() == f"netnoise {__version__}"
+
+
+def test_end_to_end_with_the_real_parser_and_engine(tmp_path, capsys, monkeypatch):
+    """A divider with a capacitor, integrated to infinite bandwidth: kT/C."""
+    pytest.importorskip("netnoise.netlist")
+    pytest.importorskip("netnoise.analysis")
+    from scipy.constants import k as BOLTZMANN
+
+    monkeypatch.delenv("NETNOISE_DEBUG", raising=False)
+    path = tmp_path / "divider.cir"
+    path.write_text("divider\nV1 in 0 dc 0 ac 1\nR1 in out 10k\nR2 out 0 10k\nC1 out 0 10n\n.end\n")
+    status = run("analyze", path, "--out", "out", "--input", "V1", "--band", "0", "inf", "--temp", "27", "--json", "-")
+    out, err = capsys.readouterr()
+    assert status == 0, err
+    data = json.loads(out)
+    # any resistive network across C: total output noise is sqrt(kT/C) (common practice)
+    assert data["total_rms_V"] == pytest.approx(math.sqrt(BOLTZMANN * 300.15 / 10e-9), rel=1e-6)
+    assert data["band_Hz"]["high"] is None
+    assert [c["share"] for c in data["contributions"]] == pytest.approx([0.5, 0.5], rel=1e-6)  # equal resistors
+    assert "Largest sources: R1 and R2 tie" in err
