@@ -19,6 +19,7 @@ from dataclasses import dataclass
 import numpy as np
 
 from . import circuit as ck
+from .engformat import format_quantity
 from .errors import CircuitError, UsageError
 from .integrate import integrate_band
 from .mna import MnaSystem, assemble
@@ -173,7 +174,7 @@ def analyze(
 
     if math.isinf(high):
         exact = _exact_totals(problem)
-        top = _decade_ceil(poles.max() * 1e3) if poles.size else 1e9
+        top = _decade_ceil(poles.max() * 100) if poles.size else 1e9
         start = low if low > 0 else (_decade_floor(poles.min() / 100) if poles.size else top * 1e-9)
         top = max(top, start * 1e3)
         shown = integrate_band(
@@ -189,7 +190,10 @@ def analyze(
             totals = exact - below.values
         totals = np.maximum(totals, 0.0)
         rel_error = shown.rel_error if low > 0 else 0.0
-        notes.append(f"spectrum shown up to {top:.3g} Hz; the total is exact to infinite bandwidth")
+        notes.append(
+            f"spectrum shown up to {format_quantity(top, 'Hz')} (100x the highest pole); "
+            "the total is exact to infinite bandwidth"
+        )
     else:
         shown = integrate_band(
             problem.densities, low, high, points_per_decade=settings.points_per_decade,

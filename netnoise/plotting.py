@@ -99,7 +99,8 @@ def _draw_density(ax: Axes, result: NoiseResult, top: int) -> None:
         linewidth=TOTAL_WIDTH,
         label=f"total ({format_quantity(result.total_rms, 'V')} rms)",
         gid=GID_TOTAL,
-        zorder=3,
+        alpha=0.8,
+        zorder=2,  # under the contributors, so a dominant one stays visible on it
     )
     for n, (k, label) in enumerate(_top_contributors(result, top)):
         ax.plot(
@@ -109,9 +110,13 @@ def _draw_density(ax: Axes, result: NoiseResult, top: int) -> None:
             linewidth=CONTRIBUTOR_WIDTH,
             label=label,
             gid=GID_CONTRIBUTOR,
+            zorder=3,
         )
     ax.set_xscale("log")
     ax.set_yscale("log")
+    peak = float(np.max(total, initial=0.0)) / scale
+    if peak > 0:  # show 100 dB below the peak at most: tails far below it only squash the view
+        ax.set_ylim(bottom=max(ax.get_ylim()[0], peak * 1e-5))
     ax.set_ylabel(f"output noise density ({prefix}V/√Hz)")
     _plain_log_labels(ax)
 
@@ -121,11 +126,11 @@ def _legend(ax: Axes) -> None:
 
 
 def _plain_log_labels(ax: Axes) -> None:
-    """Label the log density axis with plain numbers (30, 0.5) rather than powers."""
-    from matplotlib.ticker import LogFormatter
+    """Label the log density axis with plain numbers (30, 0.001) rather than powers."""
+    from matplotlib.ticker import FuncFormatter, NullFormatter
 
-    ax.yaxis.set_major_formatter(LogFormatter(labelOnlyBase=False, minor_thresholds=(1.2, 0.6)))
-    ax.yaxis.set_minor_formatter(LogFormatter(labelOnlyBase=False, minor_thresholds=(1.2, 0.6)))
+    ax.yaxis.set_major_formatter(FuncFormatter(lambda value, _: f"{value:g}"))
+    ax.yaxis.set_minor_formatter(NullFormatter())
 
 
 def _draw_cumulative(ax: Axes, result: NoiseResult) -> None:
@@ -179,8 +184,11 @@ def _style(ax: Axes) -> None:
 
 
 def _heading(result: NoiseResult) -> str:
+    import textwrap
+
     title = result.title.strip() or "noise"
-    return f"{title}: output noise at {result.temperature_K - 273.15:.1f} °C"
+    heading = f"{title}: output noise at {result.temperature_K - 273.15:.1f} °C"
+    return "\n".join(textwrap.wrap(heading, width=80))
 
 
 def plot_noise(result: NoiseResult, *, top: int = 5) -> Figure:
@@ -201,7 +209,7 @@ def plot_noise(result: NoiseResult, *, top: int = 5) -> Figure:
     _mark_band(cumulative_ax, result, label=False)
     for ax in (density_ax, cumulative_ax):
         _style(ax)
-    fig.suptitle(_heading(result))
+    fig.suptitle(_heading(result), fontsize="medium")
     return fig
 
 
