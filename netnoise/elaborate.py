@@ -80,8 +80,9 @@ def _where(location: SourceLocation) -> str:
 
 
 def _expand_includes(
-    parsed: ParsedFile, directory: Path, chain: tuple[Path, ...]
+    parsed: ParsedFile, directory: Path, chain: tuple[Path, ...], depth: int = 0
 ) -> list[Statement]:
+    """``parsed`` with its includes expanded; ``depth`` counts include levels."""
     out: list[Statement] = []
     for statement in parsed.statements:
         if not isinstance(statement, IncludeCard):
@@ -91,7 +92,7 @@ def _expand_includes(
         if target in chain:
             names = " -> ".join(p.name for p in (*chain[chain.index(target) :], target))
             raise _fail(f"'.include {statement.path}' makes a cycle: {names}", statement.loc)
-        if len(chain) >= MAX_INCLUDE_DEPTH:
+        if depth >= MAX_INCLUDE_DEPTH:
             raise _fail(
                 f"includes are nested more than {MAX_INCLUDE_DEPTH} deep",
                 statement.loc,
@@ -105,7 +106,7 @@ def _expand_includes(
             )
         text = read_netlist_text(target, statement.loc)
         included = parse_statements(text, str(target), has_title=False)
-        out.extend(_expand_includes(included, target.parent, (*chain, target)))
+        out.extend(_expand_includes(included, target.parent, (*chain, target), depth + 1))
     return out
 
 

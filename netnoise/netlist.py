@@ -27,13 +27,9 @@ def parse_netlist(text: str, filename: str = "<text>", base_dir: str | os.PathLi
     to ``base_dir``; by default the folder of ``filename`` when that names a
     file, else the current folder.
     """
-    own_path = None
+    own_path = None if filename.startswith("<") and filename.endswith(">") else Path(filename)
     if base_dir is None:
-        if not (filename.startswith("<") and filename.endswith(">")):
-            own_path = Path(filename)
-            base_dir = own_path.parent
-        else:
-            base_dir = Path.cwd()
+        base_dir = own_path.parent if own_path is not None else Path.cwd()
     parsed = parse_statements(text, filename, has_title=True)
     return elaborate(parsed, Path(base_dir), source_file=filename, own_path=own_path)
 

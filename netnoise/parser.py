@@ -364,8 +364,9 @@ def _offset_location(raw: bytes, offset: int, file: str) -> SourceLocation:
     line = raw.count(b"\n", 0, offset) + 1
     line_start = raw.rfind(b"\n", 0, offset) + 1
     line_end = raw.find(b"\n", offset)
-    text = raw[line_start : line_end if line_end >= 0 else len(raw)]
-    return SourceLocation(file, line, offset - line_start + 1, text.decode("utf-8", "replace"))
+    text = raw[line_start : line_end if line_end >= 0 else len(raw)].decode("utf-8", "replace")
+    column = len(raw[line_start:offset].decode("utf-8", "replace")) + 1
+    return SourceLocation(file, line, column, text.replace("\x00", "\u2400"))
 
 
 def read_netlist_text(path: Path, included_from: SourceLocation | None = None) -> str:
@@ -388,7 +389,7 @@ def read_netlist_text(path: Path, included_from: SourceLocation | None = None) -
         where = _offset_location(raw, nul, shown)
         raise _fail(
             f"byte {nul} (line {where.line}) is a NUL character: this is not a text netlist",
-            SourceLocation(shown, where.line, where.column),
+            where,
         )
     try:
         text = raw.decode("utf-8")
@@ -540,7 +541,7 @@ def _unwrap(exc: UnexpectedInput, source: SourceText) -> NetlistError:
                 "a line starts with an element name (R1, C2, X3, ...) or a dot-card (.param, ...)",
             )
         message = f"{_token_words(token)} is not allowed here; expected {_expected_words(expected)}"
-        if token.type == "_NL":
+        if token.type in ("_NL", "$END"):
             message = f"the line ends too early; expected {_expected_words(expected)}"
         return _fail(message, loc)
     if isinstance(exc, UnexpectedCharacters):

@@ -1,0 +1,190 @@
+"""Netlist text -> statements: lines, comments, continuations, field shapes."""
+
+from pathlib import Path
+
+import pytest
+
+from netnoise.grammar import START_SYMBOLS, grammar_path, netlist_parser
+from netnoise.netlist import load_netlist, parse_netlist
+from netnoise.parser import (
+    Coupling,
+    CurrentControlled,
+    IndependentSource,
+    Instance,
+    NoiseCard,
+    ParamCard,
+    Passive,
+    SubcktCard,
+    VoltageControlled,
+    parse_statements,
+)
+
+REPO = Path(__file__).resolve().parent.parent
+EXAMPLES = sorted((REPO / "circuits").glob("*.cir"))
+
+
+def only(text: str):
+    (statement,) = parse_statements(text).statements
+    return statement
+
+
+# ---- the grammar file and parser
+
+
+def test_grammar_found_and_headed_by_start_symbols():
+    path = grammar_path()
+    assert path.name == "netlist.lark"
+    header = path.read_text(encoding="utf-8").splitlines()[:12]
+    for symbol in START_SYMBOLS:
+        assert any(symbol in line for line in header if line.startswith("//"))
+
+
+def test_parser_built_once():
+    assert netlist_parser() is netlist_parser()
+
+
+# ---- lines
+
+
+def test_title_line_is_not_a_statement():
+    parsed = parse_statements("R1 a b 1k is only a title\nR2 a 0 2k\n")
+    assert parsed.title == "R1 a b 1k is only a title"
+    (statement,) = parsed.statements
+    assert statement.name == "R2"
+    assert statement.loc.line == 2  # line numbers count the title line
+
+
+def test_included_files_have_no_title():
+    parsed = parse_statements("R1 a b 1k\n", has_title=False)
+    assert parsed.title == ""
+    assert [s.name for s in parsed.statements] == ["R1"]
+
+
+def test_comments_are_skipped_and_columns_kept():
+    text = "t\n* a comment line\n   * indented comment\nR1 a b 1k ; inline\nR2 a b 2k $ dollar comment\n"
+    r1, r2 = parse_statements(text).statements
+    assert r1.value.number == pytest.approx(1e3, rel=1e-12)  # k = 1e3 (SI)
+    assert r2.value.number == pytest.approx(2e3, rel=1e-12)
+    assert (r2.value.loc.line, r2.value.loc.column) == (5, 8)
+    assert r2.value.loc.text == "R2 a b 2k $ dollar comment"  # the caret line shows the original
+
+
+def test_dollar_inside_a_word_is_not_a_comment():
+    statement = only("t\nR1 a$b 0 1k\n")
+    assert statement.nodes[0].text == "a$b"
+
+
+def test_continuation_lines():
+    text = "t\nV1 in 0\n* a comment between\n\n+ DC 2\n   + AC 1 90\n"
+    source = only(text)
+    assert isinstance(source, IndependentSource)
+    assert source.dc.number == pytest.approx(2.0, rel=1e-12)
+    assert source.ac_magnitude.number == pytest.approx(1.0, rel=1e-12)
+    assert source.ac_phase.number == pytest.approx(90.0, rel=1e-12)
+    assert source.ac_phase.loc.line == 6
+
+
+def test_end_stops_the_deck():
+    parsed = parse_statements("t\nR1 a 0 1k\n.END\nthis is not a netlist line ((\n")
+    assert [s.name for s in parsed.statements] == ["R1"]
+
+
+def test_ends_is_not_end():
+    parsed = parse_statements("t\n.subckt s a\nR1 a 0 1\n.ends\nR2 a 0 1\n")
+    assert len(parsed.statements) == 4
+
+
+def test_windows_line_endings():
+    parsed = parse_statements("t\r\nR1 a 0 1k\r\nR2 a 0 2k\r\n")
+    assert [s.name for s in parsed.statements] == ["R1", "R2"]
+    assert parsed.statements[1].loc.text == "R2 a 0 2k"
+
+
+def test_keywords_are_case_insensitive():
+    parsed = parse_statements("t\n.PARAM A=1\n.SubCkt S a\n.ENDS s\nv1 a 0 dc 1 ac 2\n.NOISE V(a) v1\n")
+    kinds = [type(s).__name__ for s in parsed.statements]
+    assert kinds == ["ParamCard", "SubcktCard", "EndsCard", "IndependentSource", "NoiseCard"]
+    assert parsed.statements[3].has_ac
+
+
+# ---- field shapes
+
+
+def test_passive_with_expression_value():
+    statement = only("t\nC1 a b {2*cval}\n")
+    assert isinstance(statement, Passive)
+    assert statement.letter == "C"
+    assert statement.value.number is None and statement.value.tree is not None
+
+
+def test_sources_forms():
+    plain = only("t\nV1 a 0 5\n")
+    assert plain.dc.number == pytest.approx(5.0, rel=1e-12) and not plain.has_ac
+    ac_only = only("t\nI1 a 0 AC\n")
+    assert ac_only.has_ac and ac_only.ac_magnitude is None and ac_only.dc is None
+    waveform = only("t\nV1 a 0 DC 0 SIN(0 1 1k) AC 1\n")
+    assert waveform.waveform == "SIN"
+
+
+def test_controlled_sources():
+    e = only("t\nE1 o 0 p n 100\n")
+    assert isinstance(e, VoltageControlled)
+    assert [w.text for w in e.control_nodes] == ["p", "n"]
+    h = only("t\nH1 o 0 Vsense 1k\n")
+    assert isinstance(h, CurrentControlled) and h.control.text == "Vsense"
+    k = only("t\nK1 L1 L2 0.9\n")
+    assert isinstance(k, Coupling) and [w.text for w in k.inductors] == ["L1", "L2"]
+
+
+def test_instance_and_subckt_header():
+    x = only("t\nX1 a b rc r=1k c={cval}\n")
+    assert isinstance(x, Instance)
+    assert [w.text for w in x.nodes] == ["a", "b"] and x.subckt.text == "rc"
+    assert [a.name for a in x.overrides] == ["r", "c"]
+    s = only("t\n.subckt rc in out params: r=1k c=1n\n")
+    assert isinstance(s, SubcktCard)
+    assert [p.text for p in s.pins] == ["in", "out"]
+    assert [a.name for a in s.defaults] == ["r", "c"]
+    without_keyword = only("t\n.subckt rc in out r=1k\n")
+    assert [a.name for a in without_keyword.defaults] == ["r"]
+
+
+def test_param_card_bare_and_braced():
+    card = only("t\n.param a=1 b = {a*2} c=a^2\n+ d=-a\n")
+    assert isinstance(card, ParamCard)
+    assert [a.name for a in card.assignments] == ["a", "b", "c", "d"]
+
+
+def test_noise_card_forms():
+    short = only("t\n.noise v(out)\n")
+    assert isinstance(short, NoiseCard)
+    assert short.output.text == "out" and short.reference is None and short.source is None
+    full = only("t\n.noise V(out, ref) Vin oct 8 1 1meg\n")
+    assert full.reference.text == "ref" and full.source.text == "Vin"
+    assert full.sweep.kind == "oct"
+
+
+def test_include_quoted_and_bare():
+    assert only('t\n.include "lib/a b.inc"\n').path == "lib/a b.inc"
+    assert only("t\n.include lib/a.inc\n").path == "lib/a.inc"
+
+
+# ---- the shipped examples
+
+
+@pytest.mark.parametrize("path", EXAMPLES, ids=lambda p: p.name)
+def test_examples_parse_cleanly(path):
+    circuit = load_netlist(path)
+    assert circuit.title
+    assert circuit.elements
+    assert circuit.noise_card is not None
+    assert circuit.notices == ()
+    assert circuit.source_file == str(path)
+    again = parse_netlist(path.read_text(encoding="utf-8"), filename=str(path))
+    assert again.elements == circuit.elements
+
+
+def test_examples_exist():
+    names = {p.name for p in EXAMPLES}
+    assert {"adc_antialias.cir", "sample_hold.cir", "bridge_amp.cir", "lc_filter.cir", "hier_preamp.cir"} <= names
+    assert any(load_netlist(p).temperature_celsius is not None for p in EXAMPLES)
