@@ -179,7 +179,8 @@ def _value(item: Field, what: str) -> Value:
                 hint = f"to use a parameter, put it in braces: {{{item.text}}}"
             raise _fail(f"bad {what}: {exc}", item.loc, hint) from None
         return Value(item.text, item.loc, number)
-    raise _fail(f"expected {what} here, not {_describe(item)}", item.loc)
+    hint = "write expressions in braces: {...}" if isinstance(item, Quoted) else ""
+    raise _fail(f"expected {what} here, not {_describe(item)}", item.loc, hint)
 
 
 @dataclass(frozen=True)
@@ -406,9 +407,9 @@ def read_netlist_text(path: Path, included_from: SourceLocation | None = None) -
 # --------------------------------------------------------------------------
 # blanking comments, title and what follows .end
 
-_COMMENT_LINE = re.compile(r"[ \t]*\*")
-_END_CARD = re.compile(r"[ \t]*\.end(?![^\s])", re.IGNORECASE)
-_CONTINUATION = re.compile(r"[ \t]*\+")
+_COMMENT_LINE = re.compile(r"\s*\*")
+_END_CARD = re.compile(r"\s*\.end(?!\S)", re.IGNORECASE)
+_CONTINUATION = re.compile(r"\s*\+")
 
 
 def _strip_inline_comment(line: str) -> str:
@@ -511,7 +512,7 @@ def _expected_words(expected: set[str] | frozenset[str]) -> str:
 def _token_words(token: Token) -> str:
     if token.type in ("_NL", "$END"):
         return "the line ends"
-    text = str(token)
+    text = "".join(ch if ch.isprintable() else f"U+{ord(ch):04X}" for ch in str(token))
     if len(text) > 20:
         text = text[:17] + "..."
     return f"'{text}'"
@@ -532,9 +533,7 @@ def _unwrap(exc: UnexpectedInput, source: SourceText) -> NetlistError:
         if token.type in ("RPAR", "RBRACE") and expected & {"WORD", "_NL"}:
             opener = "(" if token.type == "RPAR" else "{"
             return _fail(f"'{token}' without a matching '{opener}'", loc)
-        if expected == {"ELEMENT_NAME", "DOT_WORD", "DOT_PARAM", "_NL", "$END"} or (
-            "ELEMENT_NAME" in expected
-        ):
+        if "ELEMENT_NAME" in expected:
             return _fail(
                 f"{_token_words(token)} cannot start a line",
                 loc,
@@ -554,7 +553,8 @@ def _unwrap(exc: UnexpectedInput, source: SourceText) -> NetlistError:
                 "a line starts with an element name (R1, C2, X3, ...) or a dot-card (.param, ...)",
             )
         expected = f"; expected {_expected_words(allowed)}" if allowed else ""
-        return _fail(f"unexpected character '{exc.char}'{expected}", loc)
+        char = exc.char if exc.char.isprintable() else f"U+{ord(exc.char):04X}"
+        return _fail(f"unexpected character '{char}'{expected}", loc)
     if isinstance(exc, UnexpectedEOF):
         last = len(source.lines)
         return _fail("the file ends in the middle of a line", source.location(last, 1))

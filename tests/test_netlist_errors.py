@@ -75,6 +75,8 @@ BAD = [
     Bad("two numbers", "t\nR1 a b {1 2}\n", "'2' is not allowed here; expected '}'", 2, 11),
     Bad("bad char in expression", "t\nR1 a b {#}\n", "'#' is not allowed here", 2, 9),
     Bad("unclosed quote", 't\n.include "abc\n', "unexpected character '\"'", 2, 10),
+    Bad("control character", "t\nR1 a b {1\x07}\n", "'U+0007' is not allowed here", 2, 10),
+    Bad("quoted value", "t\nR1 a b '2*r'\n", "expected value of R1 here", 2, 8),
     Bad("continuation with nothing before", "t\n+ R1 a 0 1\n", "a '+' line continues the line before it", 2, 1),
     # ---- expressions
     Bad("undefined parameter", "t\n.param rb=1k\nR1 a 0 {rc*2}\n", "undefined parameter 'rc'", 3, 9),

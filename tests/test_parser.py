@@ -100,6 +100,14 @@ def test_windows_line_endings():
     assert parsed.statements[1].loc.text == "R2 a 0 2k"
 
 
+def test_other_blanks_separate_fields():
+    # no-break space, form feed and a lone carriage return count as blanks
+    parsed = parse_statements("t\nR1\u00a0a b 1k\f\nV1 a 0 1\r\n\u00a0+ AC 1\n")
+    r1, v1 = parsed.statements
+    assert [w.text for w in r1.nodes] == ["a", "b"]
+    assert v1.has_ac
+
+
 def test_keywords_are_case_insensitive():
     parsed = parse_statements("t\n.PARAM A=1\n.SubCkt S a\n.ENDS s\nv1 a 0 dc 1 ac 2\n.NOISE V(a) v1\n")
     kinds = [type(s).__name__ for s in parsed.statements]
