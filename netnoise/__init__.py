@@ -1,7 +1,41 @@
 """netnoise: noise budgets for linear analog circuits from SPICE-style netlists.
 
+    >>> import netnoise
+    >>> circuit = netnoise.load_netlist("circuits/sample_hold.cir")
+    >>> result = netnoise.analyze(circuit)
+    >>> print(netnoise.format_report(result))
+
 Results are design estimates.  For mains-connected or safety-related
 equipment, follow local codes and licensed engineering practice.
 """
 
+from .analysis import analyze, output_density_function
+from .circuit import Circuit
+from .errors import CircuitError, NetlistError, NetnoiseError, UsageError
+from .export import result_to_dict, write_csv, write_json
+from .netlist import load_netlist, parse_netlist
+from .plotting import plot_noise, save_plot  # matplotlib itself loads only when a plot is drawn
+from .report import format_report
+from .result import Contribution, NoiseResult
+
 __version__ = "0.1.0"
+
+__all__ = [
+    "analyze",
+    "output_density_function",
+    "load_netlist",
+    "parse_netlist",
+    "format_report",
+    "plot_noise",
+    "save_plot",
+    "write_json",
+    "write_csv",
+    "result_to_dict",
+    "Circuit",
+    "NoiseResult",
+    "Contribution",
+    "NetnoiseError",
+    "NetlistError",
+    "UsageError",
+    "CircuitError",
+]

@@ -964,7 +964,11 @@ def _noise(card: _Card) -> NoiseCard:
         raise _fail("v(...) takes one node, or an output node and a reference node", probe.loc, f"the form is: {form}")
     output = probe.args[0]
     reference = probe.args[1] if len(probe.args) == 2 else None
-    source = card.word("input source name", form) if card.peek() is not None else None
+    # the source may be left out before a sweep: element names start with V or I,
+    # so a sweep keyword here cannot be a source's name
+    upcoming = card.peek()
+    names_sweep = isinstance(upcoming, Word) and upcoming.text.lower() in ("dec", "oct", "lin")
+    source = card.word("input source name", form) if upcoming is not None and not names_sweep else None
     sweep = _sweep(card, form) if card.peek() is not None else None
     card.done(form)
     return NoiseCard(output, reference, source, sweep, card.loc)  # type: ignore[arg-type]

@@ -196,3 +196,13 @@ def test_examples_exist():
     names = {p.name for p in EXAMPLES}
     assert {"adc_antialias.cir", "sample_hold.cir", "bridge_amp.cir", "lc_filter.cir", "hier_preamp.cir"} <= names
     assert any(load_netlist(p).temperature_celsius is not None for p in EXAMPLES)
+
+
+def test_noise_card_without_source_before_sweep():
+    # element names start with their letter, so 'dec' here is the sweep, not a source
+    from netnoise.netlist import parse_netlist
+
+    circuit = parse_netlist("rc\nR1 out 0 1k\nC1 out 0 1n\n.noise v(out) dec 10 1 1meg\n.end\n")
+    card = circuit.noise_card
+    assert card.input_source is None
+    assert (card.sweep.kind, card.sweep.points, card.sweep.start, card.sweep.stop) == ("dec", 10, 1.0, 1e6)
