@@ -33,6 +33,9 @@ __all__ = [
     "VoltageControlledCurrentSource",
     "CurrentControlledCurrentSource",
     "CurrentControlledVoltageSource",
+    "NoiseSpec",
+    "OpAmpModel",
+    "OpAmp",
     "Element",
     "Sweep",
     "NoiseCard",
@@ -55,10 +58,34 @@ class _TwoTerminal:
 
 
 @dataclass(frozen=True)
+class NoiseSpec:
+    """An explicit noise density given to an independent source.
+
+    One-sided amplitude density ``white`` (V/√Hz for a V source, A/√Hz for an
+    I source) with a 1/f^slope part below ``corner_Hz``:
+    S(f) = white² · (1 + (corner_Hz / f)^slope).  ``corner_Hz = 0``: white only.
+    """
+
+    white: float
+    corner_Hz: float = 0.0
+    slope: float = 1.0
+
+
+@dataclass(frozen=True)
 class Resistor(_TwoTerminal):
-    """Resistance in ohms between ``nodes[0]`` and ``nodes[1]``."""
+    """Resistance in ohms between ``nodes[0]`` and ``nodes[1]``.
+
+    ``noiseless``: no noise at all (an ideal load, a cold part).
+    ``temperature_celsius``: this part's own temperature for its thermal
+    noise (None: the analysis temperature).  ``noise_index_dB``: excess (1/f)
+    noise index, dB re 1 µV of noise per volt of DC across it per decade of
+    frequency, as resistor makers state it (None: no excess noise).
+    """
 
     resistance: float = 0.0
+    noiseless: bool = False
+    temperature_celsius: float | None = None
+    noise_index_dB: float | None = None
 
 
 @dataclass(frozen=True)
@@ -96,16 +123,23 @@ class VoltageSource(_TwoTerminal):
     dc: float = 0.0
     ac_magnitude: float = 0.0
     ac_phase: float = 0.0
+    noise: NoiseSpec | None = None  # an explicit noise voltage density (sensor, reference)
 
 
 @dataclass(frozen=True)
 class CurrentSource(_TwoTerminal):
     """Independent current source; positive current flows from ``nodes[0]``
-    through the source to ``nodes[1]`` (SPICE convention).  Amperes, degrees."""
+    through the source to ``nodes[1]`` (SPICE convention).  Amperes, degrees.
+
+    ``shot``: the DC current is a junction current (photocurrent, dark
+    current, a diode's bias) with shot noise 2q|I_dc| (Schottky 1918).
+    """
 
     dc: float = 0.0
     ac_magnitude: float = 0.0
     ac_phase: float = 0.0
+    noise: NoiseSpec | None = None  # an explicit noise current density
+    shot: bool = False
 
 
 @dataclass(frozen=True)
@@ -142,6 +176,44 @@ class CurrentControlledVoltageSource(_TwoTerminal):
     transresistance: float = 0.0
 
 
+@dataclass(frozen=True)
+class OpAmpModel:
+    """A voltage-feedback amplifier described the way its data sheet is.
+
+    Noise: input voltage noise ``voltage_noise`` (V/√Hz, white) with 1/f
+    corner ``voltage_noise_corner_Hz``; input current noise
+    ``current_noise`` (A/√Hz, on each input, uncorrelated) with corner
+    ``current_noise_corner_Hz``.  Gain: ``open_loop_gain`` (V/V at DC) and
+    ``gain_bandwidth_Hz`` (dominant pole at GBW/A0), optional
+    ``second_pole_Hz``.  ``input_capacitance`` from each input to ground
+    (common-mode), ``differential_capacitance`` between the inputs (F),
+    ``output_resistance`` (Ω, noiseless).
+    """
+
+    name: str
+    voltage_noise: float = 0.0
+    voltage_noise_corner_Hz: float = 0.0
+    current_noise: float = 0.0
+    current_noise_corner_Hz: float = 0.0
+    open_loop_gain: float = 1e5
+    gain_bandwidth_Hz: float = 1e6
+    second_pole_Hz: float | None = None
+    input_capacitance: float = 0.0
+    differential_capacitance: float = 0.0
+    output_resistance: float = 0.0
+
+
+@dataclass(frozen=True)
+class OpAmp:
+    """An amplifier instance: ``nodes`` = (non-inverting input, inverting
+    input, output); the output is referred to ground."""
+
+    name: str
+    nodes: tuple[str, str, str]
+    model: OpAmpModel
+    origin: SourceLocation | None = field(default=None, compare=False, repr=False)
+
+
 Element = Union[
     Resistor,
     Capacitor,
@@ -153,6 +225,7 @@ Element = Union[
     VoltageControlledCurrentSource,
     CurrentControlledCurrentSource,
     CurrentControlledVoltageSource,
+    OpAmp,
 ]
 
 

@@ -70,6 +70,11 @@ class NoiseResult:
         samples more finely than the grid, and at 0 Hz), or None.
     integration_rel_error : the integrator's estimate of its relative error.
     notes : remarks for the user (defaults chosen, warnings), in order.
+    source_elements : (K,) the element each source belongs to (an amplifier
+        has several sources); empty means the same as ``source_names``.
+    source_resistor : the resistor noise figure is referred to, or None.
+    noise_figure_spectrum_dB : (F,) spot noise figure on the grid, or None.
+    noise_figure_dB : band-integrated noise figure, or None.
     """
 
     title: str
@@ -92,6 +97,10 @@ class NoiseResult:
     gain_peak: float | None = None
     integration_rel_error: float = 0.0
     notes: tuple[str, ...] = field(default=())
+    source_elements: tuple[str, ...] = ()
+    source_resistor: str | None = None
+    noise_figure_spectrum_dB: np.ndarray | None = None
+    noise_figure_dB: float | None = None
 
     def __post_init__(self) -> None:
         set_ = object.__setattr__
@@ -105,6 +114,9 @@ class NoiseResult:
         set_(self, "source_mechanisms", tuple(self.source_mechanisms))
         set_(self, "source_values", tuple(self.source_values))
         set_(self, "notes", tuple(self.notes))
+        set_(self, "source_elements", tuple(self.source_elements) or tuple(self.source_names))
+        if self.noise_figure_spectrum_dB is not None:
+            set_(self, "noise_figure_spectrum_dB", _frozen(self.noise_figure_spectrum_dB))
         k, f = len(self.source_names), len(self.frequency_Hz)
         if self.source_density.shape != (k, f):
             raise ValueError(f"source_density has shape {self.source_density.shape}, expected {(k, f)}")
@@ -162,6 +174,39 @@ class NoiseResult:
                 )
             )
         return tuple(rows)
+
+    def grouped(self, by: str) -> tuple[Contribution, ...]:
+        """The budget with rows merged by ``"element"`` or ``"mechanism"``,
+        largest first.  A merged row's ``value`` lists what it merged."""
+        if by == "source":
+            return self.contributions
+        if by not in ("element", "mechanism"):
+            raise ValueError(f"group by 'source', 'element' or 'mechanism', not {by!r}")
+        keys = self.source_elements if by == "element" else self.source_mechanisms
+        merged: dict[str, list[int]] = {}
+        for k, key in enumerate(keys):
+            merged.setdefault(key, []).append(k)
+        total = self.total_variance
+        rows = []
+        for key, members in merged.items():
+            variance = float(self.source_variance[members].sum())
+            if by == "element":
+                mechanism = "+".join(dict.fromkeys(self.source_mechanisms[k] for k in members))
+                value = self.source_values[members[0]]
+                element = key
+            else:
+                mechanism = key
+                value = f"{len(members)} source{'s' if len(members) > 1 else ''}"
+                element = key
+            rows.append((variance, element, mechanism, value))
+        rows.sort(key=lambda row: -row[0])
+        running = 0.0
+        out = []
+        for variance, element, mechanism, value in rows:
+            share = variance / total if total > 0 else 0.0
+            running += share
+            out.append(Contribution(element, mechanism, value, variance, share, min(running, 1.0)))
+        return tuple(out)
 
     @property
     def cumulative_rms(self) -> np.ndarray:
