@@ -33,6 +33,8 @@ __all__ = ["analyze", "output_density_function", "DEFAULT_TEMPERATURE_C", "DEFAU
 
 DEFAULT_TEMPERATURE_C = 27.0  # the trade's customary default, 300.15 K
 DEFAULT_POINTS_PER_DECADE = 20
+DEFAULT_FLICKER_LOW_HZ = 0.1  # low band edge when 1/f noise is present and no band is given
+T0_KELVIN = 290.0  # IEEE standard reference temperature for noise figure
 ZERO_CELSIUS_K = 273.15
 
 
@@ -46,6 +48,7 @@ class _Settings:
     points_per_decade: float
     temperature_K: float
     notes: tuple[str, ...]
+    band_defaulted: bool = False
 
 
 def _resolve(circuit, output, reference, input_source, band, points_per_decade, temperature_celsius) -> _Settings:
@@ -66,6 +69,7 @@ def _resolve(circuit, output, reference, input_source, band, points_per_decade, 
         input_source = card.input_source
 
     sweep = card.sweep if card is not None else None
+    band_defaulted = band is None and sweep is None
     if band is None:
         if sweep is not None:
             band = (sweep.start, sweep.stop)
@@ -98,7 +102,9 @@ def _resolve(circuit, output, reference, input_source, band, points_per_decade, 
     temperature_K = float(temperature_celsius) + ZERO_CELSIUS_K
     if not temperature_K > 0 or not math.isfinite(temperature_K):
         raise UsageError(f"temperature {temperature_celsius:g} °C is below absolute zero (-273.15 °C)")
-    return _Settings(output, reference, input_source, low, high, float(points_per_decade), temperature_K, tuple(notes))
+    return _Settings(
+        output, reference, input_source, low, high, float(points_per_decade), temperature_K, tuple(notes), band_defaulted
+    )
 
 
 class _Problem:
@@ -118,18 +124,35 @@ class _Problem:
     def has_input(self) -> bool:
         return self.input_vector is not None
 
-    def densities(self, frequency_Hz: np.ndarray) -> np.ndarray:
-        """(K [+1], F): output density per source (V²/Hz), then |H|² of the input."""
+    def transfer_power(self, frequency_Hz: np.ndarray) -> tuple[np.ndarray, np.ndarray | None]:
+        """|H_k(f)|² from every source (K, F), and |H_in(f)|² of the input (F,) or None."""
         z = adjoint_solutions(self.system, self.selector, frequency_Hz)  # (F, n)
-        gains = np.asarray(self.sources.injection.T @ z.T).T if len(self.sources) else np.zeros((z.shape[0], 0))
-        rows = (np.abs(gains) ** 2).T * self.sources.density(frequency_Hz)
-        if self.has_input:
-            rows = np.vstack([rows, np.abs(z @ self.input_vector)[None, :] ** 2])
-        return rows
+        gains = np.asarray(self.sources.injection.T @ z.T) if len(self.sources) else np.zeros((0, z.shape[0]))
+        signal = np.abs(z @ self.input_vector) ** 2 if self.has_input else None
+        return np.abs(gains) ** 2, signal
 
-    def groups(self) -> list[slice]:
+    def densities(self, frequency_Hz: np.ndarray, part: str = "full", extra_colored: bool = False) -> np.ndarray:
+        """Rows of output density (V²/Hz) at ``frequency_Hz``: every source's
+        ``part`` ("full", "white" or "colored"); then, with ``extra_colored``,
+        the 1/f part of each colored source again; then |H|² of the input."""
+        power, signal = self.transfer_power(frequency_Hz)
+        rows = [power * self.sources.density(frequency_Hz, part)]
+        if extra_colored:
+            colored = np.flatnonzero(self.sources.colored)
+            rows.append(power[colored] * self.sources.density(frequency_Hz, "colored")[colored])
+        if signal is not None:
+            rows.append(signal[None, :])
+        return np.vstack(rows)
+
+    def groups(self, extra_colored: bool = False) -> list[slice]:
+        """Row ranges judged together by the integrator, matching :meth:`densities`."""
         k = len(self.sources)
-        return [slice(0, k)] + ([slice(k, k + 1)] if self.has_input else [])
+        out = [slice(0, k)]
+        if extra_colored:
+            kc = int(np.count_nonzero(self.sources.colored))
+            out.append(slice(k, k + kc))
+            k += kc
+        return out + ([slice(k, k + 1)] if self.has_input else [])
 
     def poles_Hz(self) -> np.ndarray | None:
         if self.system.size > EXACT_LIMIT:
@@ -158,42 +181,67 @@ def analyze(
     band: tuple[float, float] | None = None,
     points_per_decade: float | None = None,
     temperature_celsius: float | None = None,
+    source_resistor: str | None = None,
 ) -> NoiseResult:
     """Output noise of ``circuit`` at v(output) - v(reference).
 
     ``band`` is (low, high) in Hz, high may be ``math.inf``; ``temperature_celsius``
     in °C.  Arguments left None come from the netlist's ``.noise``/``.temp``
-    cards, else defaults (0 Hz to infinity, 20 points/decade, 27 °C).
+    cards, else defaults (0 Hz to infinity -- from 0.1 Hz when there is 1/f
+    noise --, 20 points/decade, 27 °C).  ``source_resistor`` names the
+    resistor the noise figure is referred to (its noise taken at T0 = 290 K).
     """
     settings = _resolve(circuit, output, reference, input_source, band, points_per_decade, temperature_celsius)
     problem = _Problem(circuit, settings)
     notes = list(settings.notes)
     low, high = settings.low, settings.high
-    k = len(problem.sources)
+    sources = problem.sources
+    k = len(sources)
+    colored = bool(sources.colored.any())
+    if colored and low == 0.0:
+        if not settings.band_defaulted:
+            names = [s.name for s, c in zip(sources.sources, sources.colored) if c]
+            shown_names = ", ".join(names[:4]) + (f" and {len(names) - 4} more" if len(names) > 4 else "")
+            raise CircuitError(
+                f"the 1/f noise of {shown_names} integrated from 0 Hz is unbounded (its power grows "
+                "without limit as the band reaches down to DC): start the band above 0 Hz, "
+                "e.g. --band 0.1 HIGH"
+            )
+        low = DEFAULT_FLICKER_LOW_HZ
+        notes.append(
+            f"1/f noise present: the default band starts at {DEFAULT_FLICKER_LOW_HZ:g} Hz "
+            "(1/f noise integrated from 0 Hz is unbounded)"
+        )
     poles = _positive(problem.poles_Hz()) if (low == 0.0 or math.isinf(high)) else None
 
     if math.isinf(high):
-        exact = _exact_totals(problem)
+        exact = _exact_totals(problem)  # white parts, exact from 0 Hz to infinity
         top = _decade_ceil(poles.max() * 100) if poles.size else 1e9
         start = low if low > 0 else (_decade_floor(poles.min() / 100) if poles.size else top * 1e-9)
         top = max(top, start * 1e3)
         shown = integrate_band(
-            problem.densities, low, top, points_per_decade=settings.points_per_decade,
-            groups=problem.groups(), linear_below=start if low == 0.0 else None,
+            lambda f: problem.densities(f, "full", extra_colored=colored), low, top,
+            points_per_decade=settings.points_per_decade, groups=problem.groups(extra_colored=colored),
+            linear_below=start if low == 0.0 else None,
         )
         totals = exact
         if low > 0.0:
             below = integrate_band(
-                problem.densities, 0.0, low, points_per_decade=settings.points_per_decade,
+                lambda f: problem.densities(f, "white"), 0.0, low, points_per_decade=settings.points_per_decade,
                 groups=problem.groups(), linear_below=_linear_start(poles, low),
             )
             totals = exact - below.values
         totals = np.maximum(totals, 0.0)
-        rel_error = shown.rel_error if low > 0 else 0.0
+        if colored:  # the 1/f parts, integrated numerically over [low, top]; above top they are negligible
+            totals = totals.copy()
+            totals[np.flatnonzero(sources.colored)] += shown.values[k : k + int(sources.colored.sum())]
+        rel_error = shown.rel_error if (low > 0 or colored) else 0.0
         notes.append(
             f"spectrum shown up to {format_quantity(top, 'Hz')} (100x the highest pole); "
             "the total is exact to infinite bandwidth"
+            + (" for white noise; 1/f parts are integrated up to there" if colored else "")
         )
+        gain_row = k + (int(sources.colored.sum()) if colored else 0)
     else:
         shown = integrate_band(
             problem.densities, low, high, points_per_decade=settings.points_per_decade,
@@ -201,18 +249,21 @@ def analyze(
         )
         totals = shown.values
         rel_error = shown.rel_error
+        gain_row = k
     if rel_error > 1e-4:
         notes.append(f"band integral converged only to about {rel_error:.1e} relative; raise --points")
 
     source_variance = totals[:k]
+    source_density = shown.grid_density[:k]
     gain = gain_integral = gain_peak = None
     if problem.has_input:
-        gain = np.sqrt(shown.grid_density[k])
-        gain_peak = math.sqrt(shown.sample_max[k])  # every sample of `shown` lies in the band
-        gain_integral = float(totals[k]) if math.isfinite(totals[k]) else None
+        gain = np.sqrt(shown.grid_density[gain_row])
+        gain_peak = math.sqrt(shown.sample_max[gain_row])  # every sample of `shown` lies in the band
+        gain_integral = float(totals[-1]) if math.isfinite(totals[-1]) else None
         if gain_integral is None:
             notes.append("the signal path has no roll-off: its noise bandwidth is unbounded")
-    _refuse_non_finite(source_variance, shown.grid_density[:k])
+    _refuse_non_finite(source_variance, source_density)
+    figure = _noise_figure(problem, source_resistor, source_variance, source_density) if source_resistor else None
     return NoiseResult(
         title=circuit.title,
         temperature_K=settings.temperature_K,
@@ -223,15 +274,19 @@ def analyze(
         band_low_Hz=low,
         band_high_Hz=high,
         frequency_Hz=shown.grid_Hz,
-        source_names=tuple(s.element for s in problem.sources.sources),
-        source_mechanisms=tuple(s.mechanism for s in problem.sources.sources),
-        source_values=tuple(s.value for s in problem.sources.sources),
-        source_density=shown.grid_density[:k],
+        source_names=tuple(s.name for s in sources.sources),
+        source_mechanisms=tuple(s.mechanism for s in sources.sources),
+        source_values=tuple(s.value for s in sources.sources),
+        source_elements=tuple(s.element for s in sources.sources),
+        source_density=source_density,
         source_variance=source_variance,
         cumulative_variance=shown.grid_cumulative[0],
         gain=gain,
         gain_squared_integral=gain_integral,
         gain_peak=gain_peak,
+        source_resistor=figure.resistor if figure else None,
+        noise_figure_spectrum_dB=figure.spectrum_dB if figure else None,
+        noise_figure_dB=figure.integrated_dB if figure else None,
         integration_rel_error=rel_error,
         notes=tuple(notes),
     )
@@ -258,7 +313,7 @@ def _exact_totals(problem: _Problem) -> np.ndarray:
         density = np.append(density, 1.0)
     totals = infinite_band_totals(system.G.toarray(), system.C.toarray(), problem.selector, columns, density)
     k = len(problem.sources)
-    unbounded = [problem.sources.sources[i].element for i in np.flatnonzero(np.isinf(totals.variance[:k]))]
+    unbounded = [problem.sources.sources[i].name for i in np.flatnonzero(np.isinf(totals.variance[:k]))]
     if unbounded:
         shown = ", ".join(unbounded[:5]) + (f" and {len(unbounded) - 5} more" if len(unbounded) > 5 else "")
         raise CircuitError(
@@ -290,3 +345,37 @@ def output_density_function(
         return problem.densities(np.atleast_1d(np.asarray(frequency_Hz, dtype=float))).sum(axis=0)
 
     return density
+
+
+@dataclass(frozen=True)
+class _NoiseFigure:
+    resistor: str
+    spectrum_dB: np.ndarray
+    integrated_dB: float
+
+
+def _noise_figure(problem: _Problem, name: str, variance: np.ndarray, density: np.ndarray) -> _NoiseFigure:
+    """Noise figure referred to resistor ``name``, its noise taken at T0 = 290 K
+    whatever the circuit's temperature (IEEE definition; Friis 1944)."""
+    sources = problem.sources.sources
+    key = ck.name_key(name)
+    try:
+        element = problem.system.circuit.element(name)
+    except KeyError:
+        raise UsageError(f"source resistor '{name}' does not exist in the circuit") from None
+    if not isinstance(element, ck.Resistor):
+        raise UsageError(f"source resistor '{name}' is a {type(element).__name__}, not a resistor")
+    found = [i for i, s in enumerate(sources) if s.mechanism == "thermal" and ck.name_key(s.element) == key]
+    if not found or variance[found[0]] <= 0.0:
+        raise CircuitError(
+            f"the noise figure needs the thermal noise of '{name}' to reach the output, and it does not "
+            "(marked noiseless, or not connected to the signal path)"
+        )
+    i = found[0]
+    to_t0 = T0_KELVIN / sources[i].temperature_K
+    source_power = variance[i] * to_t0
+    total = float(variance.sum()) - variance[i] + source_power
+    source_density = density[i] * to_t0
+    with np.errstate(divide="ignore", invalid="ignore"):
+        spot = 10.0 * np.log10((density.sum(axis=0) - density[i] + source_density) / source_density)
+    return _NoiseFigure(element.name, spot, 10.0 * math.log10(total / source_power))

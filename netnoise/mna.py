@@ -18,7 +18,15 @@ E          KCL as L;  branch: v_a - v_b - gain·(v_c - v_d) = 0
 G          KCL rows a, b: ±gm at columns c, d
 F          KCL rows a, b: ±gain at the controlling V's branch column
 H          KCL as L;  branch: v_a - v_b - r·i_ctrl = 0
+amplifier  internal node p1: gm·(v+ - v-) into g1 ∥ c1 (DC gain gm/g1 = A0,
+           pole GBW/A0); optional p2: unity-gain g2 ∥ c2 stage (second pole);
+           output branch: v_out - v_p - r_out·i_k = 0; input capacitances in C
 =========  =====================================================================
+
+Amplifier internal unknowns (``internal_index``, keys ``"<name>#p1"``,
+``"<name>#p2"``) come after the branch currents.  Their conductances are
+``AMPLIFIER_STAGE_CONDUCTANCE``; a unit noise voltage at the amplifier's
+input is the current ``gm`` injected at p1.
 
 The sign of the C entries of branch rows is negative (``-L``), so the whole
 system is ``G + sC`` with ``s = j2πf``.
@@ -37,7 +45,10 @@ from .errors import CircuitError
 
 __all__ = ["MnaSystem", "assemble", "BRANCH_ELEMENTS"]
 
+AMPLIFIER_STAGE_CONDUCTANCE = 1e-3  # S, internal pole nodes of the amplifier model
+
 BRANCH_ELEMENTS = (
+    ck.OpAmp,
     ck.VoltageSource,
     ck.VoltageControlledVoltageSource,
     ck.CurrentControlledVoltageSource,
@@ -68,6 +79,12 @@ class MnaSystem:
     node_index: dict[str, int]  # canonical node name -> row; ground absent
     branch_index: dict[str, int]  # name_key(element) -> row of its branch current
     unknowns: tuple[str, ...] = field(default=())
+    internal_index: dict[str, int] = field(default_factory=dict)  # "<name>#p1" -> row
+
+    def amplifier_input_transconductance(self, amplifier: ck.OpAmp) -> float:
+        """gm of an amplifier's first stage (S): a unit input noise voltage
+        is the current gm injected at its internal node p1."""
+        return amplifier.model.open_loop_gain * AMPLIFIER_STAGE_CONDUCTANCE
 
     @property
     def size(self) -> int:
@@ -133,7 +150,14 @@ def assemble(circuit: ck.Circuit) -> MnaSystem:
         if isinstance(element, BRANCH_ELEMENTS):
             branch_index[ck.name_key(element.name)] = n_nodes + len(branch_index)
             labels.append(f"i({element.name})")
-    n = n_nodes + len(branch_index)
+    internal_index: dict[str, int] = {}
+    for element in circuit.elements:
+        if isinstance(element, ck.OpAmp):
+            stages = ("p1", "p2") if element.model.second_pole_Hz else ("p1",)
+            for stage in stages:
+                internal_index[f"{ck.name_key(element.name)}#{stage}"] = n_nodes + len(branch_index) + len(internal_index)
+                labels.append(f"v({element.name}#{stage})")
+    n = n_nodes + len(branch_index) + len(internal_index)
 
     g_rows: list[int] = []
     g_cols: list[int] = []
@@ -183,7 +207,7 @@ def assemble(circuit: ck.Circuit) -> MnaSystem:
     for element in circuit.elements:
         if isinstance(element, ck.MutualCoupling):
             continue
-        a, b = (node(x) for x in element.nodes)
+        a, b = (node(x) for x in element.nodes[:2])
         k = branch_index.get(ck.name_key(element.name), -1)
         if isinstance(element, ck.Resistor):
             _check_resistance(element)
@@ -218,6 +242,8 @@ def assemble(circuit: ck.Circuit) -> MnaSystem:
             kc = controlling_branch(element)
             branch_kcl(a, b, k)
             g(k, kc, -element.transresistance)
+        elif isinstance(element, ck.OpAmp):
+            _stamp_amplifier(element, [node(x) for x in element.nodes], k, internal_index, g, cap, admittance)
         else:  # pragma: no cover - the elaborator only produces the types above
             raise CircuitError(f"{element.name}: element type {type(element).__name__} is not supported")
 
@@ -237,7 +263,36 @@ def assemble(circuit: ck.Circuit) -> MnaSystem:
         node_index=node_index,
         branch_index=branch_index,
         unknowns=tuple(labels),
+        internal_index=internal_index,
     )
+
+
+def _stamp_amplifier(element: ck.OpAmp, pins: list[int], k: int, internal_index, g, cap, admittance) -> None:
+    """The amplifier macro-model; see the stamp table in the module docstring."""
+    model = element.model
+    plus, minus, out = pins
+    key = ck.name_key(element.name)
+    g1 = AMPLIFIER_STAGE_CONDUCTANCE
+    gm = model.open_loop_gain * g1
+    p1 = internal_index[f"{key}#p1"]
+    g(p1, p1, g1)
+    cap(p1, p1, g1 * model.open_loop_gain / (2 * np.pi * model.gain_bandwidth_Hz))  # pole at GBW/A0
+    g(p1, plus, -gm)  # current gm·(v+ - v-) flows into p1
+    g(p1, minus, gm)
+    last = p1
+    if model.second_pole_Hz:
+        p2 = internal_index[f"{key}#p2"]
+        g(p2, p2, g1)
+        cap(p2, p2, g1 / (2 * np.pi * model.second_pole_Hz))
+        g(p2, p1, -g1)
+        last = p2
+    g(out, k, 1.0)  # KCL: the output branch current leaves node out into the amplifier
+    g(k, out, 1.0)
+    g(k, last, -1.0)
+    g(k, k, -model.output_resistance)
+    for pin in (plus, minus):
+        admittance(cap, pin, -1, model.input_capacitance)
+    admittance(cap, plus, minus, model.differential_capacitance)
 
 
 def _check_resistance(element: ck.Resistor) -> None:

@@ -2,22 +2,33 @@
 
 Each source ``k`` is a column ``B[:, k]`` of the injection matrix (a unit
 noise current between two nodes, or a unit noise voltage in a branch row)
-with a one-sided power density ``S_k(f)`` (A²/Hz or V²/Hz).  The output
-density it causes is ``|zᵀ B[:, k]|² · S_k(f)`` where ``z`` solves the
-adjoint system (see :mod:`netnoise.transfer`).
+with a one-sided power density ``S_k(f) = W_k + F_k · (1 Hz / f)^α_k``
+(A²/Hz or V²/Hz): a white level ``W_k`` and a 1/f^α part of density
+``F_k`` at 1 Hz (a part with corner fc has ``F = W · fc^α``).  The output density it causes is ``|zᵀ B[:, k]|² · S_k(f)``
+where ``z`` solves the adjoint system (see :mod:`netnoise.transfer`).
+Sources are uncorrelated.
 
-Mechanisms implemented here:
+Mechanisms (the strings are fixed; they appear in the JSON):
 
-* ``thermal`` -- a resistor's Johnson–Nyquist noise: a current source of
-  density 4kT/R in parallel with it (Johnson 1928; Nyquist 1928).
+* ``thermal`` -- a resistor's Johnson–Nyquist noise, a current 4kT/R in
+  parallel with it (Johnson 1928; Nyquist 1928), at the resistor's own
+  temperature if it has one; none for a resistor marked noiseless.
+* ``excess`` -- a resistor's 1/f current noise from its noise index NI (dB re
+  1 µV per volt of DC across it per decade): a voltage density
+  (NI_lin · V_dc)² / (ln 10 · f) in series, i.e. that over R² as a current.
+* ``shot`` -- 2q|I_dc| for a current source marked as a junction current
+  (Schottky 1918).
+* ``source`` -- an explicit density given to an independent V or I source.
+* ``amplifier-voltage`` / ``amplifier-current`` -- an amplifier's input
+  voltage noise (at its first stage, equivalent to a source in series with
+  its input) and the current noise of each input to ground.
 
-Reactive elements, controlled sources and independent sources are
-noiseless.  New mechanisms add a function that yields :class:`NoiseSource`
-objects and register it in :data:`MECHANISMS`.
+Reactive elements and controlled sources are noiseless.
 """
 
 from __future__ import annotations
 
+import math
 from dataclasses import dataclass
 from typing import Callable, Iterator
 
@@ -29,25 +40,33 @@ from . import circuit as ck
 from .engformat import format_quantity
 from .mna import MnaSystem
 
-__all__ = ["NoiseSource", "NoiseSources", "collect_noise_sources", "BOLTZMANN"]
+__all__ = ["NoiseSource", "NoiseSources", "NoiseContext", "collect_noise_sources", "MECHANISMS", "BOLTZMANN"]
 
 BOLTZMANN = constants.Boltzmann  # J/K, exact SI value
+ELEMENTARY_CHARGE = constants.e  # C, exact SI value
+ZERO_CELSIUS_K = 273.15
 
 
 @dataclass(frozen=True)
 class NoiseSource:
     """One noise generator: where it enters the equations and how strong it is.
 
-    ``injection`` lists (row, coefficient) pairs of its unit excitation;
-    ``white_density`` is its one-sided density (A²/Hz or V²/Hz), constant in
-    frequency for the mechanisms implemented so far.
+    ``name`` labels its row in the budget (the element name, with a suffix
+    where one element has several sources); ``element`` is the element.
+    ``injection`` lists (row, coefficient) pairs of its unit excitation.
+    Density ``white_density + flicker_at_1Hz · (1 Hz / f)^slope``, in A²/Hz
+    or V²/Hz as its injection is a current or a voltage.
     """
 
+    name: str
     element: str
     mechanism: str
     value: str
     injection: tuple[tuple[int, float], ...]
     white_density: float
+    flicker_at_1Hz: float = 0.0
+    slope: float = 1.0
+    temperature_K: float | None = None  # thermal sources: the temperature used
 
 
 @dataclass(frozen=True, eq=False)
@@ -57,16 +76,51 @@ class NoiseSources:
     sources: tuple[NoiseSource, ...]
     injection: sp.csc_matrix  # (n, K)
     white_density: np.ndarray  # (K,)
+    flicker_at_1Hz: np.ndarray  # (K,)
+    slope: np.ndarray  # (K,)
 
     def __len__(self) -> int:
         return len(self.sources)
 
-    def density(self, frequency_Hz: np.ndarray) -> np.ndarray:
-        """(K, F) one-sided source densities at the given frequencies."""
-        return np.broadcast_to(self.white_density[:, None], (len(self), len(frequency_Hz)))
+    @property
+    def colored(self) -> np.ndarray:
+        """(K,) True for sources with a 1/f part."""
+        return self.flicker_at_1Hz > 0
+
+    def density(self, frequency_Hz: np.ndarray, part: str = "full") -> np.ndarray:
+        """(K, F) one-sided source densities: ``part`` "full", "white" (the
+        white level only) or "colored" (the 1/f part only; infinite at 0 Hz)."""
+        if part not in ("full", "white", "colored"):
+            raise ValueError(f"part must be 'full', 'white' or 'colored', not {part!r}")
+        f = np.asarray(frequency_Hz, dtype=float)
+        white = np.broadcast_to(self.white_density[:, None], (len(self), f.size))
+        if part == "white":
+            return white
+        colored = np.zeros((len(self), f.size))
+        rows = np.flatnonzero(self.colored)
+        if rows.size:
+            with np.errstate(divide="ignore"):
+                inverse_f = np.where(f > 0, 1.0 / np.where(f > 0, f, 1.0), np.inf)
+            colored[rows] = self.flicker_at_1Hz[rows, None] * inverse_f[None, :] ** self.slope[rows, None]
+        return colored if part == "colored" else white + colored
 
 
-def _current_between(system: MnaSystem, nodes: tuple[str, str]) -> tuple[tuple[int, float], ...]:
+@dataclass(frozen=True, eq=False)
+class NoiseContext:
+    """What the mechanisms need: the system, the analysis temperature (K)
+    and, on demand, the DC solution vector."""
+
+    system: MnaSystem
+    temperature_K: float
+    dc_solution: Callable[[], np.ndarray]
+
+    def dc_voltage(self, nodes: tuple[str, str]) -> float:
+        x = self.dc_solution()
+        a, b = (self.system.node_row(n) for n in nodes)
+        return float((x[a] if a >= 0 else 0.0) - (x[b] if b >= 0 else 0.0))
+
+
+def _current_between(system: MnaSystem, nodes) -> tuple[tuple[int, float], ...]:
     rows = []
     for node, sign in zip(nodes, (1.0, -1.0)):
         row = system.node_row(node)
@@ -75,28 +129,156 @@ def _current_between(system: MnaSystem, nodes: tuple[str, str]) -> tuple[tuple[i
     return tuple(rows)
 
 
-def thermal_sources(system: MnaSystem, temperature_K: float) -> Iterator[NoiseSource]:
-    """Johnson–Nyquist current noise 4kT/R of every resistor."""
-    for element in system.circuit.elements:
-        if isinstance(element, ck.Resistor):
-            injection = _current_between(system, element.nodes)
+def thermal_sources(ctx: NoiseContext) -> Iterator[NoiseSource]:
+    """Johnson–Nyquist current noise 4kT/R of every resistor not marked noiseless."""
+    for element in ctx.system.circuit.elements:
+        if isinstance(element, ck.Resistor) and not element.noiseless:
+            injection = _current_between(ctx.system, element.nodes)
             if not injection:  # both ends on ground: it cannot reach the output
                 continue
+            t = ctx.temperature_K if element.temperature_celsius is None else element.temperature_celsius + ZERO_CELSIUS_K
             yield NoiseSource(
+                name=element.name,
                 element=element.name,
                 mechanism="thermal",
                 value=format_quantity(element.resistance, "Ω"),
                 injection=injection,
-                white_density=4.0 * BOLTZMANN * temperature_K / element.resistance,
+                white_density=4.0 * BOLTZMANN * t / element.resistance,
+                temperature_K=t,
             )
 
 
-MECHANISMS: tuple[Callable[[MnaSystem, float], Iterator[NoiseSource]], ...] = (thermal_sources,)
+def excess_sources(ctx: NoiseContext) -> Iterator[NoiseSource]:
+    """1/f excess noise of resistors with a noise index, from their DC voltage."""
+    for element in ctx.system.circuit.elements:
+        if isinstance(element, ck.Resistor) and element.noise_index_dB is not None and not element.noiseless:
+            injection = _current_between(ctx.system, element.nodes)
+            v_dc = ctx.dc_voltage(element.nodes)
+            if not injection or v_dc == 0.0:
+                continue
+            per_volt = 10.0 ** (element.noise_index_dB / 20.0) * 1e-6  # V rms per V of DC, per decade
+            # voltage density K/f with ∫_f^{10f} K/f df = K·ln 10 = (per_volt·V_dc)²;
+            # in parallel as a current: K/R²
+            k_voltage = (per_volt * v_dc) ** 2 / math.log(10.0)
+            yield NoiseSource(
+                name=f"{element.name} (excess)",
+                element=element.name,
+                mechanism="excess",
+                value=f"{format_quantity(element.resistance, 'Ω')}, NI {element.noise_index_dB:g} dB at {format_quantity(abs(v_dc), 'V')}",
+                injection=injection,
+                white_density=0.0,
+                flicker_at_1Hz=k_voltage / element.resistance**2,
+            )
 
 
-def collect_noise_sources(system: MnaSystem, temperature_K: float) -> NoiseSources:
-    """Every noise source of the circuit at ``temperature_K`` kelvin."""
-    sources = tuple(s for mechanism in MECHANISMS for s in mechanism(system, temperature_K))
+def shot_sources(ctx: NoiseContext) -> Iterator[NoiseSource]:
+    """Shot noise 2q|I| of current sources marked as junction currents (Schottky 1918)."""
+    for element in ctx.system.circuit.elements:
+        if isinstance(element, ck.CurrentSource) and element.shot:
+            injection = _current_between(ctx.system, element.nodes)
+            if injection and element.dc != 0.0:
+                yield NoiseSource(
+                    name=element.name,
+                    element=element.name,
+                    mechanism="shot",
+                    value=format_quantity(element.dc, "A") + " DC",
+                    injection=injection,
+                    white_density=2.0 * ELEMENTARY_CHARGE * abs(element.dc),
+                )
+
+
+def _spec_density(spec: ck.NoiseSpec) -> tuple[float, float, float]:
+    white = spec.white**2
+    return white, white * spec.corner_Hz**spec.slope if spec.corner_Hz > 0 else 0.0, spec.slope
+
+
+def explicit_sources(ctx: NoiseContext) -> Iterator[NoiseSource]:
+    """Densities given in the netlist to independent V (in series) and I sources."""
+    for element in ctx.system.circuit.elements:
+        spec = getattr(element, "noise", None)
+        if spec is None or spec.white <= 0.0:
+            continue
+        if isinstance(element, ck.VoltageSource):
+            injection = ((ctx.system.branch_index[ck.name_key(element.name)], 1.0),)
+            unit = "V/√Hz"
+        else:
+            injection = _current_between(ctx.system, element.nodes)
+            unit = "A/√Hz"
+        white, flicker, slope = _spec_density(spec)
+        corner = f", corner {format_quantity(spec.corner_Hz, 'Hz')}" if spec.corner_Hz > 0 else ""
+        shot_too = isinstance(element, ck.CurrentSource) and element.shot
+        yield NoiseSource(
+            name=f"{element.name} (noise)" if shot_too else element.name,
+            element=element.name,
+            mechanism="source",
+            value=format_quantity(spec.white, unit) + corner,
+            injection=injection,
+            white_density=white,
+            flicker_at_1Hz=flicker,
+            slope=slope,
+        )
+
+
+def amplifier_sources(ctx: NoiseContext) -> Iterator[NoiseSource]:
+    """Input voltage noise and the two input current noises of each amplifier."""
+    system = ctx.system
+    for element in system.circuit.elements:
+        if not isinstance(element, ck.OpAmp):
+            continue
+        model = element.model
+        if model.voltage_noise > 0:
+            white = model.voltage_noise**2
+            p1 = system.internal_index[f"{ck.name_key(element.name)}#p1"]
+            yield NoiseSource(
+                name=f"{element.name} (voltage)",
+                element=element.name,
+                mechanism="amplifier-voltage",
+                value=f"{model.name}: {format_quantity(model.voltage_noise, 'V/√Hz')}",
+                injection=((p1, system.amplifier_input_transconductance(element)),),
+                white_density=white,
+                flicker_at_1Hz=white * model.voltage_noise_corner_Hz,
+            )
+        if model.current_noise > 0:
+            white = model.current_noise**2
+            for pin, label in zip(element.nodes[:2], ("in+", "in-")):
+                injection = _current_between(system, (pin, ck.GROUND))
+                if injection:
+                    yield NoiseSource(
+                        name=f"{element.name} ({label})",
+                        element=element.name,
+                        mechanism="amplifier-current",
+                        value=f"{model.name}: {format_quantity(model.current_noise, 'A/√Hz')}",
+                        injection=injection,
+                        white_density=white,
+                        flicker_at_1Hz=white * model.current_noise_corner_Hz,
+                    )
+
+
+MECHANISMS: tuple[Callable[[NoiseContext], Iterator[NoiseSource]], ...] = (
+    thermal_sources,
+    excess_sources,
+    shot_sources,
+    explicit_sources,
+    amplifier_sources,
+)
+
+
+def collect_noise_sources(
+    system: MnaSystem, temperature_K: float, dc_solution: Callable[[], np.ndarray] | None = None
+) -> NoiseSources:
+    """Every noise source of the circuit at ``temperature_K`` kelvin.
+
+    ``dc_solution`` returns the DC solution vector; it is called only if a
+    mechanism needs it (excess noise).
+    """
+    if dc_solution is None:
+        from .dc import solve_operating_point
+
+        def dc_solution():
+            return solve_operating_point(system)
+
+    ctx = NoiseContext(system=system, temperature_K=temperature_K, dc_solution=_once(dc_solution))
+    sources = tuple(s for mechanism in MECHANISMS for s in mechanism(ctx))
     rows, cols, vals = [], [], []
     for k, source in enumerate(sources):
         for row, coefficient in source.injection:
@@ -104,6 +286,27 @@ def collect_noise_sources(system: MnaSystem, temperature_K: float) -> NoiseSourc
             cols.append(k)
             vals.append(coefficient)
     injection = sp.csc_matrix((vals, (rows, cols)), shape=(system.size, len(sources)))
-    density = np.array([s.white_density for s in sources], dtype=float)
-    density.setflags(write=False)
-    return NoiseSources(sources=sources, injection=injection, white_density=density)
+
+    def column(attribute):
+        out = np.array([getattr(s, attribute) for s in sources], dtype=float)
+        out.setflags(write=False)
+        return out
+
+    return NoiseSources(
+        sources=sources,
+        injection=injection,
+        white_density=column("white_density"),
+        flicker_at_1Hz=column("flicker_at_1Hz"),
+        slope=column("slope"),
+    )
+
+
+def _once(function):
+    cache = []
+
+    def wrapper():
+        if not cache:
+            cache.append(function())
+        return cache[0]
+
+    return wrapper

@@ -67,6 +67,8 @@ def check_topology(circuit: ck.Circuit) -> None:
     for element in circuit.elements:
         if isinstance(element, _DC_CONDUCTING):
             dc.union(*element.nodes)
+        elif isinstance(element, ck.OpAmp):  # its output is a voltage source to ground
+            dc.union(element.nodes[2], ck.GROUND)
     ground = dc.find(ck.GROUND)
     floating = [node for node in nodes if dc.find(node) != ground]
     if floating:
@@ -98,15 +100,15 @@ def _check_connected(circuit: ck.Circuit) -> None:
 def _check_voltage_loops(circuit: ck.Circuit) -> None:
     loops = _DisjointSets()
     for element in circuit.elements:
-        if isinstance(element, _VOLTAGE_DEFINING):
-            a, b = element.nodes
+        if isinstance(element, (*_VOLTAGE_DEFINING, ck.OpAmp)):
+            a, b = (element.nodes[2], ck.GROUND) if isinstance(element, ck.OpAmp) else element.nodes
             if a == b or not loops.union(a, b):
                 members = [
                     e.name for e in circuit.elements
-                    if isinstance(e, _VOLTAGE_DEFINING) and loops.find(e.nodes[0]) == loops.find(a)
+                    if isinstance(e, (*_VOLTAGE_DEFINING, ck.OpAmp)) and loops.find(e.nodes[0 if not isinstance(e, ck.OpAmp) else 2]) == loops.find(a)
                 ]
                 raise CircuitError(
-                    f"{element.name} closes a loop of voltage sources and/or inductors "
+                    f"{element.name} closes a loop of voltage sources, amplifier outputs and/or inductors "
                     f"({', '.join(members[:8])}): at DC the loop's voltages over-determine each "
                     "other. Add the series resistance the real parts have"
                 )

@@ -79,3 +79,10 @@ def butterworth_ladder(order: int, r0: float, f3db: float):
             node = nxt
     parts.append(R("RL", node, "0", r0))
     return circuit(*parts, title=f"Butterworth n={order}"), node
+
+
+def opamp(name, plus, minus, out, **model):
+    """An amplifier instance with an OpAmpModel built from keyword arguments."""
+    from netnoise.circuit import OpAmp, OpAmpModel
+
+    return OpAmp(name=name, nodes=(plus, minus, out), model=OpAmpModel(name=model.pop("model_name", "test"), **model))
