@@ -17,7 +17,23 @@ JSON shape (fixed keys; more may be added, none removed)::
      "spectrum": {"frequency_Hz", "output_density_V_per_rtHz",
                   "cumulative_rms_V",
                   "input_referred_density_per_rtHz"},  # last one only with an input source
-     "notes": [...], "integration_rel_error"}
+     "notes": [...], "integration_rel_error",
+     "noise_figure_dB": float|null,            # null without a source resistor
+     "noise_figure_spectrum_dB": [float|null]|null,   # null entry: no signal gain there
+     "source_resistor": str|null}
+
+Keys present only when asked for (:func:`result_to_dict` arguments)::
+
+    "group_by": "element"|"mechanism",
+    "groups": [{"name", "sources": [...], "mechanisms": [...], "rms_V", "share",
+                "cumulative_share"}, ...],          # largest share first
+    "snr": {"signal_at", "signal_rms", "signal_unit", "signal_output_rms_V",
+            "noise_rms_V", "snr_dB"},               # snr_dB null when there is no noise
+    "adc": {"bits", "full_scale_V", "sample_rate_Hz", "nyquist_Hz", "lsb_V",
+            "quantisation_rms_V", "ideal_snr_dB", "analog_rms_V", "analog_snr_dB",
+            "combined_snr_dB", "enob_bits", "floor_set_by"},   # "analog chain"|"converter"
+    "operating_point": {"node_voltages_V": {node: V}, "element_currents_A": {name: A},
+                        "element_voltages_V": {name: V}}
 
 Shares sum to 1 (unless the circuit has no noise at all, when every share is
 0).  JSON may not hold NaN or infinity: a non-finite number anywhere is a
@@ -39,14 +55,19 @@ import os
 import sys
 import tempfile
 from collections.abc import Callable
-from typing import IO, Any
+from typing import IO, TYPE_CHECKING, Any
 
 import numpy as np
 
-from .errors import CircuitError
+from .errors import CircuitError, UsageError
+from .report import enob_bits
 from .result import NoiseResult
 
-__all__ = ["result_to_dict", "write_json", "write_csv", "csv_header", "atomic_write"]
+if TYPE_CHECKING:  # pragma: no cover
+    from .dc import OperatingPoint
+    from .figures import AdcComparison, SignalToNoise
+
+__all__ = ["result_to_dict", "to_json", "to_csv", "write_json", "write_csv", "csv_header", "atomic_write", "NOISE_FIGURE_COLUMN"]
 
 
 # --- atomic file writing ----------------------------------------------------
@@ -96,11 +117,92 @@ def _optional(value: float | None) -> float | None:
     return None if value is None else float(value)
 
 
-def result_to_dict(result: NoiseResult) -> dict[str, Any]:
+def _finite_or_none(value: float) -> float | None:
+    """An infinite figure that means "unbounded" (an SNR with no noise) as null."""
+    return float(value) if not math.isinf(value) else None
+
+
+def _noise_figure_spectrum(result: NoiseResult) -> list[float | None] | None:
+    spectrum = result.noise_figure_spectrum_dB
+    if spectrum is None:
+        return None
+    # +inf: no signal gain at that frequency -> null; NaN and -inf are refused by _check_finite
+    return [None if x == math.inf else float(x) for x in np.asarray(spectrum, dtype=float)]
+
+
+def _groups(result: NoiseResult, group_by: str) -> list[dict[str, Any]]:
+    keys = result.source_elements if group_by == "element" else result.source_mechanisms
+    rows = []
+    for c in result.grouped(group_by):
+        members = [k for k, key in enumerate(keys) if key == c.element]
+        rows.append(
+            {
+                "name": c.element,
+                "sources": [result.source_names[k] for k in members],
+                "mechanisms": list(dict.fromkeys(result.source_mechanisms[k] for k in members)),
+                "rms_V": c.rms_V,
+                "share": c.share,
+                "cumulative_share": c.cumulative_share,
+            }
+        )
+    return rows
+
+
+def _snr(result: NoiseResult, snr: SignalToNoise, signal_at: str) -> dict[str, Any]:
+    gain = result.gain_at_max or 0.0
+    at_input = signal_at == "input" and gain > 0.0
+    return {
+        "signal_at": signal_at,
+        "signal_rms": snr.signal_output_rms_V / gain if at_input else snr.signal_output_rms_V,
+        "signal_unit": (result.input_unit or "V") if at_input else "V",
+        "signal_output_rms_V": snr.signal_output_rms_V,
+        "noise_rms_V": snr.noise_rms_V,
+        "snr_dB": _finite_or_none(snr.snr_dB),
+    }
+
+
+def _adc(adc: AdcComparison) -> dict[str, Any]:
+    return {
+        "bits": adc.bits,
+        "full_scale_V": adc.full_scale_V,
+        "sample_rate_Hz": adc.sample_rate_Hz,
+        "nyquist_Hz": adc.sample_rate_Hz / 2.0,
+        "lsb_V": adc.lsb_V,
+        "quantisation_rms_V": adc.quantisation_rms_V,
+        "ideal_snr_dB": adc.ideal_snr_dB,
+        "analog_rms_V": adc.analog_rms_V,
+        "analog_snr_dB": _finite_or_none(adc.analog_snr_dB),
+        "combined_snr_dB": adc.combined_snr_dB,
+        "enob_bits": enob_bits(adc.combined_snr_dB),
+        "floor_set_by": adc.floor_set_by,
+    }
+
+
+def _operating_point(op: OperatingPoint) -> dict[str, Any]:
+    return {
+        "node_voltages_V": {k: float(v) for k, v in op.node_voltages.items()},
+        "element_currents_A": {k: float(v) for k, v in op.element_currents.items()},
+        "element_voltages_V": {k: float(v) for k, v in op.element_voltages.items()},
+    }
+
+
+def result_to_dict(
+    result: NoiseResult,
+    *,
+    group_by: str | None = None,
+    snr: SignalToNoise | None = None,
+    signal_at: str = "input",
+    adc: AdcComparison | None = None,
+    operating_point: OperatingPoint | None = None,
+) -> dict[str, Any]:
     """The result as a dict of plain Python values, ready for ``json.dumps``.
 
+    ``group_by`` (``"element"``/``"mechanism"``) adds ``group_by`` and
+    ``groups``; ``snr``, ``adc`` and ``operating_point`` add their keys.
     Raises :class:`CircuitError` if any number in it is NaN or infinite.
     """
+    if group_by not in (None, "source", "element", "mechanism"):
+        raise UsageError(f"group by 'element' or 'mechanism', not {group_by!r}")
     _check_stored_arrays(result)
     referred = result.input_referred_rms
     spectrum: dict[str, Any] = {
@@ -142,7 +244,19 @@ def result_to_dict(result: NoiseResult) -> dict[str, Any]:
         "spectrum": spectrum,
         "notes": list(result.notes),
         "integration_rel_error": float(result.integration_rel_error),
+        "noise_figure_dB": _optional(result.noise_figure_dB),
+        "noise_figure_spectrum_dB": _noise_figure_spectrum(result),
+        "source_resistor": result.source_resistor,
     }
+    if group_by in ("element", "mechanism"):
+        data["group_by"] = group_by
+        data["groups"] = _groups(result, group_by)
+    if snr is not None:
+        data["snr"] = _snr(result, snr, signal_at)
+    if adc is not None:
+        data["adc"] = _adc(adc)
+    if operating_point is not None:
+        data["operating_point"] = _operating_point(operating_point)
     _check_finite(data, "result")
     return data
 
@@ -178,14 +292,16 @@ def _check_finite(value: Any, where: str) -> None:
 
 
 # --- JSON -------------------------------------------------------------------
-def to_json(result: NoiseResult) -> str:
-    """The JSON text (UTF-8 friendly, indented, ending with a newline)."""
-    return json.dumps(result_to_dict(result), indent=2, ensure_ascii=False, allow_nan=False) + "\n"
+def to_json(result: NoiseResult, **extras: Any) -> str:
+    """The JSON text (UTF-8 friendly, indented, ending with a newline);
+    ``extras`` are :func:`result_to_dict`'s keyword arguments."""
+    return json.dumps(result_to_dict(result, **extras), indent=2, ensure_ascii=False, allow_nan=False) + "\n"
 
 
-def write_json(result: NoiseResult, path: str | os.PathLike) -> None:
-    """Write the JSON document to ``path``, or to standard output for ``"-"``."""
-    text = to_json(result)  # build it first: a refusal writes nothing
+def write_json(result: NoiseResult, path: str | os.PathLike, **extras: Any) -> None:
+    """Write the JSON document to ``path``, or to standard output for ``"-"``;
+    ``extras`` are :func:`result_to_dict`'s keyword arguments."""
+    text = to_json(result, **extras)  # build it first: a refusal writes nothing
     if os.fspath(path) == "-":
         sys.stdout.write(text)
         sys.stdout.flush()
@@ -194,12 +310,18 @@ def write_json(result: NoiseResult, path: str | os.PathLike) -> None:
 
 
 # --- CSV --------------------------------------------------------------------
+#: Name of the CSV column of the spot noise figure (last column, when present).
+NOISE_FIGURE_COLUMN = "spot_noise_figure_dB"
+
+
 def csv_header(result: NoiseResult) -> list[str]:
     """Column names: frequency, total output density, then each source in
-    rank order (all densities are output-referred amplitudes, V/√Hz)."""
-    return ["frequency_Hz", "total_output_V_per_rtHz"] + [
-        f"{c.element}_V_per_rtHz" for c in result.contributions
-    ]
+    rank order (all densities are output-referred amplitudes, V/√Hz), then
+    the spot noise figure in dB when the result has one."""
+    names = ["frequency_Hz", "total_output_V_per_rtHz"] + [f"{c.element}_V_per_rtHz" for c in result.contributions]
+    if result.noise_figure_spectrum_dB is not None:
+        names.append(NOISE_FIGURE_COLUMN)
+    return names
 
 
 def _csv_columns(result: NoiseResult) -> np.ndarray:
@@ -214,13 +336,22 @@ def _csv_columns(result: NoiseResult) -> np.ndarray:
 
 
 def to_csv(result: NoiseResult) -> str:
-    """The CSV text: one header line, then one row per grid frequency."""
+    """The CSV text: one header line, then one row per grid frequency.
+
+    A spot noise figure cell is empty where the signal gain is zero (the
+    figure is unbounded there); NaN anywhere is refused."""
     table = _csv_columns(result)
+    figure = _noise_figure_spectrum(result)
+    if figure is not None and any(x is not None and not math.isfinite(x) for x in figure):
+        raise CircuitError("cannot export CSV: the spot noise figure holds a NaN or -inf value")
     buffer = io.StringIO()
     writer = csv.writer(buffer, lineterminator="\n")
     writer.writerow(csv_header(result))
-    for row in table:
-        writer.writerow([repr(float(x)) for x in row])
+    for i, row in enumerate(table):
+        cells = [repr(float(x)) for x in row]
+        if figure is not None:
+            cells.append("" if figure[i] is None else repr(figure[i]))
+        writer.writerow(cells)
     return buffer.getvalue()
 
 

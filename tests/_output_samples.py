@@ -138,3 +138,59 @@ def rc_unbounded(resistance=1e3, capacitance=1e-9, kelvin=300.0) -> NoiseResult:
         gain_squared_integral=fc * math.pi / 2.0,
         integration_rel_error=2e-3,
     )
+
+
+#: front_end(): each source's output density as the thermal density of an
+#: equivalent resistance (Ω) at T0 = 290 K, times gain².  The source resistor
+#: holds half the total, so F = 2: NF = 10·log10(2) = 3.0103 dB and
+#: Te = T0·(F − 1) = 290 K (common practice: F = 2 is Te = T0).
+FRONT_END = (
+    # name,            element, mechanism,           value,     equivalent Ω
+    ("Rs", "Rs", "thermal", "50 Ω", 50.0),
+    ("Xu1 (voltage)", "Xu1", "amplifier-voltage", "LN1 model", 30.0),
+    ("Xu1 (in+)", "Xu1", "amplifier-current", "LN1 model", 10.0),
+    ("R1", "R1", "thermal", "10 Ω", 10.0),
+)
+
+
+def front_end(gain=10.0, low=10.0, high=100e3, with_noise_figure=True) -> NoiseResult:
+    """An amplifier stage fed from a 50 Ω source resistor, flat gain ``gain``
+    over [low, high], at T0 = 290 K, with a voltage input source VS.
+
+    Shares: Rs 50 %, Xu1 (voltage) 30 %, Xu1 (in+) 10 %, R1 10 % (equivalent
+    resistances over their sum); by element Rs 50 %, Xu1 40 %, R1 10 %; by
+    mechanism thermal 60 %, amplifier-voltage 30 %, amplifier-current 10 %.
+    """
+    kelvin = 290.0
+    f = np.geomspace(low, high, 4 * 10 + 1)  # 10 points per decade, decades on the grid
+    dens = np.array([thermal_density(ohms, kelvin) * gain**2 for *_, ohms in FRONT_END])
+    bw = high - low
+    total_over_source = dens.sum() / dens[0]
+    extra = {}
+    if with_noise_figure:
+        extra = dict(
+            source_resistor="Rs",
+            noise_figure_spectrum_dB=np.full(f.size, 10.0 * math.log10(total_over_source)),
+            noise_figure_dB=10.0 * math.log10(total_over_source),
+        )
+    return NoiseResult(
+        title="front end",
+        temperature_K=kelvin,
+        output_node="out",
+        reference_node="0",
+        input_source="VS",
+        input_unit="V",
+        band_low_Hz=low,
+        band_high_Hz=high,
+        frequency_Hz=f,
+        source_names=tuple(row[0] for row in FRONT_END),
+        source_mechanisms=tuple(row[2] for row in FRONT_END),
+        source_values=tuple(row[3] for row in FRONT_END),
+        source_elements=tuple(row[1] for row in FRONT_END),
+        source_density=np.repeat(dens[:, None], f.size, axis=1),
+        source_variance=dens * bw,
+        cumulative_variance=dens.sum() * (f - low),
+        gain=np.full(f.size, gain),
+        gain_squared_integral=gain**2 * bw,
+        **extra,
+    )

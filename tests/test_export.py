@@ -203,3 +203,113 @@ def test_atomic_write_failure_keeps_the_old_file(tmp_path):
         atomic_write(target, fail)
     assert target.read_text() == "old contents\n"
     assert os.listdir(tmp_path) == ["keep.csv"]
+
+
+# --- noise figure, groups, SNR, converter, DC (issue 3) ------------------------------
+MECHANISMS = {"thermal", "shot", "excess", "amplifier-voltage", "amplifier-current", "source"}  # fixed by issue 3
+
+
+@pytest.mark.parametrize("build", [samples.white, samples.resistors, samples.rc_unbounded, samples.many])
+def test_noise_figure_keys_are_null_without_a_source_resistor(build):
+    data = _parsed(build())
+    assert data["noise_figure_dB"] is None and data["noise_figure_spectrum_dB"] is None
+    assert data["source_resistor"] is None
+    for key in ("group_by", "groups", "snr", "adc", "operating_point"):
+        assert key not in data
+
+
+def test_noise_figure_keys():
+    result = samples.front_end()
+    data = _parsed(result)
+    # F = 2 by construction: NF = 10·log10(2) = 3.0103 dB (common practice)
+    assert data["noise_figure_dB"] == pytest.approx(3.0103, rel=1e-5)
+    assert data["noise_figure_spectrum_dB"] == pytest.approx([3.0103] * result.frequency_Hz.size, rel=1e-5)
+    assert data["source_resistor"] == "Rs"
+    # one row per source, each mechanism one of the fixed strings
+    assert [row["element"] for row in data["contributions"]] == ["Rs", "Xu1 (voltage)", "Xu1 (in+)", "R1"]
+    assert {row["mechanism"] for row in data["contributions"]} <= MECHANISMS
+
+
+def test_spot_noise_figure_without_gain_is_null_and_nan_is_refused():
+    base = samples.front_end()
+    nf = np.array(base.noise_figure_spectrum_dB)
+    nf[0] = math.inf
+    data = _parsed(dataclasses.replace(base, noise_figure_spectrum_dB=nf))
+    assert data["noise_figure_spectrum_dB"][0] is None
+    assert all(isinstance(x, float) for x in data["noise_figure_spectrum_dB"][1:])
+    nf[0] = math.nan
+    with pytest.raises(CircuitError, match="finite"):
+        result_to_dict(dataclasses.replace(base, noise_figure_spectrum_dB=nf))
+    with pytest.raises(CircuitError, match="finite"):
+        result_to_dict(dataclasses.replace(base, noise_figure_dB=math.inf))
+
+
+def test_groups_by_element_and_by_mechanism():
+    result = samples.front_end()
+    data = _parsed_with(result, group_by="element")
+    assert data["group_by"] == "element"
+    assert [(g["name"], g["sources"]) for g in data["groups"]] == [
+        ("Rs", ["Rs"]), ("Xu1", ["Xu1 (voltage)", "Xu1 (in+)"]), ("R1", ["R1"])
+    ]
+    assert data["groups"][1]["mechanisms"] == ["amplifier-voltage", "amplifier-current"]
+    # shares by equivalent resistance (sample construction): 50, 40, 10 %
+    assert [g["share"] for g in data["groups"]] == pytest.approx([0.5, 0.4, 0.1], rel=1e-12)
+    assert len(data["contributions"]) == 4  # the per-source rows stay
+    data = _parsed_with(result, group_by="mechanism")
+    assert [g["name"] for g in data["groups"]] == ["thermal", "amplifier-voltage", "amplifier-current"]
+    assert data["groups"][0]["sources"] == ["Rs", "R1"]
+    assert math.fsum(g["share"] for g in data["groups"]) == pytest.approx(1.0, rel=1e-12)
+    assert data["groups"][0]["rms_V"] == pytest.approx(math.sqrt(0.6) * result.total_rms, rel=1e-12)
+
+
+def _parsed_with(result, **extras) -> dict:
+    return json.loads(to_json(result, **extras), parse_constant=_refuse_constants)
+
+
+def test_snr_adc_and_operating_point_keys():
+    from netnoise.dc import OperatingPoint
+    from netnoise.figures import adc_comparison, signal_to_noise
+
+    result = samples.front_end()
+    snr = signal_to_noise(result, 1e-3, at="input")
+    adc = adc_comparison(result, bits=16, full_scale_V=4.096, sample_rate_Hz=1e6)
+    op = OperatingPoint({"out": 2.5}, {"R1": 1e-3}, {"R1": 1.0})
+    data = _parsed_with(result, snr=snr, signal_at="input", adc=adc, operating_point=op)
+    assert data["snr"]["signal_at"] == "input" and data["snr"]["signal_unit"] == "V"
+    assert data["snr"]["signal_rms"] == pytest.approx(1e-3, rel=1e-12)
+    assert data["snr"]["signal_output_rms_V"] == pytest.approx(10e-3, rel=1e-12)  # gain 10
+    assert data["snr"]["snr_dB"] == pytest.approx(20 * math.log10(10e-3 / result.total_rms), rel=1e-12)
+    assert data["adc"]["ideal_snr_dB"] == pytest.approx(98.1, rel=1e-3)  # 16 bits (common practice)
+    assert data["adc"]["lsb_V"] == pytest.approx(62.5e-6, rel=1e-12)  # 4.096 V / 65536 (arithmetic)
+    assert data["adc"]["nyquist_Hz"] == pytest.approx(500e3, rel=1e-12)
+    assert data["adc"]["floor_set_by"] in ("analog chain", "converter")
+    # ENOB of the ideal converter's own SNR is its resolution: (98.09 − 1.76)/6.02 ≈ 16.0 (common practice)
+    from netnoise.report import enob_bits
+
+    assert enob_bits(data["adc"]["ideal_snr_dB"]) == pytest.approx(16.0, rel=1e-3)
+    assert data["operating_point"] == {
+        "node_voltages_V": {"out": 2.5}, "element_currents_A": {"R1": 1e-3}, "element_voltages_V": {"R1": 1.0}
+    }
+
+
+def test_snr_without_noise_is_null_not_infinity():
+    from netnoise.figures import signal_to_noise
+
+    quiet = samples.white(source_density=np.zeros((1, 41)), source_variance=np.zeros(1), cumulative_variance=np.zeros(41))
+    data = _parsed_with(quiet, snr=signal_to_noise(quiet, 1.0, at="output"), signal_at="output")
+    assert data["snr"]["snr_dB"] is None
+
+
+def test_csv_spot_noise_figure_column(tmp_path):
+    base = samples.front_end()
+    nf = np.array(base.noise_figure_spectrum_dB)
+    nf[2] = math.inf  # no signal gain at that grid point: an empty cell
+    result = dataclasses.replace(base, noise_figure_spectrum_dB=nf)
+    target = tmp_path / "nf.csv"
+    write_csv(result, target)
+    lines = target.read_text(encoding="utf-8").splitlines()
+    assert lines[0].split(",")[-1] == "spot_noise_figure_dB"
+    cells = [line.split(",")[-1] for line in lines[1:]]
+    assert cells[2] == ""
+    assert [float(c) for c in cells[:2]] == pytest.approx([3.0103, 3.0103], rel=1e-5)  # 10·log10(2)
+    assert "spot_noise_figure_dB" not in csv_header(samples.front_end(with_noise_figure=False))

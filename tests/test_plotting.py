@@ -145,3 +145,13 @@ def test_band_edge_within_round_off_of_the_grid_end_is_drawn():
     fig = plotting.plot_noise(nudged)
     edges = sorted(line.get_xdata()[0] for line in _lines(fig.axes[0], plotting.GID_BAND_EDGE))
     assert edges == pytest.approx([1.0, 5.0], rel=1e-12)
+
+
+def test_a_noise_figure_adds_no_panel():
+    # issue 3: the plot keeps its two panels when the result carries a noise figure
+    result = samples.front_end()
+    fig = plotting.plot_noise(result, top=5)
+    assert len(fig.axes) == 2
+    labels = [line.get_label() for line in _lines(fig.axes[0], plotting.GID_CONTRIBUTOR)]
+    # one line per noise source, amplifier sources separately; shares by sample construction
+    assert labels == ["Rs (50.0 %)", "Xu1 (voltage) (30.0 %)", "Xu1 (in+) (10.0 %)", "R1 (10.0 %)"]
