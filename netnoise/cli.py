@@ -4,6 +4,8 @@
 
     netnoise analyze NETLIST [--out NODE] [--ref NODE] [--input SOURCE]
                              [--band LOW HIGH] [--points N] [--temp CELSIUS]
+                             [--source-resistor NAME] [--signal RMS [--signal-at input|output]]
+                             [--adc BITS RANGE RATE] [--group element|mechanism] [--dc]
                              [--json PATH|-] [--csv PATH] [--plot PATH] [--top N]
     netnoise --version
 
@@ -12,6 +14,12 @@ carries the JSON document alone and the text report goes to standard error
 instead, so ``netnoise analyze c.cir --json - | python -m json.tool`` works
 while the designer still sees the budget in the terminal.  Messages about
 written files go to standard error.
+
+Nothing is printed or written until every figure asked for has been
+computed and checked: a result holding NaN or an infinity is refused with
+the reason (exit 1), never printed.  Output paths are checked before the
+analysis (not the netlist or a file it includes, not two outputs on one
+file, the folder must exist).
 
 Exit status: 0 success; 1 the circuit cannot be analysed as asked; 2 a
 netlist error or a bad option (including argparse's own usage errors); 3 an
@@ -32,7 +40,7 @@ import traceback
 from collections.abc import Sequence
 
 from . import __version__
-from .errors import NetnoiseError, UsageError
+from .errors import CircuitError, NetnoiseError, UsageError
 
 __all__ = ["main", "build_parser"]
 
@@ -95,6 +103,29 @@ def build_parser() -> argparse.ArgumentParser:
     )
     where.add_argument("--points", type=_count(1), metavar="N", help="grid points per decade")
     where.add_argument("--temp", metavar="CELSIUS", help="analysis temperature in °C")
+    merit = analyze.add_argument_group("figures of merit")
+    merit.add_argument(
+        "--source-resistor",
+        metavar="NAME",
+        help="resistor the noise figure is referred to (its noise taken at 290 K, IEEE definition)",
+    )
+    merit.add_argument(
+        "--signal",
+        metavar="RMS",
+        help="signal rms (V, or A for a current input source; suffixes allowed: 10m) for the SNR",
+    )
+    merit.add_argument(
+        "--signal-at",
+        choices=("input", "output"),
+        help="where the --signal level is stated: at the input source (default) or at the output",
+    )
+    merit.add_argument(
+        "--adc",
+        nargs=3,
+        metavar=("BITS", "RANGE", "RATE"),
+        help="compare with an ideal ADC: resolution in bits, full-scale range peak-to-peak in V, "
+        "sample rate in Hz (suffixes allowed: 16 4.096 1meg)",
+    )
     out = analyze.add_argument_group("outputs")
     out.add_argument("--json", metavar="PATH", help="write the result as JSON ('-' for standard output)")
     out.add_argument("--csv", metavar="PATH", help="write the noise spectrum as CSV")
@@ -106,6 +137,12 @@ def build_parser() -> argparse.ArgumentParser:
         metavar="N",
         help=f"rows in the budget table, the rest lumped together (default {DEFAULT_TOP}; 0 lists all)",
     )
+    out.add_argument(
+        "--group",
+        choices=("element", "mechanism"),
+        help="merge the budget's rows by element or by mechanism (default: one row per noise source)",
+    )
+    out.add_argument("--dc", action="store_true", help="append the DC operating point to the report")
     return parser
 
 
@@ -154,6 +191,48 @@ def parse_temperature(text: str | None) -> float | None:
     return celsius
 
 
+def _positive_value(option: str, text: str, what: str) -> tuple[float, str]:
+    """A positive finite value with engineering suffixes: (value, the letters
+    after the number as written)."""
+    from .values import parse_value
+
+    try:
+        value = parse_value(text)
+    except ValueError as error:
+        raise UsageError(f"{option}: cannot read '{text}' as {what} ({error})") from None
+    if not (value > 0 and math.isfinite(value)):
+        raise UsageError(f"{option}: {what} must be above zero, got '{text}'")
+    return value, text.strip().lstrip("+-.0123456789eE")
+
+
+def parse_signal(text: str | None) -> float | None:
+    """``--signal RMS`` in V (or A), > 0."""
+    if text is None:
+        return None
+    return _positive_value("--signal", text, "a signal rms")[0]
+
+
+def parse_adc(triple: Sequence[str] | None) -> tuple[int, float, float] | None:
+    """``--adc BITS RANGE RATE`` as (bits, full scale V peak-to-peak, sample rate Hz)."""
+    if triple is None:
+        return None
+    bits_text, range_text, rate_text = triple
+    try:
+        bits = int(bits_text)
+    except ValueError:
+        raise UsageError(f"--adc BITS must be a whole number of bits (1 to 32), got '{bits_text}'") from None
+    if not 1 <= bits <= 32:
+        raise UsageError(f"--adc BITS must be 1 to 32, got {bits}")
+    full_scale, _ = _positive_value("--adc RANGE", range_text, "a full-scale range in volts")
+    rate, written = _positive_value("--adc RATE", rate_text, "a sample rate in hertz")
+    if written[:1] == "M" and not written.lower().startswith(("meg", "mil")):
+        raise UsageError(
+            f"--adc RATE '{rate_text}' reads as {rate:g} Hz: M means milli, as in a netlist; "
+            f"write {rate_text.strip()[: -len(written)]}meg for mega"
+        )
+    return bits, full_scale, rate
+
+
 def check_outputs(args: argparse.Namespace) -> None:
     """Refuse outputs that would overwrite the netlist or each other, before any work."""
     from .plotting import SAVE_FORMATS
@@ -174,6 +253,12 @@ def check_outputs(args: argparse.Namespace) -> None:
             raise UsageError(f"{seen[real]} and {option} both name {path}; give each output its own file")
         if os.path.isdir(real):
             raise UsageError(f"{option} {path} is a folder; give a file name")
+        folder = os.path.dirname(real)
+        if not os.path.isdir(folder):
+            raise UsageError(
+                f"{option} {path}: cannot write there, the folder '{os.path.dirname(path) or folder}' "
+                "does not exist; create it first or choose another path"
+            )
         seen[real] = option
     if args.plot is not None and os.path.splitext(args.plot)[1].lower() not in SAVE_FORMATS:
         raise UsageError(f"--plot {args.plot}: use a file name ending in {', '.join(SAVE_FORMATS)}")
@@ -191,6 +276,25 @@ def _load(path: str):
         raise UsageError(f"cannot read netlist '{path}': {error.strerror or error}") from None
 
 
+def _read_files(circuit) -> set[str]:
+    """Real paths of the files the netlist was read from (itself and its .include files)."""
+    files = {getattr(circuit, "source_file", None)}
+    for element in getattr(circuit, "elements", ()):
+        origin = getattr(element, "origin", None)
+        files.add(getattr(origin, "file", None))
+    card = getattr(circuit, "noise_card", None)
+    files.add(getattr(getattr(card, "origin", None), "file", None))
+    return {os.path.realpath(f) for f in files if isinstance(f, str) and f and not f.startswith("<")}
+
+
+def check_outputs_against_includes(args: argparse.Namespace, circuit) -> None:
+    """Refuse an output that would overwrite a file the netlist includes."""
+    read = _read_files(circuit)
+    for option, path in (("--json", args.json), ("--csv", args.csv), ("--plot", args.plot)):
+        if path not in (None, "-") and os.path.realpath(path) in read:
+            raise UsageError(f"{option} {path} would overwrite a file the netlist includes; choose another file name")
+
+
 def _write(option: str, path: str, write) -> None:
     try:
         write()
@@ -200,18 +304,8 @@ def _write(option: str, path: str, write) -> None:
         print(f"{PROG}: wrote {path}", file=sys.stderr)
 
 
-def run_analyze(args: argparse.Namespace) -> int:
-    from .export import write_csv, write_json
-    from .report import format_report
-
-    check_outputs(args)
-    band = parse_band(args.band)
-    temperature = parse_temperature(args.temp)
-    circuit = _load(args.netlist)
-    from . import analysis
-
-    result = analysis.analyze(
-        circuit,
+def _engine_options(args: argparse.Namespace, band, temperature) -> dict:
+    options = dict(
         output=args.out,
         reference=args.ref,
         input_source=args.input,
@@ -219,14 +313,63 @@ def run_analyze(args: argparse.Namespace) -> int:
         points_per_decade=args.points,
         temperature_celsius=temperature,
     )
-    report = format_report(result, top=None if args.top == 0 else args.top)
-    report_stream = sys.stderr if args.json == "-" else sys.stdout
+    if args.source_resistor is not None:  # only when asked: the noise figure costs an extra solve
+        options["source_resistor"] = args.source_resistor
+    return options
+
+
+def run_analyze(args: argparse.Namespace) -> int:
+    from .export import atomic_write, to_csv, to_json
+    from .report import format_report
+
+    # everything the user typed is checked before the (possibly long) analysis
+    check_outputs(args)
+    band = parse_band(args.band)
+    temperature = parse_temperature(args.temp)
+    signal = parse_signal(args.signal)
+    if args.signal_at is not None and signal is None:
+        raise UsageError("--signal-at says where the --signal level is stated; give --signal RMS too")
+    signal_at = args.signal_at or "input"
+    converter = parse_adc(args.adc)
+    circuit = _load(args.netlist)
+    check_outputs_against_includes(args, circuit)
+    from . import analysis
+
+    result = analysis.analyze(circuit, **_engine_options(args, band, temperature))
+    if args.source_resistor is not None and result.noise_figure_dB is None:
+        raise CircuitError(f"the analysis gave no noise figure for --source-resistor {args.source_resistor}")
+    extras: dict = {"group_by": args.group, "signal_at": signal_at}
+    if signal is not None:
+        from .figures import signal_to_noise
+
+        extras["snr"] = signal_to_noise(result, signal, at=signal_at)
+    if converter is not None:
+        from .figures import adc_comparison
+
+        bits, full_scale, rate = converter
+        extras["adc"] = adc_comparison(result, bits=bits, full_scale_V=full_scale, sample_rate_Hz=rate)
+    if args.dc:
+        from .dc import operating_point
+
+        extras["operating_point"] = operating_point(circuit)
+
+    # build every text first: a refusal (a NaN, an infinity) prints and writes nothing
+    report = format_report(result, top=None if args.top == 0 else args.top, **extras)
+    json_text = to_json(result, **extras) if args.json is not None else None
+    csv_text = to_csv(result) if args.csv is not None else None
+
+    if args.json == "-":
+        sys.stdout.write(json_text)
+        sys.stdout.flush()
+        report_stream = sys.stderr
+    else:
+        report_stream = sys.stdout
     report_stream.write(report)
     report_stream.flush()
-    if args.json is not None:
-        _write("--json", args.json, lambda: write_json(result, args.json))
-    if args.csv is not None:
-        _write("--csv", args.csv, lambda: write_csv(result, args.csv))
+    if json_text is not None and args.json != "-":
+        _write("--json", args.json, lambda: atomic_write(args.json, lambda handle: handle.write(json_text)))
+    if csv_text is not None:
+        _write("--csv", args.csv, lambda: atomic_write(args.csv, lambda handle: handle.write(csv_text)))
     if args.plot is not None:
         from .plotting import save_plot
 
