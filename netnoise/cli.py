@@ -233,6 +233,14 @@ def parse_adc(triple: Sequence[str] | None) -> tuple[int, float, float] | None:
     return bits, full_scale, rate
 
 
+def _same_file(a: str, b: str) -> bool:
+    """True when both paths exist and are one file (a hard link, for one)."""
+    try:
+        return os.path.samefile(a, b)
+    except OSError:
+        return False
+
+
 def check_outputs(args: argparse.Namespace) -> None:
     """Refuse outputs that would overwrite the netlist or each other, before any work."""
     from .plotting import SAVE_FORMATS
@@ -247,7 +255,7 @@ def check_outputs(args: argparse.Namespace) -> None:
                 raise UsageError(f"{option} needs a file name; only --json can write to standard output ('-')")
             continue
         real = os.path.realpath(path)
-        if real == netlist:
+        if real == netlist or _same_file(real, netlist):
             raise UsageError(f"{option} {path} would overwrite the input netlist; choose another file name")
         if real in seen:
             raise UsageError(f"{seen[real]} and {option} both name {path}; give each output its own file")
@@ -268,6 +276,8 @@ def check_outputs(args: argparse.Namespace) -> None:
 def _load(path: str):
     from . import netlist
 
+    if os.path.isdir(path):
+        raise UsageError(f"cannot read netlist '{path}': it is a folder; give the netlist file")
     if not os.path.isfile(path):
         raise UsageError(f"cannot read netlist '{path}': no such file")
     try:

@@ -314,3 +314,16 @@ def test_real_engine_unknown_source_resistor_exits_with_a_message(real_engine, t
     out, err = capsys.readouterr()
     assert status in (1, 2) and out == ""
     assert err.startswith("netnoise: error: ") and "R9" in err and "Traceback" not in err
+
+
+def test_output_over_a_hard_link_of_the_netlist_is_refused(engine, netlist, tmp_path, capsys):
+    link = tmp_path / "other-name.cir"
+    os.link(netlist, link)
+    assert run("analyze", netlist, "--json", link) == 2
+    assert "would overwrite the input netlist" in capsys.readouterr().err
+    assert link.read_text() == NETLIST_TEXT and engine.calls == []
+
+
+def test_a_folder_given_as_the_netlist(engine, tmp_path, capsys):
+    assert run("analyze", tmp_path) == 2
+    assert "it is a folder" in capsys.readouterr().err
