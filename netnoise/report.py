@@ -94,9 +94,12 @@ def _hz(value: float) -> str:
 
 def _wrapped(text: str, indent: str = "  ", width: int = 100) -> list[str]:
     """A sentence wrapped to ``width`` columns, every line indented."""
+    import re
     import textwrap
 
-    return textwrap.wrap(text, width=width, initial_indent=indent, subsequent_indent=indent, break_on_hyphens=False)
+    glued = re.sub(r"(?<=\d) (?=[^\W\d_]|%)", "\0", text)  # never split "3.99 dB" or "125 kHz"
+    lines = textwrap.wrap(glued, width=width, initial_indent=indent, subsequent_indent=indent, break_on_hyphens=False)
+    return [line.replace("\0", " ") for line in lines]
 
 
 def _section(name: str) -> list[str]:

@@ -44,7 +44,8 @@ def test_a_run_without_plot_does_not_import_matplotlib(tmp_path):
         import sys
         from netnoise.cli import main
         status = main(["analyze", {str(netlist)!r}, "--json", {str(tmp_path / "r.json")!r},
-                       "--csv", {str(tmp_path / "r.csv")!r}])
+                       "--csv", {str(tmp_path / "r.csv")!r}, "--group", "mechanism", "--dc",
+                       "--adc", "16", "4.096", "1meg", "--signal", "1m", "--signal-at", "output"])
         print("STATUS:", status, file=sys.stderr)
         print("MPL:", any(n.split(".")[0] == "matplotlib" for n in sys.modules), file=sys.stderr)
         """

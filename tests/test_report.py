@@ -371,6 +371,14 @@ def test_converter_section_analog_chain_sets_the_floor_and_aliasing():
     assert "aliases into 0 .. 50 kHz" in joined  # band reaches 100 kHz, Nyquist is 50 kHz
 
 
+def test_wrapped_sentences_keep_numbers_with_their_units():
+    result = samples.front_end()
+    for adc in (_adc(result, 24, 4.096, 100e3), _adc(result, 16, 4.096, 1e6), _adc(result, 10, 1.0, 10e6)):
+        section = _section_lines(format_report(result, adc=adc), "Converter")
+        assert all(len(line) <= 100 for line in section)
+        assert not any(line.rstrip()[-1:].isdigit() for line in section if line.strip())  # no "3.99" / "dB" split
+
+
 def test_converter_with_a_stated_signal_and_clipping_warning():
     result = samples.front_end()
     adc = _adc(result, 12, 2.0, 1e6)
