@@ -28,6 +28,7 @@ a :class:`~netnoise.errors.CircuitError` before anything is formatted
 
 from __future__ import annotations
 
+import dataclasses
 import math
 from typing import TYPE_CHECKING
 
@@ -451,8 +452,24 @@ def _lump(rest: list[Contribution]) -> Contribution:
     )
 
 
+def _element_value(result: NoiseResult, element: str, first: str) -> str:
+    """What an element row's value column shows: the members' common value, or
+    the part before the first ': ' / ', ' they share ("lnamp: 4 nV/√Hz" and
+    "lnamp: 1 pA/√Hz" -> "lnamp")."""
+    values = {v for e, v in zip(result.source_elements, result.source_values) if e == element}
+    if len(values) <= 1:
+        return first
+    heads = {v.replace(": ", ", ").split(", ")[0] for v in values}
+    return heads.pop() if len(heads) == 1 else ""
+
+
 def _rows_of(result: NoiseResult, group_by: str) -> tuple[Contribution, ...]:
-    return result.contributions if group_by == "source" else result.grouped(group_by)
+    if group_by == "source":
+        return result.contributions
+    rows = result.grouped(group_by)
+    if group_by == "element":
+        rows = tuple(dataclasses.replace(c, value=_element_value(result, c.element, c.value)) for c in rows)
+    return rows
 
 
 def _budget_rows(result: NoiseResult, top: int | None, group_by: str = "source") -> list[tuple[str, Contribution]]:

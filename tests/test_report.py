@@ -285,6 +285,14 @@ def test_grouped_by_element_merges_an_amplifiers_sources():
     assert "Dominant element: Rs (thermal, 50 Ω) gives 50.0 %" in text
 
 
+def test_grouped_element_value_is_what_its_sources_share():
+    base = samples.front_end()
+    values = ("50 Ω", "LN1: 4 nV/√Hz", "LN1: 1 pA/√Hz", "10 Ω")  # an amplifier's two sources, one model
+    rows = _table_rows(format_report(dataclasses.replace(base, source_values=values), group_by="element"))
+    assert rows[1].split()[1:4] == ["Xu1", "amplifier-voltage+amplifier-current", "LN1"]
+    assert "nV/√Hz" not in rows[1]
+
+
 def test_grouped_by_mechanism():
     text = format_report(samples.front_end(), group_by="mechanism")
     rows = _table_rows(text)
