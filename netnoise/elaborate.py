@@ -41,7 +41,9 @@ from .parser import (
     IncludeCard,
     IndependentSource,
     Instance,
+    ModelCard,
     NoiseCard,
+    OPAMP_PARAMS,
     OptionsCard,
     ParamCard,
     ParsedFile,
@@ -53,8 +55,10 @@ from .parser import (
     Value,
     VoltageControlled,
     Word,
+    check_opamp_param,
     parse_statements,
     read_netlist_text,
+    shown,
 )
 from .values import milli_slip_notice
 
@@ -67,7 +71,15 @@ _CARD_NAMES = {TempCard: ".temp", AcCard: ".ac", NoiseCard: ".noise", OptionsCar
 ABSOLUTE_ZERO_CELSIUS = -273.15
 
 
+MESSAGE_LIMIT = 300
+
+
 def _fail(message: str, location: SourceLocation | None, hint: str = "") -> NetlistError:
+    # names can be very long; a message stays a line or two
+    if len(message) > MESSAGE_LIMIT:
+        message = message[: MESSAGE_LIMIT - 3] + "..."
+    if len(hint) > MESSAGE_LIMIT:
+        hint = hint[: MESSAGE_LIMIT - 3] + "..."
     return NetlistError(message, location, hint)
 
 
@@ -123,6 +135,7 @@ class _Definition:
     parent: "_Definition | None"
     body: list[Statement] = field(default_factory=list)
     children: dict[str, "_Definition"] = field(default_factory=dict)
+    models: dict[str, ModelCard] = field(default_factory=dict)
 
     def find(self, key: str) -> "_Definition | None":
         scope: _Definition | None = self
@@ -132,11 +145,21 @@ class _Definition:
             scope = scope.parent
         return None
 
+    def find_model(self, key: str) -> "tuple[ModelCard, _Definition] | None":
+        """The .model called ``key`` visible here, and the definition it is written in."""
+        scope: _Definition | None = self
+        while scope is not None:
+            if key in scope.models:
+                return scope.models[key], scope
+            scope = scope.parent
+        return None
+
     def visible_names(self) -> list[str]:
         names: list[str] = []
         scope: _Definition | None = self
         while scope is not None:
             names.extend(d.name for d in scope.children.values())
+            names.extend(m.name.text for m in scope.models.values())
             scope = scope.parent
         return names
 
@@ -154,10 +177,31 @@ def _build_definitions(statements: list[Statement]) -> _Definition:
                     statement.name.loc,
                     f"the first definition is at {_where(first)}" if first else "",
                 )
+            if key in current.models:
+                raise _fail(
+                    f"'{statement.name.text}' is both a subcircuit and a .model",
+                    statement.name.loc,
+                    f"the .model is at {_where(current.models[key].loc)}; rename one of them",
+                )
             _check_pins(statement)
             definition = _Definition(statement.name.text, statement.pins, statement.defaults, statement.loc, current)
             current.children[key] = definition
             current = definition
+        elif isinstance(statement, ModelCard):
+            key = statement.name.text.lower()
+            if key in current.models:
+                raise _fail(
+                    f"model '{statement.name.text}' is defined twice",
+                    statement.name.loc,
+                    f"the first definition is at {_where(current.models[key].loc)}",
+                )
+            if key in current.children:
+                raise _fail(
+                    f"'{statement.name.text}' is both a subcircuit and a .model",
+                    statement.name.loc,
+                    f"the .subckt is at {_where(current.children[key].loc)}; rename one of them",
+                )
+            current.models[key] = statement
         elif isinstance(statement, EndsCard):
             if current is top:
                 raise _fail("'.ends' without a .subckt to close", statement.loc)
@@ -317,10 +361,14 @@ class _Elaborator:
             nodes = (scope.node(statement.nodes[0]), scope.node(statement.nodes[1]))
             value = self.number(statement.value, scope)
             if statement.letter == "R":
-                notice = milli_slip_notice(name, statement.value.text, value) if statement.value.number is not None else None
-                if notice:
-                    self.notices.append(f"{_where(statement.value.loc)}: {notice}")
-                self.add(c.Resistor(name, nodes, loc, resistance=value), loc)
+                if statement.value.number is not None and value < 1.0:
+                    notice = milli_slip_notice(name, statement.value.text, value)
+                    if notice:
+                        self.notices.append(f"{_where(statement.value.loc)}: {notice}")
+                if statement.noiseless or statement.temperature is not None or statement.noise_index is not None:
+                    self.add(self.resistor(statement, name, nodes, value, scope), loc)
+                else:
+                    self.add(c.Resistor(name, nodes, loc, resistance=value), loc)
             elif statement.letter == "C":
                 self.add(c.Capacitor(name, nodes, loc, capacitance=value), loc)
             else:
@@ -348,8 +396,16 @@ class _Elaborator:
                     f"{_where(loc)}: {name}: the {statement.waveform}(...) waveform is ignored; "
                     "noise analysis works on the small-signal circuit"
                 )
-            kind = c.VoltageSource if statement.letter == "V" else c.CurrentSource
-            self.add(kind(name, nodes, loc, dc=dc, ac_magnitude=magnitude, ac_phase=phase), loc)
+            noise = self.noise_spec(statement, name, scope)
+            if statement.letter == "V":
+                self.add(c.VoltageSource(name, nodes, loc, dc=dc, ac_magnitude=magnitude, ac_phase=phase, noise=noise), loc)
+            else:
+                self.add(
+                    c.CurrentSource(
+                        name, nodes, loc, dc=dc, ac_magnitude=magnitude, ac_phase=phase, noise=noise, shot=statement.shot
+                    ),
+                    loc,
+                )
         elif isinstance(statement, VoltageControlled):
             nodes = (scope.node(statement.nodes[0]), scope.node(statement.nodes[1]))
             control = (scope.node(statement.control_nodes[0]), scope.node(statement.control_nodes[1]))
@@ -376,15 +432,117 @@ class _Elaborator:
                 _Pending(index, statement.control, control, c.VoltageSource, "voltage source", "control_source", name)
             )
 
+    def resistor(self, statement: Passive, name: str, nodes: tuple[str, str], value: float, scope: _Scope) -> c.Resistor:
+        temperature = None
+        if statement.temperature is not None:
+            temperature = self.number(statement.temperature, scope)
+            if temperature <= ABSOLUTE_ZERO_CELSIUS:
+                raise _fail(
+                    f"{name}: temp={temperature:g} °C is at or below absolute zero (-273.15 °C)",
+                    statement.temperature.loc,
+                    "temp= is the resistor's own temperature in degrees Celsius",
+                )
+        noise_index = self.number(statement.noise_index, scope) if statement.noise_index is not None else None
+        return c.Resistor(
+            name,
+            nodes,
+            statement.loc,
+            resistance=value,
+            noiseless=statement.noiseless,
+            temperature_celsius=temperature,
+            noise_index_dB=noise_index,
+        )
+
+    def noise_spec(self, statement: IndependentSource, name: str, scope: _Scope) -> c.NoiseSpec | None:
+        if statement.noise is None:
+            return None
+        unit = "V/√Hz" if statement.letter == "V" else "A/√Hz"
+        white = self.number(statement.noise, scope)
+        if white < 0:
+            raise _fail(f"{name}: the noise density cannot be negative ({white:g} {unit})", statement.noise.loc)
+        corner = 0.0
+        if statement.corner is not None:
+            corner = self.number(statement.corner, scope)
+            if corner < 0:
+                raise _fail(
+                    f"{name}: the noise corner cannot be negative ({corner:g} Hz)",
+                    statement.corner.loc,
+                    "corner=0 (or no corner=) means white noise only",
+                )
+        slope = 1.0
+        if statement.slope is not None:
+            slope = self.number(statement.slope, scope)
+            if not 0 < slope <= 3:
+                raise _fail(
+                    f"{name}: the noise slope must satisfy 0 < slope <= 3, not {slope:g}",
+                    statement.slope.loc,
+                    "slope=1 is 1/f noise, slope=2 is 1/f² (random walk)",
+                )
+        return c.NoiseSpec(white, corner, slope)
+
+    def opamp(self, statement: Instance, scope: _Scope, model: ModelCard, home: _Definition) -> None:
+        name = scope.element_prefix + statement.name
+        if len(statement.nodes) != 3:
+            raise _fail(
+                f"{name} connects {len(statement.nodes)} node(s) but the amplifier "
+                f"'{model.name.text}' has 3 pins (in+, in-, out)",
+                statement.loc,
+                f"write: {statement.name} non_inverting_input inverting_input output {model.name.text} [param=value ...]",
+            )
+        # the model's own values are evaluated where the .model is written
+        where: _Scope | None = scope
+        while where is not None and where.definition is not home:
+            where = where.parent
+        if where is None:  # pragma: no cover - the model was found on this chain
+            where = scope
+        values: dict[str, tuple[float, Value]] = {}
+        for assignment in model.params:
+            values[assignment.name.lower()] = (self.number(assignment.value, where), assignment.value)
+        given: set[str] = set()
+        for assignment in statement.overrides:
+            check_opamp_param(assignment, name)
+            key = assignment.name.lower()
+            if key in given:
+                raise _fail(f"parameter '{assignment.name}' is given twice on {name}", assignment.loc)
+            given.add(key)
+            values[key] = (self.number(assignment.value, scope), assignment.value)
+        fields: dict[str, float] = {}
+        for key, (number, value) in values.items():
+            field_name, what = OPAMP_PARAMS[key]
+            if key in ("aol", "gbw", "fp2"):
+                if number <= 0:
+                    raise _fail(f"{name}: {key} ({what}) must be above 0, not {number:g}", value.loc)
+            elif number < 0:
+                raise _fail(f"{name}: {key} ({what}) cannot be negative ({number:g})", value.loc)
+            fields[field_name] = number
+        amplifier = c.OpAmpModel(name=model.name.text, **fields)
+        nodes = (scope.node(statement.nodes[0]), scope.node(statement.nodes[1]), scope.node(statement.nodes[2]))
+        self.add(c.OpAmp(name, nodes, amplifier, statement.loc), statement.loc)
+
     def instance(self, statement: Instance, scope: _Scope) -> None:
         key = statement.subckt.text.lower()
         definition = scope.definition.find(key)
+        found_model = scope.definition.find_model(key)
+        if found_model is not None:
+            if definition is not None:
+                raise _fail(
+                    f"{statement.name}: '{statement.subckt.text}' names both a subcircuit and a .model",
+                    statement.subckt.loc,
+                    f"the .subckt is at {_where(definition.loc)}, the .model at {_where(found_model[0].loc)}; "
+                    "rename one of them",
+                )
+            self.opamp(statement, scope, *found_model)
+            return
         if definition is None:
             close = difflib.get_close_matches(key, [n.lower() for n in scope.definition.visible_names()], n=3)
             hint = "did you mean " + " or ".join(f"'{n}'" for n in close) + "?" if close else ""
             if not hint and scope.definition.visible_names():
                 hint = "defined here: " + ", ".join(sorted(scope.definition.visible_names()))
-            raise _fail(f"{statement.name}: no subcircuit called '{statement.subckt.text}'", statement.subckt.loc, hint)
+            raise _fail(
+                f"{statement.name}: no subcircuit or amplifier model called '{statement.subckt.text}'",
+                statement.subckt.loc,
+                hint,
+            )
         if definition in self.active:
             cycle = " -> ".join(d.name for d in (*self.active[self.active.index(definition) :], definition))
             raise _fail(f"{statement.name}: subcircuit '{definition.name}' instantiates itself ({cycle})", statement.loc)
@@ -530,6 +688,26 @@ def _noise_card(card: NoiseCard, engine: _Elaborator, scope: _Scope, nodes: set[
 # the entry point
 
 
+def _no_elements(parsed: ParsedFile) -> NetlistError:
+    lines = parsed.source.lines
+    if not any(line.strip() for line in lines):
+        return _fail(
+            "the netlist is empty",
+            parsed.source.location(1, 1),
+            "a netlist is a title line, then element lines such as 'R1 in out 1k'",
+        )
+    where = parsed.source.location(1, 1)
+    title = parsed.title
+    if title and title.split()[0][:1].upper() in "RCLKVIEGFHX" and len(title.split()) >= 3 and len(
+        [line for line in lines if line.strip()]
+    ) == 1:
+        hint = f"the first line is always the title, so '{shown(title)}' was read as one; put a title line first"
+    else:
+        hint = "the first line is the title; element lines (R1 in out 1k, ...) follow it at the top level"
+    return _fail("the netlist has no elements", where, hint)
+
+
+
 def elaborate(parsed: ParsedFile, base_dir: Path, source_file: str = "<text>", own_path: Path | None = None) -> c.Circuit:
     """The flat circuit described by ``parsed`` (a top-level file).
 
@@ -544,6 +722,8 @@ def elaborate(parsed: ParsedFile, base_dir: Path, source_file: str = "<text>", o
     scope = _Scope(top, None, "", "", {})
     engine.expand(scope)
     engine.resolve()
+    if not engine.elements:
+        raise _no_elements(parsed)
 
     temperature = None
     temp_card = _one(top.body, TempCard)

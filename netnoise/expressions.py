@@ -26,7 +26,7 @@ from lark import Token, Tree
 from .errors import NetlistError, SourceLocation
 from .values import split_value
 
-__all__ = ["CONSTANTS", "FUNCTIONS", "Locator", "evaluate", "evaluate_text", "referenced_names"]
+__all__ = ["CONSTANTS", "FUNCTIONS", "MAX_DEPTH", "Locator", "evaluate", "evaluate_text", "referenced_names"]
 
 Locator = Callable[[int, int], SourceLocation]
 """Turns a (line, column) of the parsed text into a SourceLocation."""
@@ -78,15 +78,21 @@ def _arity_text(low: int, high: int | None) -> str:
 
 
 def _start(node: Tree | Token) -> tuple[int, int]:
-    if isinstance(node, Token):
-        return node.line, node.column
-    return node.meta.line, node.meta.column
+    while not isinstance(node, Token):  # a tree starts where its first token does
+        node = node.children[0]
+    return node.line, node.column
+
+
+MAX_DEPTH = 200
+"""Deepest nesting of operations an expression may have (``-(-(-(...)))``,
+``1+(1+(1+...))``); deeper input is refused rather than exhausting the stack."""
 
 
 class _Evaluator:
     def __init__(self, params: Mapping[str, float], locate: Locator) -> None:
         self.params = params
         self.locate = locate
+        self.depth = 0
 
     def fail(self, node: Tree | Token, message: str, hint: str = "") -> NetlistError:
         return NetlistError(message, self.locate(*_start(node)), hint)
@@ -102,10 +108,19 @@ class _Evaluator:
         method = getattr(self, "do_" + node.data, None)
         if method is None:
             raise self.fail(node, f"cannot evaluate '{node.data}'")
+        self.depth += 1
+        if self.depth > MAX_DEPTH:
+            raise self.fail(
+                node,
+                f"the expression is nested more than {MAX_DEPTH} operations deep",
+                "split it with .param steps",
+            )
         try:
             return self.checked(node, method(node))
         except OverflowError:
             raise self.fail(node, "the expression overflows (its value is too large)") from None
+        finally:
+            self.depth -= 1
 
     # ---- leaves
     def do_number(self, node: Tree) -> float:
@@ -131,13 +146,13 @@ class _Evaluator:
 
     # ---- operators
     def do_braced(self, node: Tree) -> float:
-        return self.value(node.children[0])
+        return self.value(node.children[1])  # LBRACE expression RBRACE
 
     def do_neg(self, node: Tree) -> float:
-        return -self.value(node.children[0])
+        return -self.value(node.children[-1])  # MINUS operand
 
     def do_pos(self, node: Tree) -> float:
-        return self.value(node.children[0])
+        return self.value(node.children[-1])  # PLUS operand
 
     def do_add(self, node: Tree) -> float:
         return self.value(node.children[0]) + self.value(node.children[1])

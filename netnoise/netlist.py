@@ -10,6 +10,7 @@ carrying file, line and column.
 
 from __future__ import annotations
 
+import gc
 import os
 from pathlib import Path
 
@@ -30,8 +31,17 @@ def parse_netlist(text: str, filename: str = "<text>", base_dir: str | os.PathLi
     own_path = None if filename.startswith("<") and filename.endswith(">") else Path(filename)
     if base_dir is None:
         base_dir = own_path.parent if own_path is not None else Path.cwd()
-    parsed = parse_statements(text, filename, has_title=True)
-    return elaborate(parsed, Path(base_dir), source_file=filename, own_path=own_path)
+    # Parsing builds hundreds of thousands of small objects for a large netlist
+    # and none of them form cycles, so the cycle collector only slows it down
+    # (by a third, measured on a 100,000-element ladder); it is back on after.
+    collecting = gc.isenabled()
+    gc.disable()
+    try:
+        parsed = parse_statements(text, filename, has_title=True)
+        return elaborate(parsed, Path(base_dir), source_file=filename, own_path=own_path)
+    finally:
+        if collecting:
+            gc.enable()
 
 
 def load_netlist(path: str | os.PathLike) -> Circuit:

@@ -47,6 +47,8 @@ __all__ = [
     "CurrentControlled",
     "Instance",
     "ParamCard",
+    "ModelCard",
+    "OPAMP_PARAMS",
     "SubcktCard",
     "EndsCard",
     "IncludeCard",
@@ -80,18 +82,37 @@ class SourceText:
         return SourceLocation(self.file, line, max(1, column), text)
 
     def at(self, node: Tree | Token) -> SourceLocation:
-        if isinstance(node, Token):
-            return self.location(node.line, node.column)
-        return self.location(node.meta.line, node.meta.column)
+        token = first_token(node)
+        return self.location(token.line, token.column)
 
     def after(self, node: Tree | Token) -> SourceLocation:
         """Just past the end of ``node`` (for 'missing ...' messages)."""
-        if isinstance(node, Token):
-            return self.location(node.end_line, node.end_column)
-        return self.location(node.meta.end_line, node.meta.end_column)
+        token = last_token(node)
+        return self.location(token.end_line, token.end_column)
+
+
+def first_token(node: Tree | Token) -> Token:
+    """The first token under ``node`` (every tree of the grammar has one)."""
+    while not isinstance(node, Token):
+        node = node.children[0]
+    return node
+
+
+def last_token(node: Tree | Token) -> Token:
+    while not isinstance(node, Token):
+        node = node.children[-1]
+    return node
+
+
+MESSAGE_LIMIT = 300
 
 
 def _fail(message: str, location: SourceLocation | None, hint: str = "") -> NetlistError:
+    # a name or a word can be a megabyte long; a message stays a line or two
+    if len(message) > MESSAGE_LIMIT:
+        message = message[: MESSAGE_LIMIT - 3] + "..."
+    if len(hint) > MESSAGE_LIMIT:
+        hint = hint[: MESSAGE_LIMIT - 3] + "..."
     return NetlistError(message, location, hint)
 
 
@@ -99,11 +120,37 @@ def _fail(message: str, location: SourceLocation | None, hint: str = "") -> Netl
 # fields: the loose pieces of an element line or dot-card
 
 
-@dataclass(frozen=True)
 class Word:
-    text: str
-    loc: SourceLocation = field(compare=False)
-    end: SourceLocation = field(compare=False, repr=False)
+    """One blank-separated word (a node, a value, a keyword).
+
+    Its locations are built only when asked for (a message, an origin):
+    a large netlist has hundreds of thousands of words.
+    """
+
+    __slots__ = ("text", "_source", "_line", "_column")
+
+    def __init__(self, text: str, source: SourceText, line: int, column: int) -> None:
+        self.text = text
+        self._source = source
+        self._line = line
+        self._column = column
+
+    @property
+    def loc(self) -> SourceLocation:
+        return self._source.location(self._line, self._column)
+
+    @property
+    def end(self) -> SourceLocation:
+        return self._source.location(self._line, self._column + len(self.text))
+
+    def __eq__(self, other: object) -> bool:
+        return isinstance(other, Word) and other.text == self.text
+
+    def __hash__(self) -> int:
+        return hash(self.text)
+
+    def __repr__(self) -> str:
+        return f"Word({self.text!r})"
 
 
 @dataclass(frozen=True)
@@ -132,7 +179,7 @@ class Keyed:
 @dataclass(frozen=True)
 class Call:
     name: str
-    args: tuple[Union[Word, Braced], ...]
+    args: tuple[Union[Word, Braced, "Keyed"], ...]
     loc: SourceLocation = field(compare=False)
     end: SourceLocation = field(compare=False, repr=False)
 
@@ -140,27 +187,66 @@ class Call:
 Field = Union[Word, Quoted, Braced, Keyed, Call]
 
 
+def shown(text: str, limit: int = 40) -> str:
+    """``text`` for a message: control characters by code point, long text cut."""
+    if len(text) > limit:
+        text = text[: limit - 3] + "..."
+    if not text.isprintable():
+        text = "".join(ch if ch.isprintable() else f"U+{ord(ch):04X}" for ch in text)
+    return text
+
+
 def _describe(item: Field) -> str:
     if isinstance(item, Word):
-        return f"'{item.text}'"
+        return f"'{shown(item.text)}'"
     if isinstance(item, Quoted):
-        return f'"{item.text}"'
+        return f'"{shown(item.text)}"'
     if isinstance(item, Braced):
         return "a {...} expression"
     if isinstance(item, Keyed):
-        return f"'{item.key}=...'"
-    return f"'{item.name}(...)'"
+        return f"'{shown(item.key)}=...'"
+    return f"'{shown(item.name)}(...)'"
 
 
-@dataclass(frozen=True)
 class Value:
-    """A value field: a plain number (already converted) or an expression."""
+    """A value field: a plain number (already converted) or an expression.
 
-    text: str  # as written (for plain numbers) or '{...}'
-    loc: SourceLocation = field(compare=False)
-    number: float | None = None
-    tree: Tree | None = field(default=None, compare=False, repr=False)
-    source: SourceText | None = field(default=None, compare=False, repr=False)
+    ``text`` is the number as written, or ``'{...}'``; ``loc`` is where it
+    is (built when asked for, from the word it came from).
+    """
+
+    __slots__ = ("text", "number", "tree", "source", "_loc", "_word")
+
+    def __init__(
+        self,
+        text: str,
+        loc: SourceLocation | None,
+        number: float | None = None,
+        tree: Tree | None = None,
+        source: SourceText | None = None,
+        word: Word | None = None,
+    ) -> None:
+        self.text = text
+        self.number = number
+        self.tree = tree
+        self.source = source
+        self._loc = loc
+        self._word = word
+
+    @property
+    def loc(self) -> SourceLocation:
+        if self._loc is None:
+            self._loc = self._word.loc  # type: ignore[union-attr]
+        return self._loc
+
+    def __eq__(self, other: object) -> bool:
+        return isinstance(other, Value) and (other.text, other.number) == (self.text, self.number)
+
+    def __hash__(self) -> int:
+        return hash((self.text, self.number))
+
+    def __repr__(self) -> str:
+        return f"Value({self.text!r}, number={self.number!r})"
 
 
 _IDENTIFIER = re.compile(r"[A-Za-z_][A-Za-z0-9_]*\Z")
@@ -168,8 +254,6 @@ _IDENTIFIER = re.compile(r"[A-Za-z_][A-Za-z0-9_]*\Z")
 
 def _value(item: Field, what: str) -> Value:
     """``item`` as a value; ``what`` names it in messages ('the value of R1')."""
-    if isinstance(item, Braced):
-        return Value("{...}", item.loc, None, item.tree, item.source)
     if isinstance(item, Word):
         try:
             number = split_value(item.text)[0]
@@ -178,7 +262,9 @@ def _value(item: Field, what: str) -> Value:
             if _IDENTIFIER.match(item.text):
                 hint = f"to use a parameter, put it in braces: {{{item.text}}}"
             raise _fail(f"bad {what}: {exc}", item.loc, hint) from None
-        return Value(item.text, item.loc, number)
+        return Value(item.text, None, number, word=item)
+    if isinstance(item, Braced):
+        return Value("{...}", item.loc, None, item.tree, item.source)
     hint = "write expressions in braces: {...}" if isinstance(item, Quoted) else ""
     raise _fail(f"expected {what} here, not {_describe(item)}", item.loc, hint)
 
@@ -209,13 +295,16 @@ class Sweep:
 
 @dataclass(frozen=True)
 class Passive:
-    """R, C or L."""
+    """R, C or L.  Resistors may carry ``noiseless``, ``temp=`` and ``ni=``."""
 
     letter: str
     name: str
     nodes: tuple[Word, Word]
     value: Value
     loc: SourceLocation = field(compare=False)
+    noiseless: bool = False
+    temperature: Value | None = None  # temp=, °C
+    noise_index: Value | None = None  # ni=, dB
 
 
 @dataclass(frozen=True)
@@ -241,6 +330,10 @@ class IndependentSource:
     has_ac: bool
     waveform: str | None  # name of an ignored transient spec, e.g. 'SIN'
     loc: SourceLocation = field(compare=False)
+    noise: Value | None = None  # noise=, V/√Hz or A/√Hz
+    corner: Value | None = None  # corner=, Hz
+    slope: Value | None = None  # slope=, the exponent of 1/f
+    shot: bool = False  # I only
 
 
 @dataclass(frozen=True)
@@ -275,6 +368,16 @@ class Instance:
     nodes: tuple[Word, ...]
     subckt: Word
     overrides: tuple[Assignment, ...]
+    loc: SourceLocation = field(compare=False)
+
+
+@dataclass(frozen=True)
+class ModelCard:
+    """``.model NAME opamp [(] param=value ... [)]`` (only amplifier models)."""
+
+    name: Word
+    kind: str  # lower case: 'opamp'
+    params: tuple[Assignment, ...]
     loc: SourceLocation = field(compare=False)
 
 
@@ -331,6 +434,7 @@ class OptionsCard:
 
 
 Statement = Union[
+    ModelCard,
     Passive,
     Coupling,
     IndependentSource,
@@ -413,6 +517,8 @@ _CONTINUATION = re.compile(r"\s*\+")
 
 
 def _strip_inline_comment(line: str) -> str:
+    if ";" not in line and "$" not in line:
+        return line
     quote = ""
     for index, char in enumerate(line):
         if quote:
@@ -453,13 +559,36 @@ def _prepare(text: str, file: str, has_title: bool) -> tuple[str, str, SourceTex
         if line.strip():
             seen_statement = True
         kept.append(line)
-    return "\n".join(kept) + "\n", title, source
+    prepared = "\n".join(kept) + "\n"
+    bad = _HIDDEN.search(prepared)
+    if bad is not None:
+        raise _hidden_character(prepared, bad.start(), source)
+    return prepared, title, source
+
+
+# control characters (other than blanks) and the invisible text-direction
+# controls: they have no place in a netlist outside its comments, and a name
+# holding one would print as something else than it is
+_HIDDEN = re.compile("[\x00-\x08\x0e-\x1b\x7f-\x84\x86-\x9f\u200b-\u200f\u202a-\u202e\u2066-\u2069\ufeff]")
+
+
+def _hidden_character(prepared: str, index: int, source: SourceText) -> NetlistError:
+    line = prepared.count("\n", 0, index) + 1
+    column = index - prepared.rfind("\n", 0, index)
+    code = f"U+{ord(prepared[index]):04X}"
+    kind = "control character" if ord(prepared[index]) < 0xA0 else "invisible formatting character"
+    return _fail(
+        f"the {kind} {code} is not allowed in a netlist line",
+        source.location(line, column),
+        "netlists are plain text; delete it (a binary file or a copy-paste accident?)",
+    )
 
 
 # --------------------------------------------------------------------------
 # lark's exceptions, in plain words
 
 _TERMINAL_WORDS = {
+    "WORDS": "a node name or a value",
     "WORD": "a node name or a value",
     "ELEMENT_NAME": "an element name",
     "DOT_WORD": "a dot-card",
@@ -484,6 +613,7 @@ _TERMINAL_WORDS = {
 # when the first is expected, the others are details not worth listing
 _SUBSUMED = {
     "WORD": {"STRING", "LBRACE", "LPAR", "EQUAL"},
+    "WORDS": {"STRING", "LBRACE", "LPAR", "EQUAL"},
     "NUMBER": {"LPAR", "MINUS", "PLUS", "LBRACE"},
     "ELEMENT_NAME": {"_NL", "$END"},
 }
@@ -530,7 +660,7 @@ def _unwrap(exc: UnexpectedInput, source: SourceText) -> NetlistError:
         # exc.accepts asks the parser which tokens really fit; exc.expected
         # can hold extras from LALR's merged states
         expected = set(exc.accepts or exc.expected)
-        if token.type in ("RPAR", "RBRACE") and expected & {"WORD", "_NL"}:
+        if token.type in ("RPAR", "RBRACE") and expected & {"WORD", "WORDS", "_NL"}:
             opener = "(" if token.type == "RPAR" else "{"
             return _fail(f"'{token}' without a matching '{opener}'", loc)
         if "ELEMENT_NAME" in expected:
@@ -586,11 +716,47 @@ class _Fields:
         self.source = source
 
     def word(self, token: Token) -> Word:
-        return Word(str(token), self.source.at(token), self.source.after(token))
+        return Word(str(token), self.source, token.line, token.column)
+
+    def words(self, token: Token) -> list[Word]:
+        """The words of a WORDS token (blanks, then a word, repeated; one line)."""
+        text = str(token)
+        line = token.line
+        column = token.column
+        out: list[Word] = []
+        position = 0
+        for piece in text.split():
+            position = text.find(piece, position)
+            out.append(Word(piece, self.source, line, column + position))
+            position += len(piece)
+        return out
 
     def braced(self, tree: Tree) -> Braced:
-        inner = tree.children[0]
+        inner = tree.children[1]  # LBRACE expression RBRACE
         return Braced(inner, self.source, self.source.at(tree), self.source.after(tree))
+
+    def fields(self, children: list) -> list[Field]:
+        """Every field of a line, in order (a WORDS token gives several)."""
+        out: list[Field] = []
+        for child in children:
+            if isinstance(child, Token):
+                if child.type == "WORDS":
+                    out.extend(self.words(child))
+                else:
+                    out.append(self.word(child))
+            else:
+                out.append(self.field(child))
+        return out
+
+    def keyed(self, node: Tree) -> Keyed:
+        key, raw = node.children
+        if isinstance(raw, Tree):
+            value: Union[Word, Braced, Quoted] = self.braced(raw)
+        elif raw.type == "STRING":
+            value = Quoted(str(raw)[1:-1], self.source.at(raw), self.source.after(raw))
+        else:
+            value = self.word(raw)
+        return Keyed(str(key), value, self.source.at(key), self.source.after(node))
 
     def field(self, node: Tree) -> Field:
         kind = node.data
@@ -602,20 +768,18 @@ class _Fields:
         if kind == "braced":
             return self.braced(node)
         if kind == "keyed":
-            key, raw = node.children
-            if isinstance(raw, Tree):
-                value: Union[Word, Braced, Quoted] = self.braced(raw)
-            elif raw.type == "STRING":
-                value = Quoted(str(raw)[1:-1], self.source.at(raw), self.source.after(raw))
-            else:
-                value = self.word(raw)
-            return Keyed(str(key), value, self.source.at(key), self.source.after(node))
+            return self.keyed(node)
         if kind == "call":
             name = node.children[0]
-            args: list[Union[Word, Braced]] = []
-            if len(node.children) > 1:
-                for arg in node.children[1].children:
-                    args.append(self.word(arg.children[0]) if arg.data == "word" else self.braced(arg))
+            args: list[Union[Word, Braced, Keyed]] = []
+            if len(node.children) > 3:  # name LPAR call_args RPAR
+                for arg in node.children[2].children:
+                    if arg.data == "word":
+                        args.append(self.word(arg.children[0]))
+                    elif arg.data == "keyed":
+                        args.append(self.keyed(arg))
+                    else:
+                        args.append(self.braced(arg))
             return Call(str(name), tuple(args), self.source.at(name), self.source.after(node))
         raise _fail(f"unexpected '{kind}'", self.source.at(node))  # grammar and code disagree
 
@@ -626,17 +790,17 @@ class _Fields:
 SUPPORTED_LETTERS = "RCLKVIEGFHX"
 
 _FORMS = {
-    "R": "Rname node1 node2 value",
+    "R": "Rname node1 node2 value [noiseless] [temp=CELSIUS] [ni=DB]",
     "C": "Cname node1 node2 value",
     "L": "Lname node1 node2 value",
     "K": "Kname Lfirst Lsecond coupling",
-    "V": "Vname node+ node- [DC] [value] [AC magnitude [phase]]",
-    "I": "Iname node+ node- [DC] [value] [AC magnitude [phase]]",
+    "V": "Vname node+ node- [DC] [value] [AC magnitude [phase]] [noise=V/rtHz [corner=HZ] [slope=N]]",
+    "I": "Iname node+ node- [DC] [value] [AC magnitude [phase]] [noise=A/rtHz [corner=HZ] [slope=N]] [shot]",
     "E": "Ename out+ out- in+ in- gain",
     "G": "Gname out+ out- in+ in- transconductance",
     "F": "Fname out+ out- Vcontrol gain",
     "H": "Hname out+ out- Vcontrol transresistance",
-    "X": "Xname node ... subcircuit [param=value ...]",
+    "X": "Xname node ... subcircuit [param=value ...]  or  Xname in+ in- out opamp_model [param=value ...]",
 }
 
 _UNSUPPORTED = {
@@ -660,12 +824,16 @@ _BEHAVIOURAL_KEYS = {"value", "table", "laplace", "freq", "vol", "cur"}
 class _Line:
     """The fields of one element line, consumed left to right."""
 
-    def __init__(self, name: str, letter: str, name_end: SourceLocation, fields: list[Field]) -> None:
+    def __init__(self, name: str, letter: str, name_word: Word, fields: list[Field]) -> None:
         self.name = name
         self.letter = letter
         self.fields = fields
         self.position = 0
-        self.last_end = name_end
+        self.last: Field = name_word  # the last field taken; its .end is where a missing one goes
+
+    @property
+    def last_end(self) -> SourceLocation:
+        return self.last.end
 
     def form_hint(self) -> str:
         return f"the form is: {_FORMS[self.letter]}"
@@ -679,7 +847,7 @@ class _Line:
             raise _fail(f"{self.name} is missing its {what}", self.last_end, self.form_hint())
         self._check_unsupported_form(item)
         self.position += 1
-        self.last_end = item.end
+        self.last = item
         return item
 
     def _check_unsupported_form(self, item: Field) -> None:
@@ -721,12 +889,14 @@ def _element(tree: Tree, fields: _Fields) -> Statement:
             source.at(name_token),
             "netnoise reads linear circuits: R, C, L, K, V, I, E, G, F, H and X lines",
         )
-    items = [fields.field(child) for child in tree.children[1:]]
-    line = _Line(name, letter, source.after(name_token), items)
+    items = fields.fields(tree.children[1:])
+    line = _Line(name, letter, fields.word(name_token), items)
     loc = source.at(name_token)
     if letter in "RCL":
         nodes = (line.node("first node"), line.node("second node"))
         value = line.value("value")
+        if letter == "R" and line.peek() is not None:
+            return _resistor_options(line, name, nodes, value, loc)
         line.done()
         return Passive(letter, name, nodes, value, loc)
     if letter == "K":
@@ -763,6 +933,55 @@ def _is_value(item: Field | None) -> bool:
     return False
 
 
+RESISTOR_KEYS = ("noiseless", "temp", "ni")
+SOURCE_NOISE_KEYS = ("noise", "corner", "slope")
+
+
+def _keyed_value(line: _Line, item: Keyed, what: str) -> Value:
+    line.take(what)
+    return _value(item.value, f"{what} of {line.name}")
+
+
+def _resistor_options(line: _Line, name: str, nodes: tuple[Word, Word], value: Value, loc: SourceLocation) -> Passive:
+    """``noiseless``, ``temp=°C``, ``ni=dB`` after a resistor's value, in any order."""
+    noiseless = False
+    temperature: Value | None = None
+    noise_index: Value | None = None
+    hint = "after the value a resistor takes: noiseless, temp=CELSIUS, ni=DB (noise index)"
+    while (item := line.peek()) is not None:
+        if isinstance(item, Word) and item.text.lower() == "noiseless":
+            if noiseless:
+                raise _fail(f"{name} says 'noiseless' twice", item.loc)
+            line.take("noiseless")
+            noiseless = True
+            continue
+        key = item.key.lower() if isinstance(item, Keyed) else ""
+        if key == "temp":
+            if temperature is not None:
+                raise _fail(f"{name} has two temp= values", item.loc)
+            temperature = _keyed_value(line, item, "temperature")  # type: ignore[arg-type]
+        elif key == "ni":
+            if noise_index is not None:
+                raise _fail(f"{name} has two ni= values", item.loc)
+            noise_index = _keyed_value(line, item, "noise index")  # type: ignore[arg-type]
+        else:
+            line._check_unsupported_form(item)
+            raise _fail(f"unexpected extra field {_describe(item)} on {name}", item.loc, hint)
+    return Passive("R", name, nodes, value, loc, noiseless, temperature, noise_index)
+
+
+def _is_value(item: Field | None) -> bool:
+    if isinstance(item, Braced):
+        return True
+    if isinstance(item, Word):
+        try:
+            split_value(item.text)
+        except ValueError:
+            return False
+        return True
+    return False
+
+
 def _source(line: _Line, letter: str, name: str, loc: SourceLocation) -> IndependentSource:
     nodes = (line.node("positive node"), line.node("negative node"))
     dc: Value | None = None
@@ -770,8 +989,12 @@ def _source(line: _Line, letter: str, name: str, loc: SourceLocation) -> Indepen
     ac_phase: Value | None = None
     has_ac = False
     waveform: str | None = None
+    noise: dict[str, Value] = {}
+    noise_at: dict[str, Keyed] = {}
+    shot = False
     while (item := line.peek()) is not None:
         keyword = item.text.lower() if isinstance(item, Word) else ""
+        key = item.key.lower() if isinstance(item, Keyed) else ""
         if keyword == "dc":
             if dc is not None:
                 raise _fail(f"{name} has two DC values", item.loc, line.form_hint())
@@ -786,6 +1009,23 @@ def _source(line: _Line, letter: str, name: str, loc: SourceLocation) -> Indepen
                 ac_magnitude = line.value("AC magnitude")
                 if _is_value(line.peek()):
                     ac_phase = line.value("AC phase")
+        elif keyword == "shot":
+            if letter != "I":
+                raise _fail(
+                    f"{name}: 'shot' applies to current sources only",
+                    item.loc,
+                    "mark the junction current (an I source) with shot; give a V source noise=DENSITY",
+                )
+            if shot:
+                raise _fail(f"{name} says 'shot' twice", item.loc)
+            line.take("shot")
+            shot = True
+        elif key in SOURCE_NOISE_KEYS:
+            if key in noise:
+                raise _fail(f"{name} has two {key}= values", item.loc)
+            what = {"noise": "noise density", "corner": "noise corner frequency", "slope": "noise slope"}[key]
+            noise[key] = _keyed_value(line, item, what)  # type: ignore[arg-type]
+            noise_at[key] = item  # type: ignore[assignment]
         elif isinstance(item, Call) and item.name.lower() in _WAVEFORMS:
             if waveform is not None:
                 raise _fail(f"{name} has two waveforms", item.loc, line.form_hint())
@@ -795,7 +1035,19 @@ def _source(line: _Line, letter: str, name: str, loc: SourceLocation) -> Indepen
             dc = line.value("DC value")
         else:
             line.done()
-    return IndependentSource(letter, name, nodes, dc, ac_magnitude, ac_phase, has_ac, waveform, loc)
+    if "noise" not in noise:
+        for key in ("corner", "slope"):
+            if key in noise:
+                unit = "V/√Hz" if letter == "V" else "A/√Hz"
+                raise _fail(
+                    f"{name}: {key}= shapes a noise density, but there is no noise=",
+                    noise_at[key].loc,
+                    f"add noise=DENSITY ({unit}), e.g. noise=10n {key}=...",
+                )
+    return IndependentSource(
+        letter, name, nodes, dc, ac_magnitude, ac_phase, has_ac, waveform, loc,
+        noise.get("noise"), noise.get("corner"), noise.get("slope"), shot,
+    )
 
 
 def _assignment(item: Keyed, what: str) -> Assignment:
@@ -836,9 +1088,8 @@ def _instance(line: _Line, name: str, loc: SourceLocation) -> Instance:
 # --------------------------------------------------------------------------
 # dot-cards
 
-SUPPORTED_CARDS = (".subckt", ".ends", ".param", ".include", ".temp", ".ac", ".noise", ".options", ".end")
+SUPPORTED_CARDS = (".subckt", ".ends", ".model", ".param", ".include", ".temp", ".ac", ".noise", ".options", ".end")
 _NOT_YET = {
-    ".model": "'.model' is not supported: the elements that use models (diodes, transistors) are not either",
     ".lib": "'.lib' is not supported; use .include FILE",
     ".inc": "write '.include' in full",
     ".global": "'.global' is not supported: only ground (0) is shared between subcircuits",
@@ -894,7 +1145,7 @@ def _card(tree: Tree, fields: _Fields) -> Statement:
     source = fields.source
     loc = source.at(name_token)
     name = str(name_token).lower()
-    items = [fields.field(child) for child in tree.children[1:]]
+    items = fields.fields(tree.children[1:])
     card = _Card(name, loc, source.after(name_token), items)
     if name == ".subckt":
         return _subckt(card)
@@ -922,6 +1173,8 @@ def _card(tree: Tree, fields: _Fields) -> Statement:
         return AcCard(sweep, loc)
     if name == ".noise":
         return _noise(card)
+    if name == ".model":
+        return _model(card)
     if name in (".options", ".option"):
         return OptionsCard(loc)
     if name in _NOT_YET:
@@ -972,6 +1225,88 @@ def _noise(card: _Card) -> NoiseCard:
     sweep = _sweep(card, form) if card.peek() is not None else None
     card.done(form)
     return NoiseCard(output, reference, source, sweep, card.loc)  # type: ignore[arg-type]
+
+
+# .model NAME opamp parameters: our name -> (OpAmpModel field, what it is)
+OPAMP_PARAMS: dict[str, tuple[str, str]] = {
+    "en": ("voltage_noise", "input voltage noise density, V/√Hz (white)"),
+    "en_corner": ("voltage_noise_corner_Hz", "1/f corner of en, Hz"),
+    "in": ("current_noise", "input current noise density on each input, A/√Hz (white)"),
+    "in_corner": ("current_noise_corner_Hz", "1/f corner of in, Hz"),
+    "aol": ("open_loop_gain", "open-loop DC gain, V/V"),
+    "gbw": ("gain_bandwidth_Hz", "gain-bandwidth product, Hz"),
+    "fp2": ("second_pole_Hz", "second pole, Hz"),
+    "cin": ("input_capacitance", "common-mode capacitance of each input to ground, F"),
+    "cdiff": ("differential_capacitance", "capacitance between the inputs, F"),
+    "rout": ("output_resistance", "output resistance, Ω"),
+}
+_MODEL_FORM = ".model NAME opamp [(] en=... in=... aol=... gbw=... [)]"
+_MODEL_TYPES_REFUSED = {
+    "d": "diode",
+    "npn": "bipolar transistor",
+    "pnp": "bipolar transistor",
+    "nmos": "MOS transistor",
+    "pmos": "MOS transistor",
+    "njf": "junction FET",
+    "pjf": "junction FET",
+}
+
+
+def opamp_param_list() -> str:
+    return ", ".join(OPAMP_PARAMS)
+
+
+def check_opamp_param(item: Assignment, owner: str) -> None:
+    """Refuse a parameter name that an amplifier model does not have."""
+    if item.name.lower() not in OPAMP_PARAMS:
+        raise _fail(
+            f"{owner}: an opamp model has no parameter '{shown(item.name)}'",
+            item.loc,
+            f"its parameters: {opamp_param_list()}",
+        )
+
+
+def _model(card: _Card) -> ModelCard:
+    name = card.word("model name", _MODEL_FORM)
+    kind_item = card.take("model type", _MODEL_FORM)
+    raw_params: list[Field] = []
+    if isinstance(kind_item, Word):
+        kind = kind_item.text
+        kind_loc = kind_item.loc
+    elif isinstance(kind_item, Call):
+        kind = kind_item.name
+        kind_loc = kind_item.loc
+        raw_params.extend(kind_item.args)
+    else:
+        raise _fail(f"expected the model type here, not {_describe(kind_item)}", kind_item.loc, f"the form is: {_MODEL_FORM}")
+    if kind.lower() != "opamp":
+        what = _MODEL_TYPES_REFUSED.get(kind.lower())
+        reason = f"{what} models are not supported" if what else f"model type '{shown(kind)}' is not supported"
+        raise _fail(
+            f".model {shown(name.text)}: {reason}",
+            kind_loc,
+            "netnoise has amplifier models only: .model NAME opamp (en=... gbw=...)",
+        )
+    while card.peek() is not None:
+        raw_params.append(card.take("parameter", _MODEL_FORM))
+    owner = f".model {shown(name.text)}"
+    params: list[Assignment] = []
+    seen: set[str] = set()
+    for item in raw_params:
+        if not isinstance(item, Keyed):
+            raise _fail(
+                f"expected a name=value parameter on {owner}, not {_describe(item)}",
+                item.loc,
+                f"its parameters: {opamp_param_list()}",
+            )
+        assignment = _assignment(item, f"on {owner}")
+        check_opamp_param(assignment, owner)
+        key = assignment.name.lower()
+        if key in seen:
+            raise _fail(f"{owner}: parameter '{assignment.name}' is given twice", item.loc)
+        seen.add(key)
+        params.append(assignment)
+    return ModelCard(name, "opamp", tuple(params), card.loc)
 
 
 def _param_card(tree: Tree, source: SourceText) -> ParamCard:

@@ -28,6 +28,7 @@ trailing letters are an error rather than silently dropped.
 
 from __future__ import annotations
 
+import functools
 import math
 import re
 
@@ -58,33 +59,60 @@ _BAD_EXPONENT = re.compile(r"[eE][+-]?(?!\d)")
 _SUFFIX_ORDER = sorted(SUFFIXES, key=len, reverse=True)
 
 
+# the whole of a well-formed value in one match (the common case, and fast);
+# anything this refuses goes through the step-by-step checks for its message
+_WELL_FORMED = re.compile(
+    r"\s*([+-]?(?:\d+(?:\.\d*)?|\.\d+)(?:[eE][+-]?\d+)?)(meg|mil|[fpnum\u00b5\u03bckgt])?"
+    r"(ohms|ohm|\u03c9|hz|[fhvas])?\s*\Z",
+    re.IGNORECASE,
+)
+
+
+@functools.lru_cache(maxsize=4096)
 def split_value(text: str) -> tuple[float, str, str]:
     """Split ``text`` into (number, suffix, unit), all checked.
 
     ``suffix`` and ``unit`` are returned lower case ('' when absent).
     Raises ValueError with a short reason when ``text`` is not a value.
+    (Cached: a large netlist repeats its few values many times.)
     """
+    match = _WELL_FORMED.match(text)
+    if match is not None:
+        number, suffix, unit = match.groups()
+        suffix = (suffix or "").lower()
+        value = float(number) * SUFFIXES.get(suffix, 1.0)
+        if math.isfinite(value):
+            return value, suffix, (unit or "").lower()
+    return _split_checked(text)
+
+
+def _shown(text: str) -> str:
+    return text if len(text) <= 40 else text[:37] + "..."
+
+
+def _split_checked(text: str) -> tuple[float, str, str]:
     stripped = text.strip()
+    said = _shown(stripped)
     if not stripped:
         raise ValueError("empty value")
     match = _NUMBER.match(stripped)
     if match is None:
-        raise ValueError(f"'{stripped}' is not a number")
+        raise ValueError(f"'{said}' is not a number")
     number = float(match.group())
     rest = stripped[match.end() :]
     if _BAD_EXPONENT.match(rest):
-        raise ValueError(f"'{stripped}' has an exponent without digits")
+        raise ValueError(f"'{said}' has an exponent without digits")
     lowered = rest.lower()
     suffix = next((s for s in _SUFFIX_ORDER if lowered.startswith(s)), "")
     unit = lowered[len(suffix) :]
     if unit and unit not in UNITS:
         extra = rest[len(suffix) :]
         if suffix and _starts_suffix(unit):
-            raise ValueError(f"'{stripped}' has two scale suffixes")
-        raise ValueError(f"'{stripped}' ends in '{extra}', which is neither a scale suffix nor a unit")
+            raise ValueError(f"'{said}' has two scale suffixes")
+        raise ValueError(f"'{said}' ends in '{_shown(extra)}', which is neither a scale suffix nor a unit")
     value = number * SUFFIXES.get(suffix, 1.0)
     if not math.isfinite(value):
-        raise ValueError(f"'{stripped}' is too large to represent")
+        raise ValueError(f"'{said}' is too large to represent")
     return value, suffix, unit
 
 

@@ -121,7 +121,7 @@ def test_nested_definitions_are_scoped():
     circuit = parse_netlist(text)
     assert circuit.element("Xo.X1.R1").nodes == ("in", "xo.m")
     assert circuit.element("Xo.X2.R1").resistance == pytest.approx(3.0, rel=1e-12)
-    with pytest.raises(NetlistError, match="no subcircuit called 'leg'"):
+    with pytest.raises(NetlistError, match="no subcircuit or amplifier model called 'leg'"):
         parse_netlist(text + "Xbad in 0 leg\n")
 
 

@@ -56,7 +56,7 @@ BAD = [
     Bad("unknown letter", "t\nY1 a b 1\n", "element letter 'Y' is not supported", 2, 1),
     # ---- dot-cards
     Bad("unknown card", "t\n.tran 1n 1u\n", "unknown dot-card '.tran'", 2, 1),
-    Bad("model card", "t\n.model dmod d\n", "'.model' is not supported", 2, 1),
+    Bad("diode model card", "t\n.model dmod d\n", ".model dmod: diode models are not supported", 2, 13),
     Bad("param without value", "t\n.param x\n", "the line ends too early; expected '='", 2, 9),
     Bad("param bad start", "t\n.param 1=2\n", "'1' is not allowed here", 2, 8),
     Bad("include without file", "t\n.include\n", ".include is missing its file name", 2, 9),
@@ -75,7 +75,7 @@ BAD = [
     Bad("two numbers", "t\nR1 a b {1 2}\n", "'2' is not allowed here; expected '}'", 2, 11),
     Bad("bad char in expression", "t\nR1 a b {#}\n", "'#' is not allowed here", 2, 9),
     Bad("unclosed quote", 't\n.include "abc\n', "unexpected character '\"'", 2, 10),
-    Bad("control character", "t\nR1 a b {1\x07}\n", "'U+0007' is not allowed here", 2, 10),
+    Bad("control character", "t\nR1 a b {1\x07}\n", "the control character U+0007 is not allowed", 2, 10),
     Bad("quoted value", "t\nR1 a b '2*r'\n", "expected value of R1 here", 2, 8),
     Bad("continuation with nothing before", "t\n+ R1 a 0 1\n", "a '+' line continues the line before it", 2, 1),
     # ---- expressions
@@ -101,7 +101,7 @@ BAD = [
         1,
     ),
     Bad("duplicate instance", "t\n.subckt s a\nR1 a 0 1\n.ends\nX1 n s\nx1 m s\n", "duplicate element name 'x1.R1'", 3, 1),
-    Bad("undefined subckt", "t\n.subckt amp a\nR1 a 0 1\n.ends\nX1 a b ampp\n", "no subcircuit called 'ampp'", 5, 8),
+    Bad("undefined subckt", "t\n.subckt amp a\nR1 a 0 1\n.ends\nX1 a b ampp\n", "no subcircuit or amplifier model called 'ampp'", 5, 8),
     Bad("wrong pin count", "t\n.subckt s a b\nR1 a b 1\n.ends\nX1 n s\n", "X1 connects 1 node(s) but subcircuit 's' has 2", 5, 1),
     Bad("recursive", "t\n.subckt s a\nX2 a s\n.ends\nX1 n s\n", "subcircuit 's' instantiates itself", 3, 1),
     Bad(
@@ -119,7 +119,7 @@ BAD = [
     Bad("repeated pin", "t\n.subckt s a a\n.ends\n", "pin 'a' appears twice", 2, 13),
     Bad("unknown override", "t\n.subckt s a params: r=1\nR1 a 0 {r}\n.ends\nX1 n s q=2\n", "subcircuit 's' has no parameter 'q'", 5, 8),
     Bad("card inside subckt", "t\n.subckt s a\n.temp 30\n.ends\n", "'.temp' belongs at the top level", 3, 1),
-    Bad("nested definition out of scope", "t\n.subckt o a\n.subckt i b\n.ends i\n.ends o\nX1 n i\n", "no subcircuit called 'i'", 6, 6),
+    Bad("nested definition out of scope", "t\n.subckt o a\n.subckt i b\n.ends i\n.ends o\nX1 n i\n", "no subcircuit or amplifier model called 'i'", 6, 6),
     Bad("F without its source", "t\nV1 a 0 1\nF1 a 0 Vx 2\n", "F1: 'Vx' names no voltage source in this scope", 3, 8),
     Bad("F controlled by a resistor", "t\nR1 a 0 1\nF1 a 0 R1 2\n", "F1: 'R1' is not a voltage source", 3, 8),
     Bad(
@@ -141,7 +141,7 @@ BAD = [
     Bad("sweep points fraction", "t\nR1 a 0 1\n.ac dec 2.5 1 10\n", "whole number of at least 1", 3, 9),
     Bad("dec from zero", "t\nR1 a 0 1\n.ac dec 10 0 10\n", "needs a start frequency above 0 Hz", 3, 12),
     Bad("sweep backwards", "t\nR1 a 0 1\n.ac lin 10 1k 10\n", "stop frequency (10 Hz) is below the start", 3, 15),
-    Bad("below absolute zero", "t\n.temp -300\n", "at or below absolute zero", 2, 7),
+    Bad("below absolute zero", "t\nR1 a 0 1\n.temp -300\n", "at or below absolute zero", 3, 7),
     # ---- files
     Bad("missing include", "t\n.include nothere.inc\n", "cannot find the included file 'nothere.inc'", 2, 1),
     Bad(
