@@ -7,6 +7,10 @@ import pytest
 
 from netnoise.circuit import (
     Capacitor,
+    CurrentSource,
+    NoiseSpec,
+    OpAmp,
+    OpAmpModel,
     CurrentControlledCurrentSource,
     CurrentControlledVoltageSource,
     Inductor,
@@ -248,3 +252,107 @@ def test_example_hierarchy_values():
     assert circuit.element("X3.Cs").capacitance == pytest.approx(1e-9, rel=1e-12)
     assert isinstance(circuit.element("Xamp.Egain"), VoltageControlledVoltageSource)
     assert all(isinstance(e, (Resistor, Capacitor, VoltageSource, VoltageControlledVoltageSource)) for e in circuit.elements)
+
+
+# ---- issue 3: resistor options, source noise, amplifier models
+
+
+def test_resistor_options_reach_the_circuit():
+    circuit = parse_netlist(
+        "t\n.param hot=85\nR1 a b 10k ni=-20 temp={hot}\nRload b 0 1meg noiseless\nR3 a 0 1k\nV1 a 0 1\n"
+    )
+    elements = by_name(circuit)
+    assert elements["R1"] == Resistor("R1", ("a", "b"), resistance=10e3, temperature_celsius=85.0, noise_index_dB=-20.0)
+    assert elements["Rload"].noiseless and elements["Rload"].temperature_celsius is None
+    plain = elements["R3"]
+    assert (plain.noiseless, plain.temperature_celsius, plain.noise_index_dB) == (False, None, None)
+
+
+def test_source_noise_spec_and_shot():
+    circuit = parse_netlist(
+        "t\n.param en0=5n\nVs a 0 AC 1 noise={2*en0} corner=10\nVr r 0 DC 2.5 noise=50n corner=1 slope=2\n"
+        "Iph 0 a DC 2u AC 1 shot\nIn a 0 noise=1p\nR1 a 0 1k\nR2 r 0 1k\n"
+    )
+    elements = by_name(circuit)
+    assert elements["Vs"].noise == NoiseSpec(white=pytest.approx(1e-8, rel=1e-12), corner_Hz=10.0, slope=1.0)
+    assert elements["Vr"].noise == NoiseSpec(white=pytest.approx(50e-9, rel=1e-12), corner_Hz=1.0, slope=2.0)
+    assert elements["Vr"].dc == pytest.approx(2.5, rel=1e-12)
+    photo = elements["Iph"]
+    assert isinstance(photo, CurrentSource) and photo.shot and photo.noise is None
+    assert photo.dc == pytest.approx(2e-6, rel=1e-12)  # u = 1e-6 (SI)
+    assert elements["In"].noise == NoiseSpec(white=pytest.approx(1e-12, rel=1e-12))  # defaults: no corner, slope 1
+    assert not elements["In"].shot
+
+
+def test_opamp_instance_from_a_model_card():
+    circuit = parse_netlist(
+        "t\n.model LNA1 opamp (en=4n en_corner=100 in=0.5p in_corner=1k aol=1e5 gbw=10meg fp2=50meg\n"
+        "+ cin=5p cdiff=2p rout=50)\nXu1 inp inn out LNA1 en=3n gbw={2*10meg}\nR1 inn out 10k\nR2 inn 0 1k\nV1 inp 0 AC 1\n"
+    )
+    amp = circuit.element("XU1")
+    assert isinstance(amp, OpAmp)
+    assert amp.name == "Xu1" and amp.nodes == ("inp", "inn", "out")
+    expected = OpAmpModel(
+        name="LNA1",
+        voltage_noise=3e-9,
+        voltage_noise_corner_Hz=100.0,
+        current_noise=0.5e-12,
+        current_noise_corner_Hz=1e3,
+        open_loop_gain=1e5,
+        gain_bandwidth_Hz=20e6,
+        second_pole_Hz=50e6,
+        input_capacitance=5e-12,
+        differential_capacitance=2e-12,
+        output_resistance=50.0,
+    )
+    got = amp.model
+    assert got.name == expected.name and got.second_pole_Hz == pytest.approx(50e6, rel=1e-12)
+    for name in ("voltage_noise", "voltage_noise_corner_Hz", "current_noise", "current_noise_corner_Hz",
+                 "open_loop_gain", "gain_bandwidth_Hz", "input_capacitance", "differential_capacitance",
+                 "output_resistance"):
+        assert getattr(got, name) == pytest.approx(getattr(expected, name), rel=1e-12), name
+    assert "out" in circuit.nodes
+
+
+def test_model_defaults_are_the_data_model_defaults():
+    circuit = parse_netlist("t\n.model bare opamp\nXu p n o bare\nR1 n o 1k\n")
+    assert circuit.element("Xu").model == OpAmpModel(name="bare")
+
+
+def test_models_are_scoped_like_subcircuits_and_use_their_scope():
+    circuit = parse_netlist(
+        "t\n.model amp opamp gbw=1meg\n"
+        ".subckt stage in out params: bw=5meg\n"
+        ".model amp opamp gbw={bw} en=2n\n"  # shadows the outer one inside 'stage'
+        "Xu in fb out amp\nRf fb out 10k\nRg fb 0 1k\n.ends\n"
+        "X1 a b stage bw=7meg\nX2 b c stage\nXtop a f g amp\nR1 a 0 1k\nR2 f g 1k\n"
+    )
+    inner1 = circuit.element("X1.Xu")
+    inner2 = circuit.element("X2.Xu")
+    outer = circuit.element("Xtop")
+    assert inner1.nodes == ("a", "x1.fb", "b")
+    assert inner1.model.gain_bandwidth_Hz == pytest.approx(7e6, rel=1e-12)  # the instance's bw
+    assert inner2.model.gain_bandwidth_Hz == pytest.approx(5e6, rel=1e-12)  # the default bw
+    assert inner1.model.voltage_noise == pytest.approx(2e-9, rel=1e-12)
+    assert outer.model.gain_bandwidth_Hz == pytest.approx(1e6, rel=1e-12) and outer.model.voltage_noise == 0.0
+
+
+def test_amplifier_library_loads(tmp_path):
+    library = REPO / "circuits" / "lib" / "amplifiers.inc"
+    text = library.read_text(encoding="utf-8")
+    names = [line.split()[1] for line in text.splitlines() if line.lower().startswith(".model")]
+    assert {"generic_bjt_lownoise", "generic_jfet_input", "generic_cmos_rrio", "generic_fast_vfb"} <= set(names)
+    assert "None of these is a model of any real part" in text
+    lines = ["amplifier library", f".include {library}"]
+    for index, name in enumerate(names):
+        lines.append(f"Xu{index} p n o{index} {name}")
+        lines.append(f"R{index} n o{index} 10k")
+    lines.append("Rp p 0 1k")
+    circuit = parse_netlist("\n".join(lines) + "\n")
+    models = {e.model.name: e.model for e in circuit.elements if isinstance(e, OpAmp)}
+    assert set(models) == set(names)
+    bjt, jfet = models["generic_bjt_lownoise"], models["generic_jfet_input"]
+    # the library's story: the bipolar part is quieter in voltage, the JFET part in current
+    assert bjt.voltage_noise < jfet.voltage_noise and bjt.current_noise > 100 * jfet.current_noise
+    assert models["generic_cmos_rrio"].voltage_noise_corner_Hz > 10 * jfet.voltage_noise_corner_Hz
+    assert models["generic_fast_vfb"].gain_bandwidth_Hz == max(m.gain_bandwidth_Hz for m in models.values())

@@ -23,6 +23,7 @@ class Bad:
     column: int
     file: str = "top.cir"  # the file the error points into
     files: dict = field(default_factory=dict)  # other files: relative path -> text
+    caret: bool = True  # False only where there is no text to show (an empty file)
 
 
 def _include_chain(length: int) -> dict:
@@ -165,6 +166,81 @@ BAD = [
     Bad("include itself", "t\n.include top.cir\n", "makes a cycle: top.cir -> top.cir", 2, 1),
     Bad("include too deep", "t\n.include f0.inc\n", "nested more than 16 deep", 1, 1, file="f15.inc", files=_include_chain(20)),
     Bad("NUL byte", b"t\nR1 a 0 1\nR2 a\x00 0 1\n", "is a NUL character", 3, 5),
+    Bad("binary garbage", b"\x89PNG\r\n\x1a\n\x00\x00\x00\rIHDR", "is a NUL character", 3, 1),
+    Bad("binary garbage, valid UTF-8", "t\n\x1b[31mR1 a 0 1\n", "the control character U+001B is not allowed", 2, 1),
+    Bad("text-direction control", "t\nR1 a\u202eb 0 1\n", "invisible formatting character U+202E", 2, 5),
+    Bad("latin-1 file", "t\nR1 a 0 1k ; 10 \u00b5A\n".encode("latin-1"), "is not valid UTF-8", 2, 16),
+    # ---- nothing to analyse
+    Bad("empty file", "", "the netlist is empty", 1, 1, caret=False),
+    Bad("title only", "just a title\n", "the netlist has no elements", 1, 1),
+    Bad("single element line is the title", "R1 a 0 1k\n", "the netlist has no elements", 1, 1),
+    Bad("definitions only", "t\n.subckt s a\nR1 a 0 1\n.ends\n", "the netlist has no elements", 1, 1),
+    # ---- malformed values
+    Bad("letters for a value", "t\nR1 a b abc\n", "'abc' is not a number", 2, 8),
+    Bad("exponent without digits", "t\nR1 a b 1e\n", "'1e' has an exponent without digits", 2, 8),
+    Bad("kk in an expression", "t\nR1 a b {2*1kk}\n", "two scale suffixes", 2, 11),
+    Bad("unclosed paren in expression", "t\nR1 a b {(1+2}\n", "'}' is not allowed here; expected ')' or an operator", 2, 13),
+    Bad("extra close paren in expression", "t\nR1 a b {(1+2))}\n", "')' is not allowed here", 2, 14),
+    Bad("continuation after a comment only", "t\n* opening remark\n+ R1 a 0 1\n", "a '+' line continues the line before it", 3, 1),
+    # ---- very long lines: no crash, a bounded message
+    Bad("megabyte word", "t\nR1 a b 1k " + "x" * 1_000_000 + "\n", "unexpected extra field 'xxxxx", 2, 11),
+    Bad("megabyte value", "t\nR1 a b 1" + "k" * 1_000_000 + "\n", "two scale suffixes", 2, 8),
+    Bad("megabyte name", "t\nR" + "x" * 1_000_000 + " a b\n", "is missing its value", 2, 1_000_006),
+    # ---- hostile expressions: our evaluator refuses them, nothing is run
+    Bad("import in expression", "t\nR1 a b {__import__('os')}\n", "is not allowed here", 2, 20),
+    Bad("attribute access", "t\nR1 a b {().__class__}\n", "')' is not allowed here", 2, 10),
+    Bad("dunder name", "t\nR1 a b {__builtins__}\n", "undefined parameter '__builtins__'", 2, 9),
+    Bad("call of a parameter", "t\n.param f=1\nR1 a b {f(2)}\n", "unknown function 'f'", 3, 9),
+    Bad("tower of powers", "t\nR1 a b {10**10**10}\n", "overflows", 2, 9),
+    Bad("huge pow()", "t\nR1 a b {pow(9, 9e99)}\n", "overflows", 2, 9),
+    Bad("huge exp()", "t\n.param x={exp(1e6)}\n", "overflows", 2, 11),
+    Bad("deep signs", "t\nR1 a b {" + "-(" * 5000 + "1" + ")" * 5000 + "}\n", "nested more than 200 operations deep", 2, 409),
+    Bad("long sum", "t\nR1 a b {" + "+".join(["1"] * 5000) + "}\n", "nested more than 200 operations deep", 2, 9),
+    Bad("deep unclosed parens", "t\nR1 a b {" + "(" * 5000 + "\n", "the line ends too early", 2, 5009),
+    # ---- resistor options
+    Bad("resistor unknown option", "t\nR1 a 0 1k tc=1\n", "unexpected extra field 'tc=...' on R1", 2, 11),
+    Bad("resistor temp twice", "t\nR1 a 0 1k temp=1 temp=2\n", "R1 has two temp= values", 2, 18),
+    Bad("resistor noiseless twice", "t\nR1 a 0 1k noiseless noiseless\n", "R1 says 'noiseless' twice", 2, 21),
+    Bad("resistor below absolute zero", "t\nR1 a 0 1k temp=-274\n", "temp=-274 °C is at or below absolute zero", 2, 16),
+    Bad("resistor bad noise index", "t\nR1 a 0 1k ni=abc\n", "bad noise index of R1", 2, 14),
+    Bad("capacitor noiseless", "t\nC1 a 0 1n noiseless\n", "unexpected extra field 'noiseless' on C1", 2, 11),
+    # ---- source noise
+    Bad("corner without noise", "t\nV1 a 0 corner=10\n", "corner= shapes a noise density, but there is no noise=", 2, 8),
+    Bad("slope without noise", "t\nI1 a 0 1u slope=2\n", "slope= shapes a noise density", 2, 11),
+    Bad("negative noise density", "t\nV1 a 0 noise=-1n\n", "the noise density cannot be negative", 2, 14),
+    Bad("negative corner", "t\nV1 a 0 noise=1n corner=-1\n", "the noise corner cannot be negative", 2, 24),
+    Bad("zero slope", "t\nV1 a 0 noise=1n slope=0\n", "0 < slope <= 3, not 0", 2, 23),
+    Bad("steep slope", "t\nI1 a 0 noise=1p slope={2+2}\n", "0 < slope <= 3, not 4", 2, 23),
+    Bad("noise twice", "t\nV1 a 0 noise=1n noise=2n\n", "V1 has two noise= values", 2, 17),
+    Bad("shot on a voltage source", "t\nV1 a 0 1 shot\n", "'shot' applies to current sources only", 2, 10),
+    Bad("shot twice", "t\nI1 a 0 1m shot shot\n", "I1 says 'shot' twice", 2, 16),
+    # ---- amplifier models
+    Bad("model unknown parameter", "t\n.model m opamp(en=1n foo=2)\n", "an opamp model has no parameter 'foo'", 2, 22),
+    Bad("model unknown parameter, no parens", "t\n.model m opamp gain=2\n", "no parameter 'gain'", 2, 16),
+    Bad("transistor model", "t\n.model q1 npn(bf=100)\n", ".model q1: bipolar transistor models are not supported", 2, 11),
+    Bad("unknown model type", "t\n.model x weird\n", "model type 'weird' is not supported", 2, 10),
+    Bad("model without type", "t\n.model m\n", ".model is missing its model type", 2, 9),
+    Bad("model bare parameter", "t\n.model m opamp en\n", "expected a name=value parameter on .model m, not 'en'", 2, 16),
+    Bad("model parameter twice", "t\n.model m opamp en=1n EN=2n\n", "parameter 'EN' is given twice", 2, 22),
+    Bad("model defined twice", "t\n.model m opamp\n.model M opamp\n", "model 'M' is defined twice", 3, 8),
+    Bad("model named like a subckt", "t\n.subckt amp a\n.ends\n.model amp opamp\n", "'amp' is both a subcircuit and a .model", 4, 8),
+    Bad("subckt named like a model", "t\n.model amp opamp\n.subckt AMP a\n.ends\n", "'AMP' is both a subcircuit and a .model", 3, 9),
+    Bad(
+        "model and subckt both visible",
+        "t\n.subckt amp a b c\n.ends\n.subckt stage p\n.model amp opamp\nXu p 0 p amp\n.ends\nX1 n stage\n",
+        "'amp' names both a subcircuit and a .model",
+        6,
+        10,
+    ),
+    Bad("model scoped to its subckt", "t\n.subckt s p\n.model m opamp\n.ends\nXu a b c m\n", "no subcircuit or amplifier model called 'm'", 5, 10),
+    Bad("amplifier with two pins", "t\n.model m opamp\nXu a b m\n", "Xu connects 2 node(s) but the amplifier 'm' has 3 pins (in+, in-, out)", 3, 1),
+    Bad("amplifier with four pins", "t\n.model m opamp\nXu a b c d m\n", "has 3 pins (in+, in-, out)", 3, 1),
+    Bad("amplifier unknown override", "t\n.model m opamp\nXu a b c m bw=1\n", "Xu: an opamp model has no parameter 'bw'", 3, 12),
+    Bad("amplifier override twice", "t\n.model m opamp\nXu a b c m en=1n en=2n\n", "parameter 'en' is given twice on Xu", 3, 18),
+    Bad("zero open-loop gain", "t\n.model m opamp aol=0\nXu a b c m\n", "aol (open-loop DC gain, V/V) must be above 0", 2, 20),
+    Bad("negative gbw override", "t\n.model m opamp\nXu a b c m gbw=-1\n", "gbw (gain-bandwidth product, Hz) must be above 0", 3, 16),
+    Bad("negative input noise", "t\n.model m opamp (en={-1n})\nXu a b c m\n", "Xu: en (input voltage noise density", 2, 20),
+    Bad("model value undefined parameter", "t\n.model m opamp gbw={f}\nXu a b c m\n", "undefined parameter 'f'", 2, 21),
     Bad("not UTF-8", "t\nR1 a 0 1 ; caf\u00e9\n".encode("utf-8") + b"R2 \xe9 0 1\n", "is not valid UTF-8", 3, 4),
 ]
 
@@ -190,9 +266,16 @@ def test_bad_netlist(case: Bad, tmp_path):
     shown = str(error)
     lines = shown.splitlines()
     assert lines[0].startswith(f"{error.location}: ")
-    caret_line = next(line for line in lines if line.strip() == "^")
-    assert caret_line.index("^") - 4 == case.column - 1  # excerpt lines are indented by 4
+    if case.caret:
+        caret_line = next(line for line in lines if line.strip() == "^")
+        shown_line = lines[lines.index(caret_line) - 1]
+        if len(error.location.text) <= 200:
+            assert caret_line.index("^") - 4 == case.column - 1  # excerpt lines are indented by 4
+        else:  # a long line is shown as a window around the column
+            caret_at = caret_line.index("^")
+            assert (shown_line + " ")[caret_at] == (error.location.text + " ")[case.column - 1]
     assert "lark" not in shown.lower() and "Unexpected" not in shown
+    assert len(shown) < 2000  # bounded, whatever the length of the line
 
 
 def test_missing_file_is_a_netlist_error(tmp_path):
@@ -209,3 +292,90 @@ def test_text_errors_name_the_given_filename():
     with pytest.raises(NetlistError) as info:
         parse_netlist("t\nR1 a b\n", filename="<pasted>")
     assert str(info.value).startswith("<pasted>:2:7: R1 is missing its value")
+
+
+def _write_case(case: Bad, tmp_path):
+    for relative, content in case.files.items():
+        target = tmp_path / relative
+        target.parent.mkdir(parents=True, exist_ok=True)
+        target.write_text(content, encoding="utf-8")
+    top = tmp_path / "top.cir"
+    if isinstance(case.text, bytes):
+        top.write_bytes(case.text)
+    else:
+        top.write_text(case.text, encoding="utf-8")
+    return top
+
+
+# a sample of the table through the command line: exit status 2, the place, no traceback
+CLI_ROWS = [
+    "missing value",
+    "title only",
+    "unknown letter",
+    "double suffix",
+    "unclosed brace",
+    "not UTF-8",
+    "binary garbage, valid UTF-8",
+    "megabyte word",
+    "import in expression",
+    "deep signs",
+    "include cycle",
+    "amplifier with two pins",
+]
+
+
+@pytest.mark.parametrize("case", [c for c in BAD if c.id in CLI_ROWS], ids=lambda case: case.id)
+def test_bad_netlist_through_the_cli(case: Bad, tmp_path, capsys):
+    from netnoise.cli import main
+
+    top = _write_case(case, tmp_path)
+    status = main(["analyze", str(top)])
+    captured = capsys.readouterr()
+    assert status == 2
+    assert f"{case.file}:{case.line}:{case.column}: " in captured.err
+    assert case.fragment in captured.err
+    assert "Traceback" not in captured.err and "Traceback" not in captured.out
+    assert len(captured.err) < 3000
+
+
+def test_cli_rows_are_in_the_table():
+    assert {c.id for c in BAD} >= set(CLI_ROWS)
+
+
+HOSTILE = [
+    "{__import__('os').system('echo hi')}",
+    "{().__class__.__bases__[0].__subclasses__()}",
+    "{eval('1')}",
+    "{exec('x=1')}",
+    "{open('/etc/passwd')}",
+    "{lambda: 1}",
+    "{[1, 2]}",
+    "{1 if 1 else 2}",
+    "{10**10**10**10}",
+    "{9**9**9}",
+    "{" + "(" * 3000 + "1" + ")" * 3000 + "}",
+    "{" + "-" * 3000 + "1}",
+    "{" + "*".join(["2"] * 3000) + "}",
+    "{" + "sqrt(" * 1000 + "4" + ")" * 1000 + "}",
+]
+
+
+@pytest.mark.parametrize("expression", HOSTILE, ids=range(len(HOSTILE)))
+def test_hostile_expressions_never_reach_python(expression, monkeypatch):
+    import builtins
+
+    from netnoise.grammar import netlist_parser
+
+    netlist_parser()  # built before the trap is set
+
+    def trap(*args, **kwargs):
+        raise AssertionError("an expression reached Python's eval/exec/compile")
+
+    for name in ("eval", "exec", "compile"):
+        monkeypatch.setattr(builtins, name, trap)
+    try:
+        circuit = parse_netlist(f"t\nR1 a 0 {expression}\n")
+    except NetlistError as error:
+        assert error.location is not None and error.location.line == 2
+    else:  # only the harmless deep parentheses evaluate (to 1)
+        assert circuit.element("R1").resistance == 1.0

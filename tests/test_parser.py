@@ -7,10 +7,12 @@ import pytest
 from netnoise.grammar import START_SYMBOLS, grammar_path, netlist_parser
 from netnoise.netlist import load_netlist, parse_netlist
 from netnoise.parser import (
+    OPAMP_PARAMS,
     Coupling,
     CurrentControlled,
     IndependentSource,
     Instance,
+    ModelCard,
     NoiseCard,
     ParamCard,
     Passive,
@@ -206,3 +208,83 @@ def test_noise_card_without_source_before_sweep():
     card = circuit.noise_card
     assert card.input_source is None
     assert (card.sweep.kind, card.sweep.points, card.sweep.start, card.sweep.stop) == ("dec", 10, 1.0, 1e6)
+
+
+# ---- runs of plain words (one token) keep every word's place
+
+
+def test_words_in_a_run_keep_their_columns():
+    r1 = only("t\nR1   a\tbb  10k\n")
+    assert [(w.text, w.loc.column) for w in r1.nodes] == [("a", 6), ("bb", 8)]
+    assert r1.value.text == "10k" and r1.value.loc.column == 12
+    assert r1.value.loc.text == "R1   a\tbb  10k"
+
+
+def test_a_word_before_equals_or_parenthesis_is_not_in_the_run():
+    x = only("t\nX1 a b rc r =1k c= {2}\n")
+    assert [w.text for w in x.nodes] == ["a", "b"] and x.subckt.text == "rc"
+    assert [(a.name, a.loc.column) for a in x.overrides] == [("r", 11), ("c", 17)]
+    v = only("t\nV1 a 0 DC 1 SIN (0 1 1k) AC 1\n")
+    assert v.waveform == "SIN" and v.has_ac
+
+
+# ---- resistor options (issue 3)
+
+
+def test_resistor_options_any_order():
+    r = only("t\nR1 a b 10k ni=-20 temp=85\n")
+    assert isinstance(r, Passive)
+    assert r.noise_index.number == pytest.approx(-20.0, rel=1e-12)
+    assert r.temperature.number == pytest.approx(85.0, rel=1e-12)
+    assert not r.noiseless
+    load = only("t\nRload out 0 1meg NOISELESS\n")
+    assert load.noiseless and load.temperature is None and load.noise_index is None
+    braced = only("t\nR2 a 0 1k temp={t0+10} noiseless\n")
+    assert braced.noiseless and braced.temperature.tree is not None
+
+
+# ---- source noise and shot (issue 3)
+
+
+def test_source_noise_fields():
+    v = only("t\nV1 a 0 DC 1 AC 1 noise=4n corner=10 slope=1.5\n")
+    assert isinstance(v, IndependentSource)
+    assert v.dc.number == pytest.approx(1.0, rel=1e-12) and v.has_ac
+    assert v.noise.number == pytest.approx(4e-9, rel=1e-12)  # n = 1e-9 (SI)
+    assert v.corner.number == pytest.approx(10.0, rel=1e-12)
+    assert v.slope.number == pytest.approx(1.5, rel=1e-12)
+    assert not v.shot
+    i = only("t\nIph 0 in DC 2u AC 1 shot\n")
+    assert i.shot and i.noise is None and i.ac_magnitude.number == pytest.approx(1.0, rel=1e-12)
+    before = only("t\nI2 a 0 noise={2*in0} 1m\n")
+    assert before.noise.tree is not None and before.dc.number == pytest.approx(1e-3, rel=1e-12)
+
+
+# ---- .model cards (issue 3)
+
+
+def test_model_card_forms():
+    spaced = only("t\n.model LNA1 opamp (en=4n en_corner=100 in=0.5p gbw=10meg)\n")
+    assert isinstance(spaced, ModelCard)
+    assert spaced.name.text == "LNA1" and spaced.kind == "opamp"
+    assert [a.name for a in spaced.params] == ["en", "en_corner", "in", "gbw"]
+    bare = only("t\n.MODEL lna2 OPAMP en=4n gbw={f0*10}\n")
+    assert [a.name for a in bare.params] == ["en", "gbw"] and bare.params[1].value.tree is not None
+    glued = only("t\n.model lna3 opamp(aol=1e5, gbw=1meg)\n")
+    assert [a.name for a in glued.params] == ["aol", "gbw"]
+    continued = only("t\n.model lna4 opamp (en=1n\n+ in=1p\n+ rout=50)\n")
+    assert [a.name for a in continued.params] == ["en", "in", "rout"]
+    assert continued.params[2].loc.line == 4
+    empty = only("t\n.model lna5 opamp\n")
+    assert empty.params == ()
+
+
+def test_model_parameter_names_are_ours():
+    assert list(OPAMP_PARAMS) == ["en", "en_corner", "in", "in_corner", "aol", "gbw", "fp2", "cin", "cdiff", "rout"]
+
+
+def test_amplifier_instance_is_an_instance_line():
+    x = only("t\nXu1 inp inn out LNA1 en=3n gbw=20meg\n")
+    assert isinstance(x, Instance)
+    assert [w.text for w in x.nodes] == ["inp", "inn", "out"] and x.subckt.text == "LNA1"
+    assert [a.name for a in x.overrides] == ["en", "gbw"]

@@ -113,3 +113,39 @@ def test_milli_slip_suggests_the_same_number():
 def test_value_is_a_python_float():
     assert isinstance(parse_value("1k"), float)
     assert math.isfinite(parse_value("1t"))
+
+
+# ---- the fast path (one full-match regex) agrees with the step-by-step checks
+
+from hypothesis import given, settings  # noqa: E402
+from hypothesis import strategies as st  # noqa: E402
+
+from netnoise.values import _split_checked  # noqa: E402
+
+_VALUE_PIECES = st.tuples(
+    st.sampled_from(["", "+", "-"]),
+    st.sampled_from(["0", "1", "47", "4.7", ".5", "5.", "1e3", "1E-12", "2e+6", "1e", "x", ""]),
+    st.sampled_from(["", "f", "p", "n", "u", "\u00b5", "\u03bc", "m", "M", "k", "K", "meg", "MEG", "mil", "g", "t", "kk", "q"]),
+    st.sampled_from(["", "ohm", "Ohms", "\u03a9", "F", "h", "V", "a", "Hz", "s", "x", "ohmx"]),
+    st.sampled_from(["", " ", "\t"]),
+).map("".join)
+
+
+@settings(max_examples=300, deadline=None)
+@given(_VALUE_PIECES | st.text(max_size=12))
+def test_fast_path_agrees_with_the_checked_path(text):
+    try:
+        expected = _split_checked(text)
+    except ValueError:
+        expected = None
+    try:
+        got = split_value(text)
+    except ValueError:
+        got = None
+    assert got == expected
+
+
+def test_long_bad_value_message_is_bounded():
+    with pytest.raises(ValueError) as info:
+        split_value("1" + "z" * 100_000)
+    assert len(str(info.value)) < 200
