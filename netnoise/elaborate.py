@@ -55,6 +55,7 @@ from .parser import (
     Value,
     VoltageControlled,
     Word,
+    bounded,
     check_opamp_param,
     parse_statements,
     read_netlist_text,
@@ -71,16 +72,9 @@ _CARD_NAMES = {TempCard: ".temp", AcCard: ".ac", NoiseCard: ".noise", OptionsCar
 ABSOLUTE_ZERO_CELSIUS = -273.15
 
 
-MESSAGE_LIMIT = 300
-
-
 def _fail(message: str, location: SourceLocation | None, hint: str = "") -> NetlistError:
     # names can be very long; a message stays a line or two
-    if len(message) > MESSAGE_LIMIT:
-        message = message[: MESSAGE_LIMIT - 3] + "..."
-    if len(hint) > MESSAGE_LIMIT:
-        hint = hint[: MESSAGE_LIMIT - 3] + "..."
-    return NetlistError(message, location, hint)
+    return NetlistError(bounded(message), location, bounded(hint))
 
 
 def _where(location: SourceLocation) -> str:

@@ -63,6 +63,8 @@ __all__ = [
     "read_netlist_text",
     "SUPPORTED_LETTERS",
     "SUPPORTED_CARDS",
+    "bounded",
+    "shown",
 ]
 
 
@@ -105,14 +107,20 @@ def last_token(node: Tree | Token) -> Token:
 
 
 MESSAGE_LIMIT = 300
+_LONG_RUN = re.compile(r"\S{120,}")
+
+
+def bounded(text: str) -> str:
+    """``text`` for a message: a run of 120 or more non-blanks (a megabyte
+    name, say) keeps its start and end only, and the whole stays short."""
+    text = _LONG_RUN.sub(lambda m: m.group()[:60] + "..." + m.group()[-20:], text)
+    return text if len(text) <= MESSAGE_LIMIT else text[: MESSAGE_LIMIT - 3] + "..."
 
 
 def _fail(message: str, location: SourceLocation | None, hint: str = "") -> NetlistError:
     # a name or a word can be a megabyte long; a message stays a line or two
-    if len(message) > MESSAGE_LIMIT:
-        message = message[: MESSAGE_LIMIT - 3] + "..."
-    if len(hint) > MESSAGE_LIMIT:
-        hint = hint[: MESSAGE_LIMIT - 3] + "..."
+    message = bounded(message)
+    hint = bounded(hint)
     return NetlistError(message, location, hint)
 
 
@@ -652,6 +660,10 @@ def _unwrap(exc: UnexpectedInput, source: SourceText) -> NetlistError:
     """A NetlistError in plain words for one of lark's parse exceptions."""
     if isinstance(exc, UnexpectedToken):
         token = exc.token
+        if token.type == "WORDS":  # show its first word, where that word starts
+            text = str(token)
+            first = text.split()[0]
+            token = Token("WORD", first, line=token.line, column=token.column + text.index(first))
         if token.type == "$END":
             last = len(source.lines)
             loc = source.location(last, len(source.lines[-1]) + 1 if source.lines else 1)

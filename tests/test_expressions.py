@@ -106,3 +106,14 @@ def test_no_python_eval_reachable():
     # a Python expression that is not in our grammar must not be evaluated
     with pytest.raises(NetlistError):
         evaluate_text("__import__('os')")
+
+
+def test_nesting_limit_boundary():
+    from netnoise.expressions import MAX_DEPTH
+
+    # MAX_DEPTH - 1 signs and a number: MAX_DEPTH operations, still evaluated
+    assert evaluate_text("-" * (MAX_DEPTH - 1) + "2") == pytest.approx((-1) ** (MAX_DEPTH - 1) * 2, rel=1e-12)
+    with pytest.raises(NetlistError, match=f"nested more than {MAX_DEPTH} operations deep"):
+        evaluate_text("-" * (MAX_DEPTH + 5) + "2")
+    # parentheses alone add no operations: a thousand of them are fine
+    assert evaluate_text("(" * 1000 + "3" + ")" * 1000) == pytest.approx(3.0, rel=1e-12)
