@@ -135,8 +135,13 @@ class _Problem:
         """Rows of output density (V²/Hz) at ``frequency_Hz``: every source's
         ``part`` ("full", "white" or "colored"); then, with ``extra_colored``,
         the 1/f part of each colored source again; then |H|² of the input."""
-        power, signal = self.transfer_power(frequency_Hz)
-        rows = [power * self.sources.density(frequency_Hz, part)]
+        from .transfer import transfer_power  # blocks of frequencies, never all (F, n) solutions at once
+
+        power, signal = transfer_power(
+            self.system, self.selector, self.sources.injection, self.input_vector, frequency_Hz
+        )
+        rows = [power]
+        rows[0] *= self.sources.density(frequency_Hz, part)
         if extra_colored:
             colored = np.flatnonzero(self.sources.colored)
             rows.append(power[colored] * self.sources.density(frequency_Hz, "colored")[colored])
@@ -155,8 +160,16 @@ class _Problem:
         return out + ([slice(k, k + 1)] if self.has_input else [])
 
     def poles_Hz(self) -> np.ndarray | None:
+        """Magnitudes of the finite poles (Hz): all of them up to EXACT_LIMIT
+        unknowns (dense QZ); beyond it, estimates of the lowest and highest
+        only (:func:`netnoise.wideband.pole_range_Hz`, sparse, no dense matrix)."""
         if self.system.size > EXACT_LIMIT:
-            return None
+            from .wideband import pole_range_Hz
+
+            cached = self.__dict__.get("_pole_range")
+            if cached is None:
+                cached = self.__dict__["_pole_range"] = pole_range_Hz(self.system.G, self.system.C)
+            return None if cached is None else np.array(cached)
         return finite_poles_Hz(self.system.G.toarray(), self.system.C.toarray())
 
 
@@ -300,20 +313,43 @@ def _linear_start(poles: np.ndarray | None, high: float) -> float:
 
 
 def _exact_totals(problem: _Problem) -> np.ndarray:
+    """Every source's white-noise variance (and ∫|H|² of the input) from 0 Hz
+    to infinity: exact up to EXACT_LIMIT unknowns, else by quadrature with an
+    analytic tail (:mod:`netnoise.wideband`; ``problem.wideband_note`` then
+    says so)."""
     system = problem.system
-    if system.size > EXACT_LIMIT:
-        raise CircuitError(
-            f"the exact infinite-bandwidth total is computed for circuits of up to {EXACT_LIMIT} "
-            f"unknowns; this one has {system.size}. Give a finite band with --band LOW HIGH"
-        )
-    columns = problem.sources.injection.toarray()
-    density = np.asarray(problem.sources.white_density)
-    if problem.has_input:
-        columns = np.hstack([columns, problem.input_vector[:, None]])
-        density = np.append(density, 1.0)
-    totals = infinite_band_totals(system.G.toarray(), system.C.toarray(), problem.selector, columns, density)
     k = len(problem.sources)
-    unbounded = [problem.sources.sources[i].name for i in np.flatnonzero(np.isinf(totals.variance[:k]))]
+    if system.size > EXACT_LIMIT:
+        from .wideband import wideband_totals
+
+        poles = problem.poles_Hz()
+        if poles is None:
+            raise CircuitError(
+                f"the total to infinite bandwidth of this circuit ({system.size} unknowns) cannot be "
+                "estimated: its pole range is not defined. Give a finite band with --band LOW HIGH"
+            )
+        wide = wideband_totals(
+            lambda f: problem.densities(f, "white"), problem.groups(), float(poles.min()), float(poles.max())
+        )
+        unbounded_rows = np.flatnonzero(wide.unbounded[:k])
+        variance = wide.values
+        if unbounded_rows.size:
+            variance = variance.copy()
+            variance[unbounded_rows] = np.inf
+        problem.wideband_note = (
+            f"circuit of {system.size} unknowns, above the {EXACT_LIMIT} of the exact method: the total to "
+            f"infinite bandwidth is integrated numerically up to {format_quantity(wide.top_Hz, 'Hz')} "
+            f"(100x the estimated highest pole) plus an analytic tail ({100 * wide.tail_share:.2g} % of the "
+            f"total); estimated relative error {max(wide.rel_error, 1e-2 * wide.tail_share):.1e}"
+        )
+    else:
+        columns = problem.sources.injection.toarray()
+        density = np.asarray(problem.sources.white_density)
+        if problem.has_input:
+            columns = np.hstack([columns, problem.input_vector[:, None]])
+            density = np.append(density, 1.0)
+        variance = infinite_band_totals(system.G.toarray(), system.C.toarray(), problem.selector, columns, density).variance
+    unbounded = [problem.sources.sources[i].name for i in np.flatnonzero(np.isinf(variance[:k]))]
     if unbounded:
         shown = ", ".join(unbounded[:5]) + (f" and {len(unbounded) - 5} more" if len(unbounded) > 5 else "")
         raise CircuitError(
@@ -322,7 +358,7 @@ def _exact_totals(problem: _Problem) -> np.ndarray:
             "Give a finite band (--band LOW HIGH, or a .noise card), or add the capacitance "
             "that limits the real circuit's bandwidth"
         )
-    return totals.variance
+    return variance
 
 
 def _refuse_non_finite(variance: np.ndarray, density: np.ndarray) -> None:

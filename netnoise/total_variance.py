@@ -26,8 +26,6 @@ import math
 from dataclasses import dataclass
 
 import numpy as np
-import scipy.linalg as la
-from scipy.linalg import lapack
 
 from .errors import CircuitError
 
@@ -78,6 +76,8 @@ def _finite_first(alpha, beta):
 
 def finite_poles_Hz(G: np.ndarray, C: np.ndarray) -> np.ndarray:
     """Magnitudes |p|/2π (Hz) of the finite poles of ``det(G + sC) = 0``."""
+    import scipy.linalg as la  # loaded on first use: keeps the command line's start-up short
+
     n = G.shape[0]
     sc = _scale(G, C, np.zeros(n), np.zeros((n, 0)))
     w = la.eigvals(sc.a, sc.e, homogeneous_eigvals=True)
@@ -95,6 +95,9 @@ def infinite_band_totals(
     input reaches the output without roll-off gets ``inf``; CircuitError for
     a pole on or right of the imaginary axis.
     """
+    import scipy.linalg as la  # loaded on first use: keeps the command line's start-up short
+    from scipy.linalg import lapack
+
     n = G.shape[0]
     sc = _scale(np.asarray(G, float), np.asarray(C, float), np.asarray(c, float), np.asarray(B, float))
     aa, ee, alpha, beta, q, z = la.ordqz(sc.a, sc.e, sort=_finite_first, output="real")

@@ -6,117 +6,394 @@ transpose, not conjugate).  One solve per frequency therefore gives the
 gain from *every* noise source (Rohrer, Nagel, Meyer and Weber, IEEE JSSC
 1971).
 
-Two paths with the same result:
+Three paths with the same result, chosen by size and structure once per
+circuit (:class:`AdjointSolver`, cached per :class:`~netnoise.mna.MnaSystem`):
 
-* dense and batched across frequency for small circuits (numpy's batched
-  LU solve over a stack of matrices, in chunks bounded in memory);
-* sparse (SuperLU) one factorisation per frequency for large circuits, never
-  forming a dense matrix.
+* ``dense``: up to ``DENSE_LIMIT`` unknowns, batched across frequency
+  (numpy's stacked LU solve), in chunks bounded in memory;
+* ``banded``: a large circuit whose reverse Cuthill–McKee ordering has a
+  narrow band (ladders, chains, lines): LAPACK ``zgbsv`` on the band,
+  O(n·bandwidth²) per frequency;
+* ``sparse``: SuperLU.  The fill-reducing ordering (minimum degree on
+  ``Aᵀ + A``) is computed once, at the first frequency; the pattern is
+  permuted symmetrically once, and later frequencies factor it with the
+  ``NATURAL`` ordering, symmetric mode and threshold pivoting.
+
+Every path works on the equilibrated matrix ``Dr·Y(f)ᵀ·Dc`` (LAPACK
+``geequ``-style row then column scaling by powers of two, at each
+frequency), so element values spanning 1 fF to 1 TΩ and frequencies from mHz
+to 100 GHz keep their accuracy.  Every path also solves for one fixed random
+probe vector beside ``c``; ``‖Ã‖·‖Ã⁻¹p‖/‖p‖`` is a lower bound of the
+condition number (the probe meets the near-null direction of a singular
+matrix with probability one), and a frequency where it exceeds
+``1/RCOND_MIN`` is refused as singular with the frequency named: exact and
+near singularity (a lossless resonance on a grid point) alike.
+
+Memory: no dense matrix is formed above ``DENSE_LIMIT`` unknowns; the band
+and the sparse factors are checked against the available memory before they
+are formed (:mod:`netnoise.resources`).
 """
 
 from __future__ import annotations
 
+import math
+import weakref
+
 import numpy as np
-import scipy.linalg
-import scipy.sparse as sp
-import scipy.sparse.linalg as spla
 
 from .errors import CircuitError
 from .mna import MnaSystem
+from .resources import require_memory
 
-__all__ = ["adjoint_solutions", "DENSE_LIMIT"]
+__all__ = ["adjoint_solutions", "transfer_power", "AdjointSolver", "solver_for", "DENSE_LIMIT", "RCOND_MIN"]
 
-DENSE_LIMIT = 200  # unknowns; above this the sparse path is used
+DENSE_LIMIT = 200  # unknowns; above this the banded or sparse path is used
+RCOND_MIN = 1e-13  # estimated reciprocal condition number (equilibrated) below which a frequency is refused
 _CHUNK_BYTES = 64 * 2**20  # memory for one batch of dense complex matrices
+_BAND_ALWAYS = 16  # kl + ku up to which the banded path is taken without comparing costs
+_PIVOT_THRESHOLD = 0.1  # SuperLU threshold partial pivoting (1.0 = classical partial pivoting)
+_GAIN_CHUNK = 32  # frequencies per block when gathering source gains
+
+FORCE_METHOD: str | None = None  # "dense", "banded" or "sparse" to override the choice (tests)
+
+_SOLVERS: "weakref.WeakKeyDictionary[MnaSystem, AdjointSolver]" = weakref.WeakKeyDictionary()
+
+
+def solver_for(system: MnaSystem) -> "AdjointSolver":
+    """The (cached) solver of ``system``: path, pattern and ordering are
+    decided once per circuit and reused for every later frequency."""
+    solver = _SOLVERS.get(system)
+    if solver is None or solver.dense_limit != DENSE_LIMIT or solver.forced != FORCE_METHOD:
+        solver = AdjointSolver(system)
+        _SOLVERS[system] = solver
+    return solver
 
 
 def adjoint_solutions(system: MnaSystem, selector: np.ndarray, frequency_Hz: np.ndarray) -> np.ndarray:
     """(F, n) complex ``z(f)`` with ``Y(f)ᵀ z(f) = selector`` at every frequency."""
-    frequency_Hz = np.asarray(frequency_Hz, dtype=float)
-    if system.size <= DENSE_LIMIT:
-        return _dense(system, selector, frequency_Hz)
-    return _sparse(system, selector, frequency_Hz)
+    return solver_for(system).solve(selector, np.asarray(frequency_Hz, dtype=float))
 
 
-def _singular(system: MnaSystem, f: float) -> CircuitError:
+def transfer_power(system, selector, injection, input_vector, frequency_Hz):
+    """``(|zᵀB|² (K, F), |zᵀu|² (F,) or None)``: the power transfer from every
+    column of the sparse injection matrix ``B`` (n, K) and from the input
+    vector ``u``, in blocks of frequencies (the (F, n) solutions are never
+    all held at once for a large circuit)."""
+    f = np.asarray(frequency_Hz, dtype=float)
+    solver = solver_for(system)
+    bt = injection.T.tocsr()  # (K, n)
+    k = bt.shape[0]
+    require_memory(f.size * (k * 8 + 8), "the per-source transfer at every frequency")
+    power = np.empty((k, f.size))
+    signal = np.empty(f.size) if input_vector is not None else None
+    chunk = f.size if system.size <= DENSE_LIMIT else _GAIN_CHUNK
+    for start in range(0, f.size, chunk):
+        stop = min(f.size, start + chunk)
+        z = solver.solve(selector, f[start:stop])  # (Fc, n)
+        if k:
+            gains = bt @ z.T  # (K, Fc)
+            power[:, start:stop] = gains.real**2 + gains.imag**2
+        if signal is not None:
+            s = z @ input_vector
+            signal[start:stop] = s.real**2 + s.imag**2
+    return power, signal
+
+
+def _singular(f: float, rcond: float | None = None) -> CircuitError:
     where = "at DC (0 Hz)" if f == 0.0 else f"at {f:.6g} Hz"
+    how = "singular" if rcond is None or rcond == 0.0 else f"singular to working precision (estimated condition number {1 / rcond:.1e})"
     advice = (
         "a node may lack a DC path to ground, or voltage sources/inductors form a loop"
         if f == 0.0
         else "a lossless resonance or a loop of ideal sources makes the circuit singular there; "
         "add a realistic loss (series or parallel resistance) or move the band/grid"
     )
-    return CircuitError(f"the circuit equations are singular {where}: {advice}")
+    return CircuitError(f"the circuit equations are {how} {where}: {advice}")
 
 
-def _dense(system: MnaSystem, selector: np.ndarray, frequency_Hz: np.ndarray) -> np.ndarray:
-    n = system.size
-    gt = system.G.T.toarray()
-    ct = system.C.T.toarray()
-    out = np.empty((frequency_Hz.size, n), dtype=complex)
-    chunk = max(1, _CHUNK_BYTES // (16 * n * n))
-    for start in range(0, frequency_Hz.size, chunk):
-        f = frequency_Hz[start : start + chunk]
-        yt = gt[None, :, :] + (2j * np.pi * f)[:, None, None] * ct[None, :, :]
-        rhs = np.broadcast_to(selector.astype(complex), (f.size, n))[..., None]
-        try:
-            z = np.linalg.solve(yt, rhs)[..., 0]
-        except np.linalg.LinAlgError:
-            z = _dense_one_by_one(system, yt, selector, f)
-        bad = ~np.all(np.isfinite(z), axis=1)
-        if bad.any():
-            raise _singular(system, float(f[np.argmax(bad)]))
-        out[start : start + f.size] = z
-    return out
+def _probe(n: int) -> np.ndarray:
+    """The fixed random probe vector (reproducible; entries of size ~1)."""
+    return np.random.default_rng(20240917).standard_normal(n) + 0j
 
 
-def _dense_one_by_one(system, yt, selector, f):
-    z = np.empty((f.size, yt.shape[1]), dtype=complex)
-    for i in range(f.size):
-        try:
-            lu = scipy.linalg.lu_factor(yt[i], check_finite=False)
-        except (np.linalg.LinAlgError, ValueError):
-            raise _singular(system, float(f[i])) from None
-        if np.any(np.diag(lu[0]) == 0):
-            raise _singular(system, float(f[i]))
-        z[i] = scipy.linalg.lu_solve(lu, selector.astype(complex), check_finite=False)
-    return z
+def _pow2(x: np.ndarray) -> np.ndarray:
+    """1/x rounded to a power of two (scaling by it is exact), 1 where x is 0."""
+    _, exponent = np.frexp(np.where(x > 0, x, 1.0))  # x = m·2^e, 0.5 <= m < 1
+    return np.ldexp(1.0, 1 - exponent)  # 2^(1-e): x times it lies in [1, 2)
 
 
-def _sparse(system: MnaSystem, selector: np.ndarray, frequency_Hz: np.ndarray) -> np.ndarray:
-    pattern = _CommonPattern(system.G, system.C)
-    rhs = selector.astype(complex)
-    out = np.empty((frequency_Hz.size, system.size), dtype=complex)
-    for i, f in enumerate(frequency_Hz):
-        try:
-            lu = spla.splu(pattern.matrix(2j * np.pi * f))
-        except RuntimeError:
-            raise _singular(system, float(f)) from None
-        z = lu.solve(rhs, trans="T")
-        if not np.all(np.isfinite(z)):
-            raise _singular(system, float(f))
-        out[i] = z
-    return out
+class _Pattern:
+    """The union pattern of Gᵀ and Cᵀ (the adjoint matrix), in CSC order,
+    optionally permuted symmetrically by ``order``; each frequency refills
+    only the data array."""
 
+    def __init__(self, gt, ct, order: np.ndarray | None = None):
+        import scipy.sparse as sp
 
-class _CommonPattern:
-    """The union sparsity pattern of G and C in CSC order, so that each
-    frequency only refills the data array of ``G + sC``."""
-
-    def __init__(self, g: sp.spmatrix, c: sp.spmatrix):
-        n = g.shape[0]
-        gc, cc = g.tocoo(), c.tocoo()
-        lin_g = gc.col.astype(np.int64) * n + gc.row
-        lin_c = cc.col.astype(np.int64) * n + cc.row
+        n = gt.shape[0]
+        gc, cc = sp.coo_matrix(gt), sp.coo_matrix(ct)
+        if order is not None:
+            where = np.empty(n, dtype=np.int64)
+            where[order] = np.arange(n)
+            gr, gcol, crow, ccol = where[gc.row], where[gc.col], where[cc.row], where[cc.col]
+        else:
+            gr, gcol, crow, ccol = gc.row, gc.col, cc.row, cc.col
+        lin_g = gcol.astype(np.int64) * n + gr
+        lin_c = ccol.astype(np.int64) * n + crow
         lin = np.unique(np.concatenate([lin_g, lin_c]))  # column-major order = CSC
+        self.n = n
         self.shape = (n, n)
-        self.indices = (lin % n).astype(np.int32 if n < 2**31 else np.int64)
-        self.indptr = np.searchsorted(lin // n, np.arange(n + 1)).astype(self.indices.dtype)
+        index_type = np.int32 if n < 2**31 - 1 else np.int64
+        self.rows = (lin % n).astype(index_type)
+        self.cols = (lin // n).astype(index_type)
+        self.indptr = np.searchsorted(self.cols, np.arange(n + 1)).astype(index_type)
         self.g_data = np.zeros(lin.size)
         self.c_data = np.zeros(lin.size)
         np.add.at(self.g_data, np.searchsorted(lin, lin_g), gc.data)
         np.add.at(self.c_data, np.searchsorted(lin, lin_c), cc.data)
+        self.g_abs, self.c_abs = np.abs(self.g_data), np.abs(self.c_data)
+        by_row = np.argsort(self.rows, kind="stable")
+        row_ptr = np.searchsorted(self.rows[by_row], np.arange(n + 1))
+        self.empty = bool(np.any(np.diff(self.indptr) == 0) or np.any(np.diff(row_ptr) == 0))
+        self._row_max = _SegmentMax(by_row, row_ptr)
+        self._col_max = _SegmentMax(np.arange(lin.size), self.indptr)
 
-    def matrix(self, s: complex) -> sp.csc_matrix:
-        """``G + s·C`` as a CSC matrix on the common pattern."""
-        return sp.csc_matrix((self.g_data + s * self.c_data, self.indices, self.indptr), shape=self.shape)
+    def scaled(self, s: complex):
+        """(data of Dr·(G + sC)ᵀ·Dc on the pattern, dr, dc, a lower bound of ‖·‖∞).
+
+        Row then column scaling by powers of two (LAPACK ``geequ``): every
+        row and column of the result has its largest entry near 1."""
+        if self.empty:
+            raise _singular(s.imag / (2 * math.pi))
+        data = self.g_data + s * self.c_data
+        mag = self.g_abs + abs(s) * self.c_abs  # a cheap bound of |data|, safe against cancellation
+        dr = _pow2(self._row_max(mag))
+        mag *= dr[self.rows]
+        dc = _pow2(self._col_max(mag))
+        data *= dr[self.rows] * dc[self.cols]
+        return data, dr, dc, 0.5  # every column's largest |entry| is at least ~1/√2 of its bound
+
+
+class _SegmentMax:
+    """Maxima of consecutive segments of a gathered array: a padded 2-D
+    maximum when the segments are of similar length (fast), else reduceat."""
+
+    def __init__(self, order: np.ndarray, ptr: np.ndarray):
+        lengths = np.diff(ptr)
+        width = int(lengths.max(initial=0))
+        self._order, self._ptr = order, ptr[:-1]
+        self._padded = None
+        if lengths.size and width * lengths.size <= 4 * max(1, order.size):
+            slot = np.arange(width)[None, :]
+            index = ptr[:-1, None] + slot
+            index = np.where(slot < lengths[:, None], index, order.size)  # the pad points at an appended 0
+            self._padded = np.ascontiguousarray(np.concatenate([order, [order.size]])[index].T)  # (width, segments)
+
+    def __call__(self, values: np.ndarray) -> np.ndarray:
+        if self._padded is not None:
+            padded = np.append(values, 0.0)
+            out = padded[self._padded[0]]
+            for slot in self._padded[1:]:  # a few elementwise maxima of gathers beat a short-axis reduction
+                np.maximum(out, padded[slot], out=out)
+            return out
+        return np.maximum.reduceat(values[self._order], self._ptr)
+
+
+class AdjointSolver:
+    """Solves ``Y(f)ᵀ z = c`` for one circuit at any frequencies; see the
+    module docstring for the paths.  ``method`` is "dense", "banded" or
+    "sparse"."""
+
+    def __init__(self, system: MnaSystem):
+        self.n = system.size
+        self.dense_limit = DENSE_LIMIT
+        self.forced = FORCE_METHOD
+        self._probe = _probe(self.n)
+        self._superlu_order: np.ndarray | None = None
+        if (self.n <= DENSE_LIMIT and FORCE_METHOD is None) or FORCE_METHOD == "dense":
+            self.method = "dense"
+            self._gt = system.G.T.toarray()
+            self._ct = system.C.T.toarray()
+            return
+        from scipy.sparse.csgraph import reverse_cuthill_mckee
+
+        plain = _Pattern(system.G.T, system.C.T)
+        import scipy.sparse as sp
+
+        sym = sp.csr_matrix((np.ones(plain.rows.size), (plain.rows, plain.cols)), shape=plain.shape)
+        order = np.asarray(reverse_cuthill_mckee((sym + sym.T).tocsr(), symmetric_mode=True), dtype=np.int64)
+        banded = _Pattern(system.G.T, system.C.T, order)
+        kl = int(np.max(banded.rows.astype(np.int64) - banded.cols, initial=0))
+        ku = int(np.max(banded.cols.astype(np.int64) - banded.rows, initial=0))
+        self.bandwidth = (kl, ku)
+        band_bytes = (2 * kl + ku + 1) * self.n * 16
+        band_flops = self.n * (kl + 1) * (kl + ku + 1)
+        # SuperLU's cost is only known after a factorisation; on MNA patterns its fill is
+        # rarely below ~5 entries per unknown and its per-column overhead is ~1000 flops
+        narrow = kl + ku <= _BAND_ALWAYS or band_flops <= 1000 * self.n
+        if (narrow and FORCE_METHOD is None) or FORCE_METHOD == "banded":
+            self.method = "banded"
+            require_memory(band_bytes, f"the banded LU of {self.n} unknowns (bandwidth {kl}+{ku})")
+            self._pattern = banded
+            self._order = order
+            self._kl, self._ku = kl, ku
+            self._band_index = (kl + ku + banded.rows.astype(np.int64) - banded.cols) * self.n + banded.cols
+            from scipy.linalg import lapack
+
+            self._gbsv = lapack.get_lapack_funcs("gbsv", dtype=np.complex128)
+        else:
+            self.method = "sparse"
+            self._pattern = plain
+            self._plain = plain
+            self._system = system
+
+    # -- public --------------------------------------------------------------
+    def solve(self, selector: np.ndarray, frequency_Hz: np.ndarray) -> np.ndarray:
+        """(F, n) complex z(f) with Y(f)ᵀ z(f) = selector."""
+        f = np.asarray(frequency_Hz, dtype=float).ravel()
+        if self.n == 0:
+            return np.zeros((f.size, 0), dtype=complex)
+        c = np.asarray(selector, dtype=float)
+        if self.method == "dense":
+            return self._dense(c, f)
+        require_memory(f.size * self.n * 16, "the adjoint solutions at every frequency")
+        out = np.empty((f.size, self.n), dtype=complex)
+        one = self._banded_one if self.method == "banded" else self._sparse_one
+        for i, fi in enumerate(f):
+            out[i] = one(c, float(fi))
+        return out
+
+    # -- checks --------------------------------------------------------------
+    def _check(self, f: float, w_c: np.ndarray, w_p: np.ndarray, rhs_norm: float, norm: float) -> None:
+        """Refuse frequency ``f`` if the scaled system is singular: a non-finite
+        solution, or ``norm·‖w‖/‖rhs‖`` (a lower bound of the condition
+        number, ``norm`` a lower bound of the scaled matrix's norm) above 1/RCOND_MIN."""
+        with np.errstate(invalid="ignore", over="ignore"):
+            peak_c, peak_p = float(np.abs(w_c).max(initial=0.0)), float(np.abs(w_p).max(initial=0.0))
+        if not (math.isfinite(peak_c) and math.isfinite(peak_p)):
+            raise _singular(f)
+        inv_norm = max(peak_p / float(np.abs(self._probe).max()), peak_c / rhs_norm if rhs_norm else 0.0)
+        if norm * inv_norm * RCOND_MIN > 1.0:
+            raise _singular(f, 1.0 / (norm * inv_norm))
+
+    # -- dense ---------------------------------------------------------------
+    def _dense(self, c: np.ndarray, f: np.ndarray) -> np.ndarray:
+        n = self.n
+        out = np.empty((f.size, n), dtype=complex)
+        chunk = max(1, _CHUNK_BYTES // (48 * n * n))
+        probe = self._probe
+        gt, ct = self._gt, self._ct
+        gabs, cabs = np.abs(gt), np.abs(ct)
+        row_g, row_c = gabs.max(axis=1), cabs.max(axis=1)
+        for start in range(0, f.size, chunk):
+            fc = f[start : start + chunk]
+            s = 2j * np.pi * fc
+            w_abs = np.abs(s)
+            # row scaling from the row maxima of |G| and |s|·|C| (within 2x of the row maximum
+            # of |G + sC|), then column scaling of the row-scaled magnitudes (geequ)
+            dr = _pow2(np.maximum(row_g[None, :], w_abs[:, None] * row_c[None, :]))  # (Fc, n)
+            col = np.maximum(
+                np.max(dr[:, :, None] * gabs[None, :, :], axis=1),
+                w_abs[:, None] * np.max(dr[:, :, None] * cabs[None, :, :], axis=1),
+            )
+            dc = _pow2(col)
+            yt = gt[None, :, :] + s[:, None, None] * ct[None, :, :]
+            yt *= dr[:, :, None] * dc[:, None, :]
+            rhs = np.empty((fc.size, n, 2), dtype=complex)
+            rhs[:, :, 0] = dr * c[None, :]
+            rhs[:, :, 1] = probe[None, :]
+            try:
+                w = np.linalg.solve(yt, rhs)
+            except np.linalg.LinAlgError:
+                w = self._dense_one_by_one(yt, rhs, fc)
+            self._check_batch(fc, w, rhs)
+            out[start : start + fc.size] = dc * w[:, :, 0]
+        return out
+
+    def _check_batch(self, f: np.ndarray, w: np.ndarray, rhs: np.ndarray) -> None:
+        """:meth:`_check` for a stack (F, n, 2) of solutions of scaled systems
+        (every scaled entry below 2, every column's largest at least 1)."""
+        finite = np.isfinite(w).all(axis=(1, 2))
+        with np.errstate(invalid="ignore", over="ignore", divide="ignore"):
+            peak = np.abs(w).max(axis=1)  # (F, 2)
+            rn = np.abs(rhs).max(axis=1)
+            inv_norm = np.max(np.where(rn > 0, peak / np.where(rn > 0, rn, 1.0), 0.0), axis=1)
+        bad = ~finite | (inv_norm * RCOND_MIN > 1.0)
+        if bad.any():
+            i = int(np.argmax(bad))
+            raise _singular(float(f[i]), None if not finite[i] else 1.0 / inv_norm[i])
+
+    @staticmethod
+    def _dense_one_by_one(yt, rhs, f):
+        import scipy.linalg
+
+        w = np.empty(rhs.shape, dtype=complex)
+        for i in range(f.size):
+            try:
+                lu = scipy.linalg.lu_factor(yt[i], check_finite=False)
+            except (np.linalg.LinAlgError, ValueError):
+                raise _singular(float(f[i])) from None
+            if np.any(np.diag(lu[0]) == 0):
+                raise _singular(float(f[i]))
+            w[i] = scipy.linalg.lu_solve(lu, rhs[i], check_finite=False)
+        return w
+
+    # -- banded --------------------------------------------------------------
+    def _banded_one(self, c: np.ndarray, f: float) -> np.ndarray:
+        p = self._pattern
+        data, dr, dc, norm = p.scaled(2j * math.pi * f)
+        kl, ku, n = self._kl, self._ku, self.n
+        ab = np.zeros((2 * kl + ku + 1, n), dtype=complex)
+        ab.ravel()[self._band_index] = data
+        rhs = np.empty((n, 2), dtype=complex, order="F")
+        rhs[:, 0] = dr * c[self._order]
+        rhs[:, 1] = self._probe
+        rn = float(np.abs(rhs[:, 0]).max())
+        _, _, w, info = self._gbsv(kl, ku, ab, rhs, overwrite_ab=True, overwrite_b=True)
+        if info > 0:
+            raise _singular(f)
+        self._check(f, w[:, 0], w[:, 1], rn, norm)
+        z = np.empty(n, dtype=complex)
+        z[self._order] = dc * w[:, 0]
+        return z
+
+    # -- sparse --------------------------------------------------------------
+    def _sparse_one(self, c: np.ndarray, f: float) -> np.ndarray:
+        import scipy.sparse as sp
+        import scipy.sparse.linalg as spla
+
+        s = 2j * math.pi * f
+        options = dict(SymmetricMode=True)
+        if self._superlu_order is None:
+            # first frequency: minimum-degree ordering on Aᵀ + A, then fix the pattern in that order
+            p = self._plain
+            data, dr, dc, norm = p.scaled(s)
+            a = sp.csc_matrix((data, p.rows, p.indptr), shape=p.shape)
+            try:
+                lu = spla.splu(a, permc_spec="MMD_AT_PLUS_A", diag_pivot_thresh=_PIVOT_THRESHOLD, options=options)
+            except RuntimeError:
+                raise _singular(f) from None
+            require_memory(3 * 20 * (lu.L.nnz + lu.U.nnz), "the sparse LU factors")
+            order = np.argsort(lu.perm_c)
+            self._superlu_order = order
+            self._pattern = _Pattern(self._system.G.T, self._system.C.T, order)
+            self._system = None
+            rhs = np.stack([dr * c, self._probe], axis=1)
+            rn = float(np.abs(rhs[:, 0]).max())
+            w = lu.solve(rhs)
+            self._check(f, w[:, 0], w[:, 1], rn, norm)
+            return dc * w[:, 0]
+        p, order = self._pattern, self._superlu_order
+        data, dr, dc, norm = p.scaled(s)
+        a = sp.csc_matrix((data, p.rows, p.indptr), shape=p.shape)
+        try:
+            lu = spla.splu(a, permc_spec="NATURAL", diag_pivot_thresh=_PIVOT_THRESHOLD, options=options)
+        except RuntimeError:
+            raise _singular(f) from None
+        rhs = np.stack([dr * c[order], self._probe], axis=1)
+        rn = float(np.abs(rhs[:, 0]).max())
+        w = lu.solve(rhs)
+        self._check(f, w[:, 0], w[:, 1], rn, norm)
+        z = np.empty(self.n, dtype=complex)
+        z[order] = dc * w[:, 0]
+        return z

@@ -1,0 +1,98 @@
+"""Large-circuit behaviour (issue 5), correctness only (speed is measured in
+benchmarks/run.py, never in a test): the solver path chosen by size, pattern
+and ordering reused, the infinite-band total beyond the exact method's limit
+checked against the exact method, and memory refused up front."""
+
+from __future__ import annotations
+
+import math
+
+import numpy as np
+import pytest
+
+import netnoise
+from netnoise import analysis, resources, transfer
+from netnoise.errors import CircuitError
+from netnoise.mna import assemble
+
+
+def ladder(sections: int, r: str = "100", c: str = "1p") -> str:
+    lines = [f"ladder {sections}", "Vin in 0 AC 1"]
+    prev = "in"
+    for i in range(1, sections + 1):
+        lines += [f"R{i} {prev} n{i} {r}", f"C{i} n{i} 0 {c}"]
+        prev = f"n{i}"
+    return "\n".join(lines + [".end"]) + "\n"
+
+
+def mesh(nx: int, ny: int) -> str:
+    lines = [f"mesh {nx}x{ny}"]
+    k = 0
+    for i in range(nx):
+        for j in range(ny):
+            for di, dj in ((1, 0), (0, 1)):
+                if i + di < nx and j + dj < ny:
+                    k += 1
+                    lines.append(f"R{k} m{i}_{j} m{i + di}_{j + dj} {1000 + 37 * (k % 11)}")
+            lines.append(f"C{i}_{j} m{i}_{j} 0 {(1 + (i * ny + j) % 5) * 1e-13:g}")
+    lines += ["Cf m0_0 m1_1 1p", "Rg m0_0 0 1meg", ".end"]
+    return "\n".join(lines) + "\n"
+
+
+def test_paths_by_size_and_structure():
+    small = assemble(netnoise.parse_netlist(ladder(10)))
+    long = assemble(netnoise.parse_netlist(ladder(400)))
+    grid = assemble(netnoise.parse_netlist(mesh(40, 40)))
+    assert transfer.solver_for(small).method == "dense"
+    assert transfer.solver_for(long).method == "banded"
+    assert transfer.solver_for(grid).method == "sparse"
+    for system in (long, grid):  # no dense matrix is formed for a large circuit
+        assert not hasattr(transfer.solver_for(system), "_gt")
+
+
+def test_sparse_ordering_computed_once_and_reused():
+    system = assemble(netnoise.parse_netlist(mesh(40, 40)))
+    selector = system.node_pair_vector("m39_39", "0")
+    solver = transfer.solver_for(system)
+    z1 = transfer.adjoint_solutions(system, selector, np.array([1e3, 1e6]))
+    order = solver._superlu_order
+    assert order is not None
+    z2 = transfer.adjoint_solutions(system, selector, np.array([1e6, 1e3]))
+    assert transfer.solver_for(system) is solver and solver._superlu_order is order
+    np.testing.assert_allclose(z2[::-1], z1, rtol=1e-9)  # first frequency pivots on the unpermuted pattern
+
+
+@pytest.mark.parametrize("text,out", [(ladder(60), "n60"), (mesh(8, 8), "m7_7")])
+def test_beyond_the_exact_limit_matches_the_exact_method(monkeypatch, text, out):
+    circuit = netnoise.parse_netlist(text)
+    exact = netnoise.analyze(circuit, output=out, band=(0.0, math.inf))
+    monkeypatch.setattr(analysis, "EXACT_LIMIT", 5)  # force quadrature + analytic tail
+    approx = netnoise.analyze(circuit, output=out, band=(0.0, math.inf))
+    assert approx.total_rms**2 == pytest.approx(exact.total_rms**2, rel=1e-5)
+    v_exact, v_approx = np.asarray(exact.source_variance), np.asarray(approx.source_variance)
+    big = v_exact > 1e-6 * v_exact.max()
+    np.testing.assert_allclose(v_approx[big], v_exact[big], rtol=1e-4)
+
+
+def test_beyond_the_exact_limit_equipartition():
+    # kT/C at the node of one RC, here through a 1600-unknown ladder whose last capacitor
+    # dominates: every node of a passive RC network at one temperature has variance kT·[C⁻¹]_ii
+    # (equipartition; any statistical-mechanics text).  With equal C to ground and no floating
+    # capacitors [C⁻¹]_ii = 1/C.
+    sections = 1600
+    circuit = netnoise.parse_netlist(ladder(sections).replace("Vin in 0 AC 1", "Rin in 0 1"))
+    result = netnoise.analyze(circuit, output=f"n{sections}", band=(0.0, math.inf), temperature_celsius=27.0)
+    kT_over_C = 1.380649e-23 * 300.15 / 1e-12
+    assert result.total_rms**2 == pytest.approx(kT_over_C, rel=1e-4)
+
+
+def test_memory_is_refused_up_front_with_an_estimate():
+    circuit = netnoise.parse_netlist(ladder(3000))
+    resources.set_available_memory(4 * 2**20)
+    try:
+        with pytest.raises(CircuitError) as info:
+            netnoise.analyze(circuit, output="n3000", band=(1.0, 1e9), points_per_decade=40)
+    finally:
+        resources.set_available_memory(None)
+    message = str(info.value)
+    assert "memory" in message and "available" in message and "MiB" in message
