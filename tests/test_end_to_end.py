@@ -80,7 +80,8 @@ def test_every_shipped_circuit_runs_and_writes_the_json_shape(netlist, tmp_path,
     shares = [c["share"] for c in data["contributions"]]
     assert shares == sorted(shares, reverse=True)
     assert sum(shares) == pytest.approx(1.0, rel=1e-9)
-    assert all(c["mechanism"] == "thermal" for c in data["contributions"])
+    allowed = {"thermal", "shot", "excess", "amplifier-voltage", "amplifier-current", "source"}
+    assert {c["mechanism"] for c in data["contributions"]} <= allowed
     assert len(data["spectrum"]["frequency_Hz"]) == len(data["spectrum"]["output_density_V_per_rtHz"])
     assert data["total_rms_V"] > 0
 
@@ -92,3 +93,22 @@ def test_sample_hold_to_infinity_is_kT_over_C(capsys):
     assert data["total_rms_V"] == pytest.approx(math.sqrt(constants.Boltzmann * 300.15 / 2e-12), rel=1e-9)
     # the signal path is one pole: ENBW = 1/(4RC) (common practice)
     assert data["enbw_Hz"] == pytest.approx(1 / (4 * 60 * 2e-12), rel=1e-6)
+
+
+def test_front_end_examples_rank_what_their_scenarios_describe(capsys):
+    # Each scenario's comment says which source should dominate; the engine must agree.
+    def top(name, *args):
+        assert run("analyze", CIRCUITS / f"{name}.cir", "--json", "-", *args) == 0
+        return json.loads(capsys.readouterr().out)
+
+    hiz = top("hiz_preamp")
+    assert hiz["contributions"][0]["mechanism"] == "amplifier-current"  # i_n · 10 MΩ rules
+    tia = top("photodiode_tia")
+    assert {c["mechanism"] for c in tia["contributions"][:2]} == {"shot", "amplifier-voltage"}
+    gauge = top("strain_gauge_inamp")
+    assert "excess" in {c["mechanism"] for c in gauge["contributions"]}
+    # 1/f: the low-frequency density is well above the density near the top of the band
+    density = gauge["spectrum"]["output_density_V_per_rtHz"]
+    assert density[0] > 10 * density[-1]
+    adc = top("adc_driver", "--adc", "16", "4.096", "1meg")
+    assert adc["adc"]["floor_set_by"] in ("analog chain", "converter")
