@@ -9,8 +9,10 @@ Results are design estimates.  For mains-connected or safety-related
 equipment, follow local codes and licensed engineering practice.
 """
 
+from . import dc, figures
 from .analysis import analyze, output_density_function
 from .circuit import Circuit
+from .dc import operating_point
 from .errors import CircuitError, NetlistError, NetnoiseError, UsageError
 from .export import result_to_dict, write_csv, write_json
 from .netlist import load_netlist, parse_netlist
@@ -23,6 +25,7 @@ __version__ = "0.1.0"
 __all__ = [
     "analyze",
     "output_density_function",
+    "operating_point",
     "load_netlist",
     "parse_netlist",
     "format_report",
