@@ -23,6 +23,8 @@ from .result import Contribution, NoiseResult
 __version__ = "0.1.0"
 
 __all__ = [
+    "dc",
+    "figures",
     "analyze",
     "output_density_function",
     "operating_point",

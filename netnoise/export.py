@@ -60,7 +60,7 @@ from typing import IO, TYPE_CHECKING, Any
 import numpy as np
 
 from .errors import CircuitError, UsageError
-from .report import enob_bits
+from .report import check_finite, enob_bits
 from .result import NoiseResult
 
 if TYPE_CHECKING:  # pragma: no cover
@@ -203,7 +203,7 @@ def result_to_dict(
     """
     if group_by not in (None, "source", "element", "mechanism"):
         raise UsageError(f"group by 'element' or 'mechanism', not {group_by!r}")
-    _check_stored_arrays(result)
+    check_finite(result)
     referred = result.input_referred_rms
     spectrum: dict[str, Any] = {
         "frequency_Hz": _floats(result.frequency_Hz),
@@ -261,24 +261,6 @@ def result_to_dict(
     return data
 
 
-def _check_stored_arrays(result: NoiseResult) -> None:
-    """Refuse non-finite stored numbers before deriving anything from them."""
-    arrays = {
-        "frequency_Hz": result.frequency_Hz,
-        "source_density": result.source_density,
-        "source_variance": result.source_variance,
-        "cumulative_variance": result.cumulative_variance,
-    }
-    if result.gain is not None:
-        arrays["gain"] = result.gain
-    for name, array in arrays.items():
-        if not np.all(np.isfinite(array)):
-            raise CircuitError(
-                f"cannot export: the result's {name} holds NaN or infinite values; "
-                "JSON and CSV hold finite numbers only"
-            )
-
-
 def _check_finite(value: Any, where: str) -> None:
     if isinstance(value, float):
         if not math.isfinite(value):
@@ -325,7 +307,7 @@ def csv_header(result: NoiseResult) -> list[str]:
 
 
 def _csv_columns(result: NoiseResult) -> np.ndarray:
-    _check_stored_arrays(result)
+    check_finite(result)
     order = np.argsort(-result.source_variance, kind="stable")  # the ranking of result.contributions
     columns = [result.frequency_Hz, result.output_density_rt]
     columns += [_amplitude(result.source_density[k]) for k in order]

@@ -22,17 +22,7 @@ from netnoise import __version__, cli
 from netnoise.errors import CircuitError, NetlistError, SourceLocation
 
 
-def _load_samples():
-    name = "_netnoise_output_samples"
-    if name not in sys.modules:
-        spec = importlib.util.spec_from_file_location(name, pathlib.Path(__file__).with_name("_output_samples.py"))
-        module = importlib.util.module_from_spec(spec)
-        sys.modules[name] = module
-        spec.loader.exec_module(module)
-    return sys.modules[name]
-
-
-samples = _load_samples()
+import _output_samples as samples  # tests/ is on sys.path (conftest.py)
 REPO = pathlib.Path(__file__).resolve().parents[1]
 NETLIST_TEXT = "test circuit\nR1 out 0 1k\n.end\n"
 

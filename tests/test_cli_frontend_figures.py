@@ -14,7 +14,6 @@ import importlib.util
 import json
 import math
 import os
-import pathlib
 import re
 import sys
 import types
@@ -22,20 +21,9 @@ import types
 import pytest
 
 from netnoise import cli
-from netnoise.errors import CircuitError
 
 
-def _load_samples():
-    name = "_netnoise_output_samples"
-    if name not in sys.modules:
-        spec = importlib.util.spec_from_file_location(name, pathlib.Path(__file__).with_name("_output_samples.py"))
-        module = importlib.util.module_from_spec(spec)
-        sys.modules[name] = module
-        spec.loader.exec_module(module)
-    return sys.modules[name]
-
-
-samples = _load_samples()
+import _output_samples as samples  # tests/ is on sys.path (conftest.py)
 NETLIST_TEXT = "front end\nRs in a 50\nR1 a 0 10\n.end\n"
 
 

@@ -3,13 +3,10 @@
 from __future__ import annotations
 
 import dataclasses
-import importlib.util
 import io
 import json
 import math
 import os
-import pathlib
-import sys
 
 import numpy as np
 import pytest
@@ -18,17 +15,7 @@ from netnoise.errors import CircuitError
 from netnoise.export import atomic_write, csv_header, result_to_dict, to_json, write_csv, write_json
 
 
-def _load_samples():
-    name = "_netnoise_output_samples"
-    if name not in sys.modules:
-        spec = importlib.util.spec_from_file_location(name, pathlib.Path(__file__).with_name("_output_samples.py"))
-        module = importlib.util.module_from_spec(spec)
-        sys.modules[name] = module
-        spec.loader.exec_module(module)
-    return sys.modules[name]
-
-
-samples = _load_samples()
+import _output_samples as samples  # tests/ is on sys.path (conftest.py)
 
 # The fixed part of the JSON document: key -> allowed types.
 REQUIRED = {

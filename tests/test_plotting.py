@@ -3,10 +3,7 @@
 from __future__ import annotations
 
 import dataclasses
-import importlib.util
 import os
-import pathlib
-import sys
 
 import numpy as np
 import pytest
@@ -18,17 +15,7 @@ from netnoise import plotting  # noqa: E402
 from netnoise.errors import UsageError  # noqa: E402
 
 
-def _load_samples():
-    name = "_netnoise_output_samples"
-    if name not in sys.modules:
-        spec = importlib.util.spec_from_file_location(name, pathlib.Path(__file__).with_name("_output_samples.py"))
-        module = importlib.util.module_from_spec(spec)
-        sys.modules[name] = module
-        spec.loader.exec_module(module)
-    return sys.modules[name]
-
-
-samples = _load_samples()
+import _output_samples as samples  # tests/ is on sys.path (conftest.py)
 
 
 def _lines(ax, gid):

@@ -3,10 +3,7 @@
 from __future__ import annotations
 
 import dataclasses
-import importlib.util
 import math
-import pathlib
-import sys
 
 import numpy as np
 import pytest
@@ -17,17 +14,7 @@ from netnoise.errors import UsageError
 from netnoise.report import BAR_WIDTH, CAUTION, format_report
 
 
-def _load_samples():
-    name = "_netnoise_output_samples"
-    if name not in sys.modules:
-        spec = importlib.util.spec_from_file_location(name, pathlib.Path(__file__).with_name("_output_samples.py"))
-        module = importlib.util.module_from_spec(spec)
-        sys.modules[name] = module
-        spec.loader.exec_module(module)
-    return sys.modules[name]
-
-
-samples = _load_samples()
+import _output_samples as samples  # tests/ is on sys.path (conftest.py)
 
 
 def _table_rows(text: str) -> list[str]:
