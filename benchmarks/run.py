@@ -1,0 +1,333 @@
+"""netnoise speed and memory figures, each beside a bare numpy/scipy reference
+measured in the same run on the same machine.
+
+    python benchmarks/run.py            # the figures of issue 5 (about 10 minutes on 2 cores)
+    python benchmarks/run.py --quick    # smaller circuits, a minute or two
+
+Timings are the best of a few repetitions (the machines are shared and noisy);
+ratios compare netnoise with the reference taken in the same run.  Nothing
+here is a pass/fail test: the unit tests check correctness only.
+"""
+
+from __future__ import annotations
+
+import argparse
+import datetime
+import json
+import math
+import os
+import platform
+import resource
+import subprocess
+import sys
+import tempfile
+import textwrap
+import time
+from pathlib import Path
+
+import numpy as np
+
+HERE = Path(__file__).absolute().parent
+REPO = HERE.parent
+sys.path.insert(0, str(HERE))
+sys.path.insert(0, str(REPO))
+
+import generators as gen  # noqa: E402
+
+ENV = {**os.environ, "PYTHONPATH": str(REPO) + os.pathsep + os.environ.get("PYTHONPATH", "")}
+
+
+def best(fn, repeat=3):
+    times = []
+    for _ in range(repeat):
+        t = time.perf_counter()
+        fn()
+        times.append(time.perf_counter() - t)
+    return min(times)
+
+
+def run_child(code: str) -> dict:
+    """Run ``code`` in a fresh interpreter; it prints one JSON line last."""
+    out = subprocess.run([sys.executable, "-c", textwrap.dedent(code)], env=ENV, capture_output=True, text=True, check=False)
+    if out.returncode != 0:
+        raise RuntimeError(out.stderr)
+    return json.loads(out.stdout.strip().splitlines()[-1])
+
+
+def wall(cmd: list[str]) -> float:
+    t = time.perf_counter()
+    subprocess.run(cmd, env=ENV, stdout=subprocess.DEVNULL, stderr=subprocess.DEVNULL, check=True)
+    return time.perf_counter() - t
+
+
+def line(label: str, value: str, ref: str = "", ratio: float | None = None, target: str = "") -> None:
+    r = f"{ratio:6.2f}x" if ratio is not None else "       "
+    print(f"  {label:<46} {value:>12}  {ref:>14}  {r}  {target}")
+
+
+# --- the figures --------------------------------------------------------------------------
+def ladder(sections: int, tmp: Path) -> dict:
+    """Whole CLI run on an RC ladder vs a bare splu loop on its nodal matrix."""
+    import scipy.sparse.linalg as spla
+
+    path = tmp / "ladder.cir"
+    path.write_text(gen.rc_ladder(sections))
+    f = np.logspace(0, 9, 9 * 40 + 1)  # 1 Hz .. 1 GHz at 40/decade: the grid netnoise reports
+    G, C = gen.ladder_matrices(sections)
+    c = np.zeros(sections)
+    c[-1] = 1.0
+
+    def bare():
+        for fi in f:
+            lu = spla.splu((G + 2j * np.pi * fi * C).tocsc())
+            lu.solve(c + 0j, trans="T")
+
+    ref = best(bare, 2)
+    cmd = [sys.executable, "-m", "netnoise", "analyze", str(path), "--band", "1", "1g", "--points", "40",
+           "--out", f"n{sections}", "--input", "Vin", "--json", str(tmp / "ladder.json")]
+    cli = min(wall(cmd) for _ in range(2))
+    parts = run_child(f"""
+        import json, time, resource
+        import netnoise
+        t = time.perf_counter(); c = netnoise.load_netlist({str(path)!r}); parse = time.perf_counter() - t
+        t = time.perf_counter()
+        r = netnoise.analyze(c, band=(1, 1e9), points_per_decade=40, output="n{sections}", input_source="Vin")
+        analyze = time.perf_counter() - t
+        from netnoise.transfer import solver_for
+        print(json.dumps(dict(parse=parse, analyze=analyze, sources=len(r.source_names), grid=len(r.frequency_Hz),
+              rel_error=r.integration_rel_error, rss=resource.getrusage(resource.RUSAGE_SELF).ru_maxrss * 1024)))
+    """)
+    return dict(ref=ref, cli=cli, **parts)
+
+
+def mesh(nx: int, ny: int, counts=(25, 49, 101)) -> dict:
+    """A 2-D RC mesh: analyze() over 1 kHz..10 GHz at three grid densities (every solved
+    frequency counted); peak memory of the whole process."""
+    code = f"""
+        import json, time, resource, sys
+        sys.path.insert(0, {str(HERE)!r})
+        import numpy as np, generators as gen, netnoise
+        from netnoise import transfer
+        solved = [0]
+        plain_solve = transfer.AdjointSolver.solve
+        def counting(self, selector, f):  # count every frequency solved, refinements included
+            solved[0] += len(f)
+            return plain_solve(self, selector, f)
+        transfer.AdjointSolver.solve = counting
+        t = time.perf_counter(); c = netnoise.parse_netlist(gen.rc_mesh({nx}, {ny})); parse = time.perf_counter() - t
+        solved[0] = 0
+        t = time.perf_counter()
+        r = netnoise.analyze(c, band=(1e3, 1e10), points_per_decade=12.5)  # 1 kHz .. 10 GHz, 88 grid intervals
+        full = (solved[0], time.perf_counter() - t, len(r.frequency_Hz))
+        # linearity: the engine's work (setup, solves, every source's gain) at 25/50/100 frequencies
+        from netnoise.analysis import _Problem, _resolve
+        problem = _Problem(c, _resolve(c, None, None, None, (1e3, 1e10), 10, None))
+        rows = []
+        for count in (25, 50, 100):
+            transfer._SOLVERS.clear()  # a fresh solver each time: setup included
+            t = time.perf_counter()
+            transfer.transfer_power(problem.system, problem.selector, problem.sources.injection, None,
+                                    np.logspace(3, 10, count))
+            rows.append((count, time.perf_counter() - t))
+        from netnoise.transfer import solver_for
+        from netnoise.mna import assemble
+        print(json.dumps(dict(parse=parse, full=full, runs=rows, sources=len(r.source_names),
+              method=solver_for(assemble(c)).method, rss=resource.getrusage(resource.RUSAGE_SELF).ru_maxrss * 1024)))
+    """
+    out = run_child(code)
+    # the bare reference: splu + solve of the nodal matrix at a few of the same frequencies
+    import scipy.sparse.linalg as spla
+
+    G, C = gen.mesh_matrices(nx, ny)
+    c = np.zeros(G.shape[0])
+    c[-1] = 1.0
+    fs = np.logspace(3, 10, 5)
+    t = time.perf_counter()
+    for fi in fs:
+        spla.splu((G + 2j * np.pi * fi * C).tocsc()).solve(c + 0j, trans="T")
+    out["ref_per_frequency"] = (time.perf_counter() - t) / fs.size
+    return out
+
+
+def small(tmp: Path) -> dict:
+    import netnoise
+
+    circuit = netnoise.parse_netlist(gen.small_circuit(20))
+    ppd = 1000 / 9  # 1 Hz .. 1 GHz in 1000 intervals: 1001 frequencies
+
+    def run():
+        return netnoise.analyze(circuit, band=(1, 1e9), points_per_decade=ppd)
+
+    result = run()
+    engine = best(run, 7)
+    from netnoise.mna import assemble
+
+    system = assemble(circuit)
+    g, cc = system.G.toarray(), system.C.toarray()
+    f = result.frequency_Hz
+    sel = np.zeros(system.size)
+    sel[0] = 1.0
+
+    def bare():
+        yt = g.T[None] + (2j * np.pi * f)[:, None, None] * cc.T[None]
+        np.linalg.solve(yt, np.broadcast_to(sel + 0j, (f.size, system.size))[..., None])
+
+    ref = best(bare, 7)
+    return dict(engine=engine, ref=ref, n=system.size, frequencies=int(f.size), evaluations=None)
+
+
+def startup(tmp: Path, repeat: int) -> dict:
+    path = tmp / "four.cir"
+    path.write_text(gen.four_element())
+    bare_cmd = [sys.executable, "-c", "import numpy, scipy.sparse.linalg, lark"]
+    cli_cmd = [sys.executable, "-m", "netnoise", "analyze", str(path)]
+    bare, cli = [], []
+    for _ in range(repeat):  # interleaved, so both see the same machine load
+        bare.append(wall(bare_cmd))
+        cli.append(wall(cli_cmd))
+    return dict(bare=float(np.median(bare)), cli=float(np.median(cli)), bare_min=min(bare), cli_min=min(cli))
+
+
+def parsing(lines: int) -> dict:
+    text = gen.rc_ladder(lines // 2, source=False)
+    return run_child(f"""
+        import json, time, sys
+        sys.path.insert(0, {str(HERE)!r})
+        import generators as gen, netnoise
+        text = gen.rc_ladder({lines // 2}, source=False)
+        t = time.perf_counter(); netnoise.parse_netlist(text); parse = time.perf_counter() - t
+        t = time.perf_counter(); [l.split() for l in text.splitlines()]; split = time.perf_counter() - t
+        print(json.dumps(dict(parse=parse, split=split, lines={len(text.splitlines())})))
+    """)
+
+
+def exact_cost(sizes) -> list[dict]:
+    """analyze() to infinite bandwidth (dense QZ + Lyapunov) vs a bare scipy ordqz of the same pencil."""
+    import scipy.linalg as la
+
+    import netnoise
+
+    rows = []
+    for n in sizes:
+        circuit = netnoise.parse_netlist(gen.rc_ladder(n, source=False))
+        t_engine = best(lambda: netnoise.analyze(circuit, output=f"n{n}", band=(0, math.inf)), 1)
+        G, C = gen.ladder_matrices(n)
+        t_ref = best(lambda: la.ordqz(-G.toarray(), C.toarray(), sort="lhp", output="real"), 1)
+        rows.append(dict(n=n, engine=t_engine, ref=t_ref))
+    return rows
+
+
+def wideband(n_check: int, n_large: int) -> dict:
+    """Beyond EXACT_LIMIT: the quadrature + tail total; its accuracy against the exact method."""
+    import netnoise
+    from netnoise import analysis
+
+    circuit = netnoise.parse_netlist(gen.rc_ladder(n_check, source=False))
+    exact = netnoise.analyze(circuit, output=f"n{n_check}", band=(0, math.inf))
+    saved = analysis.EXACT_LIMIT
+    analysis.EXACT_LIMIT = 0
+    try:
+        t = time.perf_counter()
+        approx = netnoise.analyze(circuit, output=f"n{n_check}", band=(0, math.inf))
+        t_small = time.perf_counter() - t
+    finally:
+        analysis.EXACT_LIMIT = saved
+    big = netnoise.parse_netlist(gen.rc_ladder(n_large, source=False))
+    t = time.perf_counter()
+    netnoise.analyze(big, output=f"n{n_large}", band=(0, math.inf))
+    t_large = time.perf_counter() - t
+    v_e, v_a = np.asarray(exact.source_variance), np.asarray(approx.source_variance)
+    return dict(total_rel=abs(approx.total_rms**2 / exact.total_rms**2 - 1), worst_source_rel=float(np.max(np.abs(v_a / v_e - 1))),
+                t_small=t_small, t_large=t_large, n_check=n_check, n_large=n_large)
+
+
+def machine() -> str:
+    cpu = platform.processor() or ""
+    try:
+        for text in Path("/proc/cpuinfo").read_text().splitlines():
+            if text.startswith("model name"):
+                cpu = text.split(":", 1)[1].strip()
+                break
+    except OSError:
+        pass
+    try:
+        mem = int(Path("/proc/meminfo").read_text().split()[1]) * 1024
+    except (OSError, ValueError, IndexError):
+        mem = 0
+    import scipy
+
+    return (f"{cpu}, {os.cpu_count()} cores, {mem / 2**30:.1f} GiB; Python {platform.python_version()}, "
+            f"numpy {np.__version__}, scipy {scipy.__version__}, {platform.system()} {platform.release()}")
+
+
+def main(argv=None) -> int:
+    ap = argparse.ArgumentParser(description=__doc__.split("\n")[0])
+    ap.add_argument("--quick", action="store_true", help="smaller circuits (figures not comparable to the targets)")
+    ap.add_argument("--only", nargs="*", default=None,
+                    choices=["startup", "small", "ladder", "mesh", "parse", "exact", "wideband"], help="run only these figures")
+    args = ap.parse_args(argv)
+    q = args.quick
+    want = (lambda name: args.only is None or name in args.only)
+    print(f"netnoise benchmarks, {datetime.date.today().isoformat()}{' (--quick)' if q else ''}")
+    print(f"machine: {machine()}")
+    print(f"  {'figure':<46} {'netnoise':>12}  {'bare reference':>14}  {'ratio':>7}  target")
+    with tempfile.TemporaryDirectory() as tmpdir:
+        tmp = Path(tmpdir)
+
+        if want("startup"):
+            s = startup(tmp, 5 if q else 11)
+            line("CLI start-up, 4-element circuit (median)", f"{s['cli'] * 1e3:.0f} ms", f"{s['bare'] * 1e3:.0f} ms",
+                 s["cli"] / s["bare"], "<= 1.5x  (bare: python -c 'import numpy, scipy.sparse.linalg, lark')")
+
+        if want("small"):
+            sm = small(tmp)
+            line(f"engine, {sm['n']} unknowns x {sm['frequencies']} frequencies", f"{sm['engine'] * 1e3:.1f} ms",
+                 f"{sm['ref'] * 1e3:.1f} ms", sm["engine"] / sm["ref"], "< 30 ms  (bare: one batched np.linalg.solve)")
+
+        if want("ladder"):
+            sections = 2000 if q else 20000
+            lad = ladder(sections, tmp)
+            line(f"CLI, RC ladder {sections} sections, {lad['grid']} freq.", f"{lad['cli']:.2f} s", f"{lad['ref']:.2f} s",
+                 lad["cli"] / lad["ref"], "<= 1.5x  (bare: splu + solve per frequency)")
+            line("  of which parse + elaborate", f"{lad['parse']:.2f} s", "", lad["parse"] / lad["ref"])
+            line(f"  of which analyze() ({lad['sources']} sources)", f"{lad['analyze']:.2f} s", "", lad["analyze"] / lad["ref"])
+            line("  peak memory (analysis process)", f"{lad['rss'] / 2**30:.2f} GiB", "", None,
+                 f"integration error estimate {lad['rel_error']:.1e}")
+
+        if want("mesh"):
+            nx, ny = (60, 60) if q else (316, 317)
+            m = mesh(nx, ny)
+            solved, t_full, grid = m["full"]
+            ref_full = m["ref_per_frequency"] * solved
+            line(f"RC mesh {nx}x{ny} ({nx * ny} nodes), analyze(), {solved} freq.", f"{t_full:.1f} s", f"{ref_full:.1f} s",
+                 t_full / ref_full, f"(bare: splu + solve x {solved}; path '{m['method']}'; {grid} grid points + refinements)")
+            line("  peak memory (parse + analyses)", f"{m['rss'] / 2**30:.2f} GiB", "", None, "< 4 GiB")
+            (f1, t1), (f2, t2), (f3, t3) = m["runs"]
+            slope, intercept = np.polyfit([f1, f2, f3], [t1, t2, t3], 1)
+            fit = max(abs(t - (intercept + slope * f)) / t for f, t in ((f1, t1), (f2, t2), (f3, t3)))
+            line(f"  solves + gains at {f1}/{f2}/{f3} frequencies", f"{t1:.1f}/{t2:.1f}/{t3:.1f} s",
+                 f"{m['ref_per_frequency'] * 1e3:.0f} ms/freq", None,
+                 f"linear fit {intercept:.1f} s + {slope * 1e3:.0f} ms/freq, worst deviation {100 * fit:.0f} %")
+            line("  parse + elaborate of the mesh", f"{m['parse']:.1f} s")
+
+        if want("parse"):
+            p = parsing(20000 if q else 100000)
+            line(f"parse + elaborate {p['lines']} lines", f"{p['parse']:.2f} s", f"{p['split']:.2f} s", p["parse"] / p["split"],
+                 "< 5 s  (bare: str.split of every line)")
+
+        if want("exact"):
+            for row in exact_cost((50, 100, 200) if q else (100, 500, 1500)):
+                line(f"exact total to infinity, {row['n']} unknowns", f"{row['engine']:.2f} s", f"{row['ref']:.2f} s",
+                     row["engine"] / row["ref"], "(bare: scipy.linalg.ordqz of the pencil)")
+
+        if want("wideband"):
+            w = wideband(100 if q else 1000, 2000 if q else 5000)
+            line(f"beyond the exact limit: {w['n_large']} unknowns to infinity", f"{w['t_large']:.2f} s")
+            line(f"  its accuracy vs exact at {w['n_check']} unknowns", f"{w['total_rel']:.1e}", "", None,
+                 f"worst single source {w['worst_source_rel']:.1e}")
+    print(f"peak memory of this benchmark process: {resource.getrusage(resource.RUSAGE_SELF).ru_maxrss / 2**20:.2f} GiB")
+    return 0
+
+
+if __name__ == "__main__":
+    sys.exit(main())
