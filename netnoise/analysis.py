@@ -27,7 +27,6 @@ from .noise_sources import NoiseSources, collect_noise_sources
 from .result import NoiseResult
 from .topology import check_topology
 from .total_variance import EXACT_LIMIT, finite_poles_Hz, infinite_band_totals
-from .transfer import adjoint_solutions
 
 __all__ = ["analyze", "output_density_function", "DEFAULT_TEMPERATURE_C", "DEFAULT_POINTS_PER_DECADE"]
 
@@ -124,13 +123,6 @@ class _Problem:
     def has_input(self) -> bool:
         return self.input_vector is not None
 
-    def transfer_power(self, frequency_Hz: np.ndarray) -> tuple[np.ndarray, np.ndarray | None]:
-        """|H_k(f)|² from every source (K, F), and |H_in(f)|² of the input (F,) or None."""
-        z = adjoint_solutions(self.system, self.selector, frequency_Hz)  # (F, n)
-        gains = np.asarray(self.sources.injection.T @ z.T) if len(self.sources) else np.zeros((0, z.shape[0]))
-        signal = np.abs(z @ self.input_vector) ** 2 if self.has_input else None
-        return np.abs(gains) ** 2, signal
-
     def densities(self, frequency_Hz: np.ndarray, part: str = "full", extra_colored: bool = False) -> np.ndarray:
         """Rows of output density (V²/Hz) at ``frequency_Hz``: every source's
         ``part`` ("full", "white" or "colored"); then, with ``extra_colored``,
@@ -225,10 +217,9 @@ def analyze(
             f"1/f noise present: the default band starts at {DEFAULT_FLICKER_LOW_HZ:g} Hz "
             "(1/f noise integrated from 0 Hz is unbounded)"
         )
-    poles = _positive(problem.poles_Hz()) if (low == 0.0 or math.isinf(high)) else None
-
     if math.isinf(high):
-        exact = _exact_totals(problem)  # white parts, exact from 0 Hz to infinity
+        exact, poles, method = _infinite_band_totals(problem)  # white parts, from 0 Hz to infinity
+        poles = _positive(poles)
         top = _decade_ceil(poles.max() * 100) if poles.size else 1e9
         start = low if low > 0 else (_decade_floor(poles.min() / 100) if poles.size else top * 1e-9)
         top = max(top, start * 1e3)
@@ -250,12 +241,12 @@ def analyze(
             totals[np.flatnonzero(sources.colored)] += shown.values[k : k + int(sources.colored.sum())]
         rel_error = shown.rel_error if (low > 0 or colored) else 0.0
         notes.append(
-            f"spectrum shown up to {format_quantity(top, 'Hz')} (100x the highest pole); "
-            "the total is exact to infinite bandwidth"
-            + (" for white noise; 1/f parts are integrated up to there" if colored else "")
+            f"spectrum shown up to {format_quantity(top, 'Hz')} (100x the highest pole); " + method
+            + ("; 1/f parts are integrated up to there" if colored else "")
         )
         gain_row = k + (int(sources.colored.sum()) if colored else 0)
     else:
+        poles = _positive(problem.poles_Hz()) if low == 0.0 else None
         shown = integrate_band(
             problem.densities, low, high, points_per_decade=settings.points_per_decade,
             groups=problem.groups(), linear_below=_linear_start(poles, high) if low == 0.0 else None,
@@ -312,11 +303,11 @@ def _linear_start(poles: np.ndarray | None, high: float) -> float:
     return high * 1e-4
 
 
-def _exact_totals(problem: _Problem) -> np.ndarray:
+def _infinite_band_totals(problem: _Problem) -> tuple[np.ndarray, np.ndarray | None, str]:
     """Every source's white-noise variance (and ∫|H|² of the input) from 0 Hz
-    to infinity: exact up to EXACT_LIMIT unknowns, else by quadrature with an
-    analytic tail (:mod:`netnoise.wideband`; ``problem.wideband_note`` then
-    says so)."""
+    to infinity, the circuit's finite pole magnitudes (Hz), and a note saying
+    how the total was found: exact up to EXACT_LIMIT unknowns, else by
+    quadrature with an analytic tail (:mod:`netnoise.wideband`)."""
     system = problem.system
     k = len(problem.sources)
     if system.size > EXACT_LIMIT:
@@ -336,7 +327,7 @@ def _exact_totals(problem: _Problem) -> np.ndarray:
         if unbounded_rows.size:
             variance = variance.copy()
             variance[unbounded_rows] = np.inf
-        problem.wideband_note = (
+        method = (
             f"circuit of {system.size} unknowns, above the {EXACT_LIMIT} of the exact method: the total to "
             f"infinite bandwidth is integrated numerically up to {format_quantity(wide.top_Hz, 'Hz')} "
             f"(100x the estimated highest pole) plus an analytic tail ({100 * wide.tail_share:.2g} % of the "
@@ -348,7 +339,9 @@ def _exact_totals(problem: _Problem) -> np.ndarray:
         if problem.has_input:
             columns = np.hstack([columns, problem.input_vector[:, None]])
             density = np.append(density, 1.0)
-        variance = infinite_band_totals(system.G.toarray(), system.C.toarray(), problem.selector, columns, density).variance
+        exact = infinite_band_totals(system.G.toarray(), system.C.toarray(), problem.selector, columns, density)
+        variance, poles = exact.variance, exact.poles_Hz
+        method = "the total is exact to infinite bandwidth" + (" for white noise" if problem.sources.colored.any() else "")
     unbounded = [problem.sources.sources[i].name for i in np.flatnonzero(np.isinf(variance[:k]))]
     if unbounded:
         shown = ", ".join(unbounded[:5]) + (f" and {len(unbounded) - 5} more" if len(unbounded) > 5 else "")
@@ -358,7 +351,7 @@ def _exact_totals(problem: _Problem) -> np.ndarray:
             "Give a finite band (--band LOW HIGH, or a .noise card), or add the capacitance "
             "that limits the real circuit's bandwidth"
         )
-    return variance
+    return variance, poles, method
 
 
 def _refuse_non_finite(variance: np.ndarray, density: np.ndarray) -> None:

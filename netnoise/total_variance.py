@@ -31,7 +31,7 @@ from .errors import CircuitError
 
 __all__ = ["InfiniteBandTotals", "infinite_band_totals", "EXACT_LIMIT", "finite_poles_Hz"]
 
-EXACT_LIMIT = 1500  # unknowns; dense QZ costs O(n³)
+EXACT_LIMIT = 600  # unknowns; dense QZ costs O(n³): ~1.3 s at 500, ~1 min at 1500 (benchmarks/)
 _INFINITE_RATIO = 1e11  # |alpha/beta| beyond this (after scaling) is an infinite eigenvalue
 
 
