@@ -16,6 +16,7 @@ Naming conventions
 from __future__ import annotations
 
 from dataclasses import dataclass, field
+from functools import cached_property
 from typing import Union
 
 from .errors import SourceLocation
@@ -274,7 +275,7 @@ class Circuit:
                 return element
         raise KeyError(name)
 
-    @property
+    @cached_property
     def nodes(self) -> tuple[str, ...]:
         """Every non-ground node, in order of first appearance."""
         seen: dict[str, None] = {}

@@ -7,6 +7,7 @@ labels) call these functions.
 from __future__ import annotations
 
 import math
+from functools import lru_cache
 
 __all__ = ["format_quantity", "si_prefix_scale"]
 
@@ -37,6 +38,7 @@ def si_prefix_scale(value: float) -> tuple[float, str]:
     return _PREFIXES[-1]
 
 
+@lru_cache(maxsize=4096)  # large circuits repeat a few values many times
 def format_quantity(value: float, unit: str = "", digits: int = 3) -> str:
     """``value`` with an SI prefix and ``digits`` significant digits.
 

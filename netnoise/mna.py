@@ -92,6 +92,9 @@ class MnaSystem:
 
     def node_row(self, node: str) -> int:
         """Row of ``node``'s voltage; -1 for ground.  CircuitError if unknown."""
+        row = self.node_index.get(node)  # canonical names: the common case, one look-up
+        if row is not None:
+            return row
         key = ck.name_key(node)
         if key in ("0", "gnd"):
             return -1
@@ -204,17 +207,25 @@ def assemble(circuit: ck.Circuit) -> MnaSystem:
         return target
 
     inductances: dict[str, tuple[int, float]] = {}
+    # resistors and capacitors, the bulk of a large circuit, are stamped in one vectorised step
+    passive = {ck.Resistor: ([], [], []), ck.Capacitor: ([], [], [])}
     for element in circuit.elements:
+        kind = type(element)
+        if kind in passive:
+            ends, others, values = passive[kind]
+            ends.append(node(element.nodes[0]))
+            others.append(node(element.nodes[1]))
+            if kind is ck.Resistor:
+                _check_resistance(element)
+                values.append(1.0 / element.resistance)
+            else:
+                values.append(element.capacitance)
+            continue
         if isinstance(element, ck.MutualCoupling):
             continue
         a, b = (node(x) for x in element.nodes[:2])
         k = branch_index.get(ck.name_key(element.name), -1)
-        if isinstance(element, ck.Resistor):
-            _check_resistance(element)
-            admittance(g, a, b, 1.0 / element.resistance)
-        elif isinstance(element, ck.Capacitor):
-            admittance(cap, a, b, element.capacitance)
-        elif isinstance(element, ck.Inductor):
+        if isinstance(element, ck.Inductor):
             branch_kcl(a, b, k)
             cap(k, k, -element.inductance)
             inductances[ck.name_key(element.name)] = (k, element.inductance)
@@ -254,8 +265,8 @@ def assemble(circuit: ck.Circuit) -> MnaSystem:
             cap(k1, k2, -m)
             cap(k2, k1, -m)
 
-    G = sp.coo_matrix((g_vals, (g_rows, g_cols)), shape=(n, n))
-    C = sp.coo_matrix((c_vals, (c_rows, c_cols)), shape=(n, n))
+    G = _coo(n, (g_rows, g_cols, g_vals), _admittance_stamps(*passive[ck.Resistor]))
+    C = _coo(n, (c_rows, c_cols, c_vals), _admittance_stamps(*passive[ck.Capacitor]))
     return MnaSystem(
         circuit=circuit,
         G=_frozen_csr(G),
@@ -265,6 +276,23 @@ def assemble(circuit: ck.Circuit) -> MnaSystem:
         unknowns=tuple(labels),
         internal_index=internal_index,
     )
+
+
+def _admittance_stamps(a: list[int], b: list[int], y: list[float]):
+    """(rows, cols, values) of two-terminal admittances y between nodes a and b (-1: ground)."""
+    a, b, y = np.asarray(a, dtype=np.int64), np.asarray(b, dtype=np.int64), np.asarray(y, dtype=float)
+    rows = np.concatenate([a, b, a, b])
+    cols = np.concatenate([a, b, b, a])
+    vals = np.concatenate([y, y, -y, -y])
+    keep = (rows >= 0) & (cols >= 0) & (vals != 0.0)
+    return rows[keep], cols[keep], vals[keep]
+
+
+def _coo(n: int, *parts) -> sp.coo_matrix:
+    rows = np.concatenate([np.asarray(p[0], dtype=np.int64) for p in parts])
+    cols = np.concatenate([np.asarray(p[1], dtype=np.int64) for p in parts])
+    vals = np.concatenate([np.asarray(p[2], dtype=float) for p in parts])
+    return sp.coo_matrix((vals, (rows, cols)), shape=(n, n))
 
 
 def _stamp_amplifier(element: ck.OpAmp, pins: list[int], k: int, internal_index, g, cap, admittance) -> None:

@@ -6,6 +6,8 @@ float, which part has no ground, rather than "singular matrix".
 
 from __future__ import annotations
 
+import numpy as np
+
 from . import circuit as ck
 from .errors import CircuitError
 
@@ -53,48 +55,56 @@ def check_topology(circuit: ck.Circuit) -> None:
     to ground, or a loop of voltage sources and inductors."""
     if not circuit.elements:
         raise CircuitError("the circuit has no elements")
-    nodes = circuit.nodes
     touches_ground = any(ck.GROUND in getattr(e, "nodes", ()) for e in circuit.elements)
     if not touches_ground:
         raise CircuitError(
             "no element connects to ground (node 0); every circuit needs a reference node: "
             "connect the circuit's common to node 0 (or 'gnd')"
         )
-    _check_connected(circuit)
-    _check_voltage_loops(circuit)
-    dc = _DisjointSets()
-    dc.find(ck.GROUND)
+    every_terminal = []
+    dc_paths = []
     for element in circuit.elements:
+        terminals = tuple(getattr(element, "nodes", ())) + tuple(getattr(element, "control_nodes", ()))
+        every_terminal.extend((terminals[0], node) for node in terminals[1:])
         if isinstance(element, _DC_CONDUCTING):
-            dc.union(*element.nodes)
+            dc_paths.append(element.nodes)
         elif isinstance(element, ck.OpAmp):  # its output is a voltage source to ground
-            dc.union(element.nodes[2], ck.GROUND)
-    ground = dc.find(ck.GROUND)
-    floating = [node for node in nodes if dc.find(node) != ground]
-    if floating:
-        shown = ", ".join(floating[:8]) + (f" and {len(floating) - 8} more" if len(floating) > 8 else "")
+            dc_paths.append((element.nodes[2], ck.GROUND))
+    apart = _cut_off_from_ground(circuit.nodes, every_terminal)
+    if apart:
         raise CircuitError(
-            f"node(s) {shown} have no DC path to ground: they connect to the rest only through "
+            f"part of the circuit is not connected to the rest at all (nodes {_some(apart)}); "
+            "connect it, or remove it from the netlist"
+        )
+    _check_voltage_loops(circuit)
+    floating = _cut_off_from_ground(circuit.nodes, dc_paths)
+    if floating:
+        raise CircuitError(
+            f"node(s) {_some(floating)} have no DC path to ground: they connect to the rest only through "
             "capacitors or current sources, so their DC voltage is undefined. Add a resistor to "
             "ground (a large value such as 1 GΩ models a leakage path) or check the node names"
         )
 
 
-def _check_connected(circuit: ck.Circuit) -> None:
-    joined = _DisjointSets()
-    joined.find(ck.GROUND)
-    for element in circuit.elements:
-        terminals = list(getattr(element, "nodes", ())) + list(getattr(element, "control_nodes", ()))
-        for node in terminals[1:]:
-            joined.union(terminals[0], node)
-    ground = joined.find(ck.GROUND)
-    apart = [node for node in circuit.nodes if joined.find(node) != ground]
-    if apart:
-        shown = ", ".join(apart[:8]) + (f" and {len(apart) - 8} more" if len(apart) > 8 else "")
-        raise CircuitError(
-            f"part of the circuit is not connected to the rest at all (nodes {shown}); "
-            "connect it, or remove it from the netlist"
-        )
+def _some(names: list[str], most: int = 8) -> str:
+    return ", ".join(names[:most]) + (f" and {len(names) - most} more" if len(names) > most else "")
+
+
+def _cut_off_from_ground(nodes: tuple[str, ...], edges: list[tuple[str, str]]) -> list[str]:
+    """The nodes no chain of ``edges`` joins to ground (connected components
+    of the graph, scipy.sparse.csgraph)."""
+    from scipy.sparse import coo_matrix
+    from scipy.sparse.csgraph import connected_components
+
+    index = {ck.GROUND: 0, **{node: i + 1 for i, node in enumerate(nodes)}}
+    if edges:
+        a = np.fromiter((index[e[0]] for e in edges), dtype=np.int64, count=len(edges))
+        b = np.fromiter((index[e[1]] for e in edges), dtype=np.int64, count=len(edges))
+    else:
+        a = b = np.zeros(0, dtype=np.int64)
+    graph = coo_matrix((np.ones(a.size), (a, b)), shape=(len(index), len(index)))
+    _, label = connected_components(graph, directed=False)
+    return [node for node, i in index.items() if label[i] != label[0]]
 
 
 def _check_voltage_loops(circuit: ck.Circuit) -> None:
