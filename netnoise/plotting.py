@@ -47,6 +47,9 @@ BAND_COLOUR = "#8a8a8a"
 GRID_COLOUR = "#e2e2e2"
 TOTAL_WIDTH = 2.6
 CONTRIBUTOR_WIDTH = 1.2
+# Line styles cycle with the colours, so contributors with equal curves (matched
+# parts: two arms of a bridge, two input amplifiers) stay visible on each other.
+CONTRIBUTOR_STYLES = ("-", (0, (5, 3)), (0, (1, 2)), "-.")
 
 # gid values, so code (and tests) can find each drawn element.
 GID_TOTAL = "total-density"
@@ -107,7 +110,8 @@ def _draw_density(ax: Axes, result: NoiseResult, top: int) -> None:
             f,
             _amplitude(result.source_density[k][show]) / scale,
             color=CONTRIBUTOR_COLOURS[n % len(CONTRIBUTOR_COLOURS)],
-            linewidth=CONTRIBUTOR_WIDTH,
+            linestyle=CONTRIBUTOR_STYLES[n % len(CONTRIBUTOR_STYLES)],
+            linewidth=CONTRIBUTOR_WIDTH if n % len(CONTRIBUTOR_STYLES) == 0 else CONTRIBUTOR_WIDTH + 0.4,
             label=label,
             gid=GID_CONTRIBUTOR,
             zorder=3,
