@@ -78,6 +78,8 @@ class _Samples:
         return ids
 
     def arrays(self):
+        if len(self.g) == 1:  # the grid alone (no refinement): no copy of the (R, M) values
+            return self.u[0], self.log[0], self.g[0]
         return np.concatenate(self.u), np.concatenate(self.log), np.concatenate(self.g, axis=1)
 
 
@@ -182,22 +184,23 @@ def integrate_band(
 
 _SIMPSON_FINE = np.array([1.0, 4.0, 2.0, 4.0, 1.0]) / 3.0  # two Simpson panels of width h
 _SIMPSON_COARSE = np.array([2.0, 0.0, 8.0, 0.0, 2.0]) / 3.0  # one panel of width 2h
+_RICHARDSON = (_SIMPSON_FINE - _SIMPSON_COARSE) / 15.0  # the error estimate's weights
 
 
 def _rules(g: np.ndarray, seg: np.ndarray, h: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
     """Simpson on the two halves of every segment, and the Richardson error
-    estimate (fine - coarse)/15, for every row: (R, S) each.  One sparse
-    (samples × segments) weight matrix per rule instead of an (R, S, 5) gather."""
-    import scipy.sparse as sp
+    estimate (fine - coarse)/15, for every row: (R, S) each.
 
-    m = g.shape[1]
-    segments = np.repeat(np.arange(seg.shape[0]), 5)
-    w_fine = (h[:, None] * _SIMPSON_FINE[None, :]).ravel()
-    w_err = (h[:, None] * (_SIMPSON_FINE - _SIMPSON_COARSE)[None, :] / 15.0).ravel()
-    shape = (m, seg.shape[0])
-    fine = sp.csc_matrix((w_fine, (seg.ravel(), segments)), shape=shape)
-    err = sp.csc_matrix((w_err, (seg.ravel(), segments)), shape=shape)
-    return np.asarray(g @ fine), np.asarray(g @ err)
+    Vectorised over rows and segments: one (R, S) column gather per point of
+    the five-point rule, weighted and summed (no (R, S, 5) gather, and no
+    sparse product, which would copy ``g`` transposed)."""
+    fine = np.zeros((g.shape[0], seg.shape[0]))
+    err = np.zeros_like(fine)
+    for j in range(5):
+        column = g[:, seg[:, j]]  # (R, S): point j of every segment
+        fine += column * (h * _SIMPSON_FINE[j])
+        err += column * (h * _RICHARDSON[j])
+    return fine, err
 
 
 def _cumulative(g, seg, h, is_log, u, groups, count) -> np.ndarray:

@@ -147,6 +147,9 @@ class _Pattern:
         self.rows = (lin % n).astype(index_type)
         self.cols = (lin // n).astype(index_type)
         self.indptr = np.searchsorted(self.cols, np.arange(n + 1)).astype(index_type)
+        # the same indices as numpy's own index type: gathering with int32 indices converts them
+        # on every call (about half the cost of each gather in scaled())
+        self._rows_ip, self._cols_ip = self.rows.astype(np.intp), self.cols.astype(np.intp)
         self.g_data = np.zeros(lin.size)
         self.c_data = np.zeros(lin.size)
         np.add.at(self.g_data, np.searchsorted(lin, lin_g), gc.data)
@@ -168,9 +171,11 @@ class _Pattern:
         data = self.g_data + s * self.c_data
         mag = self.g_abs + abs(s) * self.c_abs  # a cheap bound of |data|, safe against cancellation
         dr = _pow2(self._row_max(mag))
-        mag *= dr[self.rows]
+        scale = dr[self._rows_ip]
+        mag *= scale
         dc = _pow2(self._col_max(mag))
-        data *= dr[self.rows] * dc[self.cols]
+        scale *= dc[self._cols_ip]
+        data *= scale
         return data, dr, dc, 0.5  # every column's largest |entry| is at least ~1/√2 of its bound
 
 
@@ -237,7 +242,10 @@ class AdjointSolver:
             self._pattern = banded
             self._order = order
             self._kl, self._ku = kl, ku
-            self._band_index = (kl + ku + banded.rows.astype(np.int64) - banded.cols) * self.n + banded.cols
+            # position of each pattern entry in the band array, which is Fortran-ordered (what
+            # zgbsv takes: a C-ordered one is copied by the wrapper at every frequency)
+            band_rows = 2 * kl + ku + 1
+            self._band_index = banded.cols.astype(np.intp) * band_rows + (kl + ku + banded.rows.astype(np.intp) - banded.cols)
             from scipy.linalg import lapack
 
             self._gbsv = lapack.get_lapack_funcs("gbsv", dtype=np.complex128)
@@ -343,8 +351,8 @@ class AdjointSolver:
         p = self._pattern
         data, dr, dc, norm = p.scaled(2j * math.pi * f)
         kl, ku, n = self._kl, self._ku, self.n
-        ab = np.zeros((2 * kl + ku + 1, n), dtype=complex)
-        ab.ravel()[self._band_index] = data
+        ab = np.zeros((2 * kl + ku + 1, n), dtype=complex, order="F")
+        ab.T.ravel()[self._band_index] = data  # ab.T is C-contiguous: its ravel() is a view
         rhs = np.empty((n, 2), dtype=complex, order="F")
         rhs[:, 0] = dr * c[self._order]
         rhs[:, 1] = self._probe
