@@ -33,6 +33,7 @@ are loaded when a command needs them.
 from __future__ import annotations
 
 import argparse
+import gc
 import math
 import os
 import sys
@@ -280,10 +281,20 @@ def _load(path: str):
         raise UsageError(f"cannot read netlist '{path}': it is a folder; give the netlist file")
     if not os.path.isfile(path):
         raise UsageError(f"cannot read netlist '{path}': no such file")
+    collecting = gc.isenabled()
+    gc.disable()
     try:
         return netlist.load_netlist(path)
     except OSError as error:
         raise UsageError(f"cannot read netlist '{path}': {error.strerror or error}") from None
+    finally:
+        # The circuit (hundreds of thousands of objects for a large netlist) lives until the
+        # command ends: freeze what is alive now out of the cycle collector's sight, else the
+        # first collections after parsing scan all of it for nothing (~0.2 s on a 40,000-element
+        # ladder).  main() unfreezes at the end.
+        gc.freeze()
+        if collecting:
+            gc.enable()
 
 
 def _read_files(circuit) -> set[str]:
@@ -421,3 +432,5 @@ def main(argv: Sequence[str] | None = None) -> int:
         return 1
     except Exception as error:  # noqa: BLE001 -- the last line of defence
         return _internal_error(error)
+    finally:
+        gc.unfreeze()  # what _load() froze (main may be called again in the same process)

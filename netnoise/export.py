@@ -285,8 +285,13 @@ def to_json(result: NoiseResult, **extras: Any) -> str:
     return _readable_json(result_to_dict(result, **extras)) + "\n"
 
 
+# one encoder for every piece: json.dumps with options builds a new JSONEncoder per call
+# (~40 % of the time for one line per contribution of 20,000 sources)
+_ENCODER = json.JSONEncoder(ensure_ascii=False, allow_nan=False, separators=(", ", ": "))
+
+
 def _compact(value: Any) -> str:
-    return json.dumps(value, ensure_ascii=False, allow_nan=False, separators=(", ", ": "))
+    return _ENCODER.encode(value)
 
 
 def _readable_json(data: dict) -> str:
