@@ -40,6 +40,9 @@ CASES = [
     # an LC tank read through a buffer: nothing damps it
     ("lossless resonance to infinity", "L1 a 0 1u\nC1 a 0 1n\nE1 b 0 a 0 1\nR1 b c 1k\nC2 c 0 1n\n",
      ["--out", "c", "--band", "0", "inf"], 1, ["lossless", "Hz"]),
+    # a lossless tank resonating exactly on a grid frequency (1 kHz) makes the matrix singular there
+    ("lossless resonance on a grid point", "L1 a 0 {1/((2*pi*1k)**2*1u)}\nC1 a 0 1u\nE1 b 0 a 0 1\nR1 b 0 1k\n",
+     ["--out", "b", "--band", "100", "10k", "--points", "20"], 1, ["singular", "1000 Hz", "loss"]),
     ("band low above high", "R1 a 0 1k\n", ["--out", "a", "--band", "10k", "1k"], 2, ["band", "above"]),
     ("negative band edge", "R1 a 0 1k\n", ["--out", "a", "--band", "-1", "1k"], 2, ["band", "0"]),
     ("temperature below absolute zero", "R1 a 0 1k\n", ["--out", "a", "--band", "1", "1k", "--temp", "-300"], 2,
