@@ -160,9 +160,10 @@ def test_shot_share_scales_with_current(scale):
 
 def test_excess_noise_from_noise_index_per_decade():
     # Noise index NI (dB re 1 µV/V per decade): over one decade the excess
-    # noise voltage is NI_lin·V_dc rms (the makers' definition, e.g. IEC
-    # 60195 for resistor current noise; common practice).  Here the resistor
-    # sits across a stiff 10 V source through nothing else, seen at its top.
+    # noise voltage is NI_lin·V_dc rms (the makers' definition; common
+    # practice; the measurement standard IEC 60195 is named from memory).
+    # Here Rx and a noiseless equal resistor divide a 20 V source, so Rx has
+    # 10 V across it and its noise voltage halves into node mid.
     ni, v_dc, r = 0.0, 10.0, 1e4  # 0 dB: 1 µV/V
     rx = dataclasses.replace(R("Rx", "top", "mid", r), noise_index_dB=ni)
     ckt = circuit(V("Vb", "top", "0"), rx, noiseless(R("Rlow", "mid", "0", r)))
