@@ -599,6 +599,7 @@ _TERMINAL_WORDS = {
     "WORDS": "a node name or a value",
     "WORD": "a node name or a value",
     "ELEMENT_NAME": "an element name",
+    "PLAIN_LINE": "an element name",
     "DOT_WORD": "a dot-card",
     "DOT_PARAM": "a dot-card",
     "NUMBER": "a number",
@@ -660,7 +661,7 @@ def _unwrap(exc: UnexpectedInput, source: SourceText) -> NetlistError:
     """A NetlistError in plain words for one of lark's parse exceptions."""
     if isinstance(exc, UnexpectedToken):
         token = exc.token
-        if token.type == "WORDS":  # show its first word, where that word starts
+        if token.type in ("WORDS", "PLAIN_LINE"):  # show its first word, where that word starts
             text = str(token)
             first = text.split()[0]
             token = Token("WORD", first, line=token.line, column=token.column + text.index(first))
@@ -731,7 +732,7 @@ class _Fields:
         return Word(str(token), self.source, token.line, token.column)
 
     def words(self, token: Token) -> list[Word]:
-        """The words of a WORDS token (blanks, then a word, repeated; one line)."""
+        """The words of a WORDS or PLAIN_LINE token (blank-separated, one line)."""
         text = str(token)
         line = token.line
         column = token.column
@@ -890,20 +891,40 @@ class _Line:
 
 
 def _element(tree: Tree, fields: _Fields) -> Statement:
-    name_token = tree.children[0]
-    name = str(name_token)
-    source = fields.source
+    """An element line with keyed, called, braced or quoted fields."""
+    name_word = fields.word(tree.children[0])
+    _check_letter(name_word)
+    return _element_statement(name_word, fields.fields(tree.children[1:]))
+
+
+def _plain_element(token: Token, fields: _Fields) -> Statement:
+    """An element line of plain words only (one PLAIN_LINE token)."""
+    name_word, *items = fields.words(token)
+    name = name_word.text
     letter = name[0].upper()
-    if letter not in SUPPORTED_LETTERS:
-        reason = _UNSUPPORTED.get(letter, f"element letter '{name[0]}' is not supported")
+    if letter in "RCL" and len(items) == 3:  # most lines of a large netlist: no options to take
+        what = "value of " + name
+        return Passive(letter, name, (items[0], items[1]), _value(items[2], what), name_word.loc)
+    _check_letter(name_word)
+    return _element_statement(name_word, items)
+
+
+def _check_letter(name_word: Word) -> None:
+    name = name_word.text
+    if name[0].upper() not in SUPPORTED_LETTERS:
+        reason = _UNSUPPORTED.get(name[0].upper(), f"element letter '{name[0]}' is not supported")
         raise _fail(
             f"{name}: {reason}",
-            source.at(name_token),
+            name_word.loc,
             "netnoise reads linear circuits: R, C, L, K, V, I, E, G, F, H and X lines",
         )
-    items = fields.fields(tree.children[1:])
-    line = _Line(name, letter, fields.word(name_token), items)
-    loc = source.at(name_token)
+
+
+def _element_statement(name_word: Word, items: list[Field]) -> Statement:
+    name = name_word.text
+    letter = name[0].upper()
+    line = _Line(name, letter, name_word, items)
+    loc = name_word.loc
     if letter in "RCL":
         nodes = (line.node("first node"), line.node("second node"))
         value = line.value("value")
@@ -1346,7 +1367,9 @@ def parse_statements(text: str, filename: str = "<text>", has_title: bool = True
     fields = _Fields(source)
     statements: list[Statement] = []
     for node in tree.children:
-        if node.data == "element_line":
+        if isinstance(node, Token):  # PLAIN_LINE
+            statements.append(_plain_element(node, fields))
+        elif node.data == "element_line":
             statements.append(_element(node, fields))
         elif node.data == "param_line":
             statements.append(_param_card(node, source))

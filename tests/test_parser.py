@@ -228,6 +228,40 @@ def test_a_word_before_equals_or_parenthesis_is_not_in_the_run():
     assert v.waveform == "SIN" and v.has_ac
 
 
+def test_plain_lines_read_as_the_general_form_does():
+    # a line of plain words is one token (PLAIN_LINE) with its own code path; the same
+    # elements written with a braced value take the general path: same statements
+    plain = parse_statements("t\nR1 a b 1k\nC1 b 0 2p\nL1 b c 3u\nV1 a 0 DC 1 AC 1\nR2 c 0 4k noiseless\n")
+    braced = parse_statements("t\nR1 a b {1k}\nC1 b 0 {2p}\nL1 b c {3u}\nV1 a 0 DC {1} AC 1\nR2 c 0 {4k} noiseless\n")
+    assert [type(s) for s in plain.statements] == [type(s) for s in braced.statements]
+    for p, b in zip(plain.statements, braced.statements):
+        assert p.name == b.name and (p.loc.line, p.loc.column) == (b.loc.line, b.loc.column)
+    r2 = plain.statements[-1]
+    assert r2.noiseless and [w.text for w in r2.nodes] == ["c", "0"]
+
+
+def test_a_plain_line_continued_after_blank_and_comment_lines():
+    # the whole-line token must not swallow a line a '+' continues, however far below
+    r1 = only("t\nR1 a b\n* the value follows\n\n   \n+ 1k\n")
+    assert r1.value.number == pytest.approx(1e3, rel=1e-12)
+    assert (r1.value.loc.line, r1.value.loc.column) == (6, 3)
+
+
+def test_errors_in_plain_lines_point_at_the_word():
+    from netnoise.errors import NetlistError
+
+    with pytest.raises(NetlistError) as bad_value:
+        parse_statements("t\nR1 a b\t1x\n")
+    assert (bad_value.value.location.line, bad_value.value.location.column) == (2, 8)
+    with pytest.raises(NetlistError) as missing:
+        parse_statements("t\nC7 a\n\nR1 a 0 1k\n")
+    assert "C7 is missing its second node" in str(missing.value)
+    assert (missing.value.location.line, missing.value.location.column) == (2, 5)
+    with pytest.raises(NetlistError) as letter:
+        parse_statements("t\nQ1 c b e\n")
+    assert "bipolar transistors are not supported" in str(letter.value)
+
+
 # ---- resistor options (issue 3)
 
 
