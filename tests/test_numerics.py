@@ -156,5 +156,27 @@ R4 d 0 1meg
     for m in ("dense", "banded", "sparse"):
         monkeypatch.setattr(transfer, "FORCE_METHOD", m)
         out[m] = transfer.adjoint_solutions(system, selector, f)
+        if m == "banded":  # C3 and the controlled source widen the band: general zgbsv, not gtsv
+            assert transfer.solver_for(system)._gtsv is None
     for m in ("banded", "sparse"):
         np.testing.assert_allclose(out[m], out["dense"], rtol=1e-10, atol=1e-14 * np.abs(out["dense"]).max())
+
+
+def test_tridiagonal_and_general_band_solvers_agree(monkeypatch):
+    # the same ladder solved by zgtsv (tridiagonal) and, with one bridging capacitor added
+    # (bandwidth 2), by zgbsv; both against the dense path at the same frequencies
+    lines = ["ladder", "Vin in 0 AC 1"] + [
+        f"R{i} {'in' if i == 1 else f'n{i - 1}'} n{i} {100 + 7 * i}\nC{i} n{i} 0 {i}p" for i in range(1, 60)
+    ]
+    f = np.logspace(0, 10, 21)
+    monkeypatch.setattr(transfer, "DENSE_LIMIT", 10)
+    for extra, tridiagonal in (([], True), (["Cb n10 n12 3p"], False)):
+        system = assemble(netnoise.parse_netlist("\n".join(lines + extra + [".end"]) + "\n"))
+        selector = system.node_pair_vector("n59", "0")
+        monkeypatch.setattr(transfer, "FORCE_METHOD", None)
+        solver = transfer.solver_for(system)
+        assert solver.method == "banded" and (solver._gtsv is not None) == tridiagonal
+        z = transfer.adjoint_solutions(system, selector, f)
+        monkeypatch.setattr(transfer, "FORCE_METHOD", "dense")
+        ref = transfer.adjoint_solutions(system, selector, f)
+        np.testing.assert_allclose(z, ref, rtol=1e-10, atol=1e-13 * np.abs(ref).max())

@@ -45,6 +45,7 @@ def test_paths_by_size_and_structure():
     grid = assemble(netnoise.parse_netlist(mesh(40, 40)))
     assert transfer.solver_for(small).method == "dense"
     assert transfer.solver_for(long).method == "banded"
+    assert transfer.solver_for(long)._gtsv is not None  # a ladder is tridiagonal: LAPACK gtsv
     assert transfer.solver_for(grid).method == "sparse"
     for system in (long, grid):  # no dense matrix is formed for a large circuit
         assert not hasattr(transfer.solver_for(system), "_gt")
