@@ -194,6 +194,7 @@ def result_to_dict(
     signal_at: str = "input",
     adc: AdcComparison | None = None,
     operating_point: OperatingPoint | None = None,
+    _check: bool = True,
 ) -> dict[str, Any]:
     """The result as a dict of plain Python values, ready for ``json.dumps``.
 
@@ -257,7 +258,8 @@ def result_to_dict(
         data["adc"] = _adc(adc)
     if operating_point is not None:
         data["operating_point"] = _operating_point(operating_point)
-    _check_finite(data, "result")
+    if _check:
+        _check_finite(data, "result")
     return data
 
 
@@ -282,7 +284,12 @@ def to_json(result: NoiseResult, **extras: Any) -> str:
     written by json's C encoder (an ``indent`` would switch json to its
     pure-Python encoder, seconds for a budget of 20,000 sources).
     """
-    return _readable_json(result_to_dict(result, **extras)) + "\n"
+    data = result_to_dict(result, **extras, _check=False)
+    try:
+        return _readable_json(data) + "\n"
+    except ValueError:  # the encoder refuses NaN and infinities (allow_nan=False): say where
+        _check_finite(data, "result")
+        raise
 
 
 # one encoder for every piece: json.dumps with options builds a new JSONEncoder per call

@@ -229,6 +229,18 @@ def test_spot_noise_figure_without_gain_is_null_and_nan_is_refused():
         result_to_dict(dataclasses.replace(base, noise_figure_spectrum_dB=nf))
     with pytest.raises(CircuitError, match="finite"):
         result_to_dict(dataclasses.replace(base, noise_figure_dB=math.inf))
+    with pytest.raises(CircuitError, match="noise_figure_dB"):
+        to_json(dataclasses.replace(base, noise_figure_dB=math.inf))
+
+
+def test_to_json_names_a_non_finite_field_the_encoder_refuses():
+    # to_json leaves the walk over every number to the encoder (allow_nan=False) and,
+    # when it refuses, names the field as result_to_dict does
+    from netnoise.figures import SignalToNoise
+
+    snr = SignalToNoise(signal_output_rms_V=math.nan, noise_rms_V=1e-6, snr_dB=math.nan)
+    with pytest.raises(CircuitError, match=r"result\.snr\.signal_rms is nan"):
+        to_json(samples.front_end(), snr=snr)
 
 
 def test_groups_by_element_and_by_mechanism():
