@@ -24,6 +24,7 @@ from .errors import CircuitError, UsageError
 from .integrate import integrate_band
 from .mna import MnaSystem, assemble
 from .noise_sources import NoiseSources, collect_noise_sources
+from .resources import require_memory
 from .result import NoiseResult
 from .topology import check_topology
 from .total_variance import EXACT_LIMIT, finite_poles_Hz, infinite_band_totals
@@ -129,17 +130,21 @@ class _Problem:
         the 1/f part of each colored source again; then |H|² of the input."""
         from .transfer import transfer_power  # blocks of frequencies, never all (F, n) solutions at once
 
-        power, signal = transfer_power(
-            self.system, self.selector, self.sources.injection, self.input_vector, frequency_Hz
+        k = len(self.sources)
+        colored = np.flatnonzero(self.sources.colored) if extra_colored else np.zeros(0, dtype=np.intp)
+        rows = k + colored.size + self.has_input
+        require_memory(rows * np.size(frequency_Hz) * 8, "the per-source transfer at every frequency")
+        out = np.empty((rows, np.size(frequency_Hz)))  # filled in place: no stacking copy
+        _, signal = transfer_power(
+            self.system, self.selector, self.sources.injection, self.input_vector, frequency_Hz, power_out=out[:k]
         )
-        rows = [power]
-        rows[0] *= self.sources.density(frequency_Hz, part)
-        if extra_colored:
-            colored = np.flatnonzero(self.sources.colored)
-            rows.append(power[colored] * self.sources.density(frequency_Hz, "colored")[colored])
+        power = out[:k]
+        if colored.size:
+            out[k : k + colored.size] = power[colored] * self.sources.density(frequency_Hz, "colored")[colored]
+        power *= self.sources.density(frequency_Hz, part)
         if signal is not None:
-            rows.append(signal[None, :])
-        return np.vstack(rows)
+            out[-1] = signal
+        return out
 
     def groups(self, extra_colored: bool = False) -> list[slice]:
         """Row ranges judged together by the integrator, matching :meth:`densities`."""

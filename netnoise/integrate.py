@@ -63,16 +63,23 @@ class _Samples:
         self.u: list[np.ndarray] = []
         self.log: list[np.ndarray] = []
         self.g: list[np.ndarray] = []
+        self.density_max: np.ndarray | None = None  # (R,) the largest density of each row so far
         self.count = 0
 
     def add(self, u: np.ndarray, is_log: np.ndarray) -> np.ndarray:
         """Evaluate at new points; returns their ids."""
         f = np.where(is_log, np.exp(np.where(is_log, u, 0.0)), u)
         density = np.asarray(self._evaluate(f), dtype=float)
+        peak = density.max(axis=1, initial=-np.inf)
+        self.density_max = peak if self.density_max is None else np.maximum(self.density_max, peak)
         weight = np.where(is_log, f, 1.0)
+        if density.flags.writeable and density.base is None:  # the evaluator's own new array
+            density *= weight  # (R, M) rows can be large: no second copy
+        else:
+            density = density * weight
         self.u.append(u)
         self.log.append(is_log)
-        self.g.append(density * weight)
+        self.g.append(density)
         ids = np.arange(self.count, self.count + u.size)
         self.count += u.size
         return ids
@@ -169,13 +176,12 @@ def integrate_band(
     values = np.sum(fine + err, axis=1)
     cumulative = _cumulative(g, seg, h, is_log, u, groups, samples.count)
     f_grid = np.exp(u[grid_ids])
-    f_all = np.where(is_log, np.exp(np.where(is_log, u, 0.0)), u)
-    weight = np.where(is_log, f_all, 1.0)
+    grid = slice(int(grid_ids[0]), int(grid_ids[-1]) + 1)  # laid out in one call: consecutive ids
     return BandIntegral(
         values=values,
-        sample_max=np.max(g / weight[None, :], axis=1),
+        sample_max=samples.density_max,
         grid_Hz=f_grid,
-        grid_density=g[:, grid_ids] / f_grid[None, :],
+        grid_density=g[:, grid] / f_grid[None, :],
         grid_cumulative=cumulative[:, grid_ids],
         rel_error=max(group_error, default=0.0),
         evaluations=samples.count,

@@ -89,15 +89,16 @@ class NoiseSources:
 
     def density(self, frequency_Hz: np.ndarray, part: str = "full") -> np.ndarray:
         """(K, F) one-sided source densities: ``part`` "full", "white" (the
-        white level only) or "colored" (the 1/f part only; infinite at 0 Hz)."""
+        white level only) or "colored" (the 1/f part only; infinite at 0 Hz).
+        White levels come as a read-only broadcast view."""
         if part not in ("full", "white", "colored"):
             raise ValueError(f"part must be 'full', 'white' or 'colored', not {part!r}")
         f = np.asarray(frequency_Hz, dtype=float)
         white = np.broadcast_to(self.white_density[:, None], (len(self), f.size))
-        if part == "white":
+        rows = np.flatnonzero(self.colored)
+        if part == "white" or (part == "full" and not rows.size):
             return white
         colored = np.zeros((len(self), f.size))
-        rows = np.flatnonzero(self.colored)
         if rows.size:
             with np.errstate(divide="ignore"):
                 inverse_f = np.where(f > 0, 1.0 / np.where(f > 0, f, 1.0), np.inf)

@@ -74,17 +74,20 @@ def adjoint_solutions(system: MnaSystem, selector: np.ndarray, frequency_Hz: np.
     return solver_for(system).solve(selector, np.asarray(frequency_Hz, dtype=float))
 
 
-def transfer_power(system, selector, injection, input_vector, frequency_Hz):
+def transfer_power(system, selector, injection, input_vector, frequency_Hz, power_out=None):
     """``(|zᵀB|² (K, F), |zᵀu|² (F,) or None)``: the power transfer from every
     column of the sparse injection matrix ``B`` (n, K) and from the input
     vector ``u``, in blocks of frequencies (the (F, n) solutions are never
-    all held at once for a large circuit)."""
+    all held at once for a large circuit).  ``power_out``: a (K, F) array to
+    fill and return as the first."""
     f = np.asarray(frequency_Hz, dtype=float)
     solver = solver_for(system)
     bt = injection.T.tocsr()  # (K, n)
     k = bt.shape[0]
-    require_memory(f.size * (k * 8 + 8), "the per-source transfer at every frequency")
-    power = np.empty((k, f.size))
+    if power_out is None:
+        require_memory(f.size * (k * 8 + 8), "the per-source transfer at every frequency")
+        power_out = np.empty((k, f.size))
+    power = power_out
     signal = np.empty(f.size) if input_vector is not None else None
     chunk = f.size if system.size <= DENSE_LIMIT else _GAIN_CHUNK
     for start in range(0, f.size, chunk):
