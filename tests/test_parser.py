@@ -1,5 +1,6 @@
 """Netlist text -> statements: lines, comments, continuations, field shapes."""
 
+import os
 from pathlib import Path
 
 import pytest
@@ -46,6 +47,40 @@ def test_parser_built_once():
 
 
 # ---- lines
+
+
+def _parse_in_fresh_process(cache_home: Path) -> str:
+    import subprocess
+    import sys
+
+    code = (
+        "import netnoise; from netnoise.grammar import parser_cache_path; "
+        "c = netnoise.parse_netlist('t\\nR1 a 0 1k\\nC1 a 0 {2p}\\n'); "
+        "print(len(c.elements), parser_cache_path())"
+    )
+    env = {**os.environ, "XDG_CACHE_HOME": str(cache_home)}
+    out = subprocess.run([sys.executable, "-c", code], env=env, capture_output=True, text=True, check=True)
+    assert out.stderr == ""
+    return out.stdout.split()
+
+
+def test_parser_tables_are_cached_between_runs(tmp_path):
+    count, path = _parse_in_fresh_process(tmp_path)
+    cache = Path(path)
+    assert count == "2" and cache.parent == tmp_path / "netnoise" and cache.is_file()
+    first = cache.stat().st_mtime_ns
+    assert _parse_in_fresh_process(tmp_path)[0] == "2"
+    assert cache.stat().st_mtime_ns == first  # loaded, not rebuilt
+    cache.write_bytes(b"not a parser")  # a broken file is rebuilt over, silently
+    assert _parse_in_fresh_process(tmp_path)[0] == "2"
+    assert cache.read_bytes() != b"not a parser"
+
+
+def test_parser_works_without_a_usable_cache_folder(tmp_path):
+    blocker = tmp_path / "a-file"
+    blocker.write_text("")
+    count, path = _parse_in_fresh_process(blocker)  # the cache folder cannot be made under a file
+    assert count == "2" and path == "None"
 
 
 def test_title_line_is_not_a_statement():
