@@ -24,7 +24,8 @@ from .resources import MEMORY_FRACTION, available_memory
 
 __all__ = ["BandIntegral", "integrate_band", "log_grid_intervals"]
 
-Evaluator = Callable[[np.ndarray], np.ndarray]  # (M,) Hz -> (R, M) densities
+# (M,) Hz -> (R, M) densities; a new array the evaluator does not keep is scaled in place
+Evaluator = Callable[[np.ndarray], np.ndarray]
 
 
 @dataclass(frozen=True, eq=False)
