@@ -49,7 +49,10 @@ __all__ = ["adjoint_solutions", "transfer_power", "AdjointSolver", "solver_for",
 
 DENSE_LIMIT = 200  # unknowns; above this the banded or sparse path is used
 RCOND_MIN = 1e-13  # estimated reciprocal condition number (equilibrated) below which a frequency is refused
-_CHUNK_BYTES = 64 * 2**20  # memory for one batch of dense complex matrices
+# one batch of dense complex matrices: cache-sized (22 unknowns x 1001 frequencies: 18.5 ms in
+# 64 MB batches, 14.8 ms in 4 MB ones), but at least 4 frequencies (190 unknowns: 2 a batch is 20 % slower)
+_CHUNK_BYTES = 4 * 2**20
+_CHUNK_MIN_FREQUENCIES = 4
 _BAND_ALWAYS = 16  # kl + ku up to which the banded path is taken without comparing costs
 _PIVOT_THRESHOLD = 0.1  # SuperLU threshold partial pivoting (1.0 = classical partial pivoting)
 _GAIN_CHUNK = 32  # frequencies per block when gathering source gains
@@ -300,7 +303,7 @@ class AdjointSolver:
     def _dense(self, c: np.ndarray, f: np.ndarray) -> np.ndarray:
         n = self.n
         out = np.empty((f.size, n), dtype=complex)
-        chunk = max(1, _CHUNK_BYTES // (48 * n * n))
+        chunk = max(_CHUNK_MIN_FREQUENCIES, _CHUNK_BYTES // (48 * n * n))
         probe = self._probe
         gt, ct = self._gt, self._ct
         gabs, cabs = np.abs(gt), np.abs(ct)
