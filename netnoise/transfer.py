@@ -220,6 +220,7 @@ class AdjointSolver:
         self.dense_limit = DENSE_LIMIT
         self.forced = FORCE_METHOD
         self._probe = _probe(self.n)
+        self._probe_norm = float(np.abs(self._probe).max(initial=0.0))
         self._superlu_order: np.ndarray | None = None
         if (self.n <= DENSE_LIMIT and FORCE_METHOD is None) or FORCE_METHOD == "dense":
             self.method = "dense"
@@ -295,7 +296,7 @@ class AdjointSolver:
             peak_c, peak_p = float(np.abs(w_c).max(initial=0.0)), float(np.abs(w_p).max(initial=0.0))
         if not (math.isfinite(peak_c) and math.isfinite(peak_p)):
             raise _singular(f)
-        inv_norm = max(peak_p / float(np.abs(self._probe).max()), peak_c / rhs_norm if rhs_norm else 0.0)
+        inv_norm = max(peak_p / self._probe_norm, peak_c / rhs_norm if rhs_norm else 0.0)
         if norm * inv_norm * RCOND_MIN > 1.0:
             raise _singular(f, 1.0 / (norm * inv_norm))
 
