@@ -42,12 +42,13 @@ def grammar_text() -> str:
     return grammar_path().read_text(encoding="utf-8")
 
 
-def parser_cache_path() -> Path | None:
+def parser_cache_path(text: str | None = None) -> Path | None:
     """Where the built parser tables are kept between runs: the user's cache
     folder (``$XDG_CACHE_HOME``, else ``~/.cache``) under ``netnoise/``, named
     by the grammar's hash and the lark and Python versions; None if that
-    folder cannot be made (the parser is then built at every start)."""
-    text = grammar_text()
+    folder cannot be made (the parser is then built at every start).
+    ``text``: the grammar, if already read."""
+    text = grammar_text() if text is None else text
     base = os.environ.get("XDG_CACHE_HOME") or os.path.join(os.path.expanduser("~"), ".cache")
     folder = Path(base) / "netnoise"
     try:
@@ -66,9 +67,10 @@ def netlist_parser() -> Lark:
     lark keeps them in :func:`parser_cache_path` and checks the grammar's hash
     when it loads them (a stale or broken file is rebuilt; a file that cannot
     be written is skipped)."""
-    cache = parser_cache_path()
+    text = grammar_text()
+    cache = parser_cache_path(text)
     return Lark(
-        grammar_text(),
+        text,
         cache=str(cache) if cache is not None else False,
         parser="lalr",
         lexer="contextual",

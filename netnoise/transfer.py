@@ -87,10 +87,10 @@ def transfer_power(system, selector, injection, input_vector, frequency_Hz, powe
     solver = solver_for(system)
     bt = injection.T.tocsr()  # (K, n)
     k = bt.shape[0]
-    if power_out is None:
-        require_memory(f.size * (k * 8 + 8), "the per-source transfer at every frequency")
-        power_out = np.empty((k, f.size))
     power = power_out
+    if power is None:
+        require_memory(f.size * (k * 8 + 8), "the per-source transfer at every frequency")
+        power = np.empty((k, f.size))
     signal = np.empty(f.size) if input_vector is not None else None
     chunk = f.size if system.size <= DENSE_LIMIT else _GAIN_CHUNK
     for start in range(0, f.size, chunk):
@@ -249,22 +249,22 @@ class AdjointSolver:
             self._pattern = banded
             self._order = order
             self._kl, self._ku = kl, ku
-            # position of each pattern entry in the band array, which is Fortran-ordered (what
-            # zgbsv takes: a C-ordered one is copied by the wrapper at every frequency)
-            band_rows = 2 * kl + ku + 1
-            self._band_index = banded.cols.astype(np.intp) * band_rows + (kl + ku + banded.rows.astype(np.intp) - banded.cols)
             from scipy.linalg import lapack
 
-            self._gbsv = lapack.get_lapack_funcs("gbsv", dtype=np.complex128)
+            r, c = banded.rows.astype(np.intp), banded.cols.astype(np.intp)
             self._gtsv = None
             if kl <= 1 and ku <= 1 and self.n > 1:
                 # tridiagonal (ladders, chains, lines): LAPACK zgtsv, about half zgbsv's time at
                 # bandwidth 1 (no BLAS call per column); the sub-, main and super-diagonals are
                 # the three thirds of one array
                 self._gtsv = lapack.get_lapack_funcs("gtsv", dtype=np.complex128)
-                r, c = banded.rows.astype(np.intp), banded.cols.astype(np.intp)
                 n = self.n
                 self._tri_index = np.where(r == c, n + r, np.where(r > c, c, 2 * n + r))
+            else:
+                # position of each pattern entry in the band array, which is Fortran-ordered (what
+                # zgbsv takes: a C-ordered one is copied by the wrapper at every frequency)
+                self._gbsv = lapack.get_lapack_funcs("gbsv", dtype=np.complex128)
+                self._band_index = c * (2 * kl + ku + 1) + (kl + ku + r - c)
         else:
             self.method = "sparse"
             self._pattern = plain
