@@ -15,6 +15,7 @@ from __future__ import annotations
 
 import math
 from dataclasses import dataclass
+from typing import Callable
 
 import numpy as np
 
@@ -110,7 +111,8 @@ def _resolve(circuit, output, reference, input_source, band, points_per_decade, 
 class _Problem:
     """The assembled circuit with its output selector, sources and input."""
 
-    def __init__(self, circuit: ck.Circuit, settings: _Settings):
+    def __init__(self, circuit: ck.Circuit, settings: _Settings, progress=None):
+        self.progress = progress
         check_topology(circuit)
         self.system: MnaSystem = assemble(circuit)
         self.selector = self.system.node_pair_vector(settings.output, settings.reference)
@@ -136,7 +138,8 @@ class _Problem:
         require_memory(rows * np.size(frequency_Hz) * 8, "the per-source transfer at every frequency")
         out = np.empty((rows, np.size(frequency_Hz)))  # filled in place: no stacking copy
         _, signal = transfer_power(
-            self.system, self.selector, self.sources.injection, self.input_vector, frequency_Hz, power_out=out[:k]
+            self.system, self.selector, self.sources.injection, self.input_vector, frequency_Hz,
+            power_out=out[:k], progress=self.progress,
         )
         power = out[:k]
         if colored.size:
@@ -192,6 +195,7 @@ def analyze(
     points_per_decade: float | None = None,
     temperature_celsius: float | None = None,
     source_resistor: str | None = None,
+    progress: Callable[[int], None] | None = None,
 ) -> NoiseResult:
     """Output noise of ``circuit`` at v(output) - v(reference).
 
@@ -200,9 +204,11 @@ def analyze(
     cards, else defaults (0 Hz to infinity -- from 0.1 Hz when there is 1/f
     noise --, 20 points/decade, 27 °C).  ``source_resistor`` names the
     resistor the noise figure is referred to (its noise taken at T0 = 290 K).
+    ``progress``, for a progress display, is called with the number of
+    frequencies just solved (grid points first, then the integrator's extra ones).
     """
     settings = _resolve(circuit, output, reference, input_source, band, points_per_decade, temperature_celsius)
-    problem = _Problem(circuit, settings)
+    problem = _Problem(circuit, settings, progress)
     notes = list(settings.notes)
     low, high = settings.low, settings.high
     sources = problem.sources

@@ -345,8 +345,13 @@ def run_analyze(args: argparse.Namespace) -> int:
     circuit = _load(args.netlist)
     check_outputs_against_includes(args, circuit)
     from . import analysis
+    from .progress import ProgressLine
 
-    result = analysis.analyze(circuit, **_engine_options(args, band, temperature))
+    progress = ProgressLine(sys.stderr)  # a count of solved frequencies, on a terminal, for long runs
+    try:
+        result = analysis.analyze(circuit, **_engine_options(args, band, temperature), progress=progress)
+    finally:
+        progress.clear()
     if args.source_resistor is not None and result.noise_figure_dB is None:
         raise CircuitError(f"the analysis gave no noise figure for --source-resistor {args.source_resistor}")
     extras: dict = {"group_by": args.group, "signal_at": signal_at}

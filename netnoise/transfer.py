@@ -77,12 +77,12 @@ def adjoint_solutions(system: MnaSystem, selector: np.ndarray, frequency_Hz: np.
     return solver_for(system).solve(selector, np.asarray(frequency_Hz, dtype=float))
 
 
-def transfer_power(system, selector, injection, input_vector, frequency_Hz, power_out=None):
+def transfer_power(system, selector, injection, input_vector, frequency_Hz, power_out=None, progress=None):
     """``(|zᵀB|² (K, F), |zᵀu|² (F,) or None)``: the power transfer from every
     column of the sparse injection matrix ``B`` (n, K) and from the input
     vector ``u``, in blocks of frequencies (the (F, n) solutions are never
     all held at once for a large circuit).  ``power_out``: a (K, F) array to
-    fill and return as the first."""
+    fill and return as the first; ``progress``: see :meth:`AdjointSolver.solve`."""
     f = np.asarray(frequency_Hz, dtype=float)
     solver = solver_for(system)
     bt = injection.T.tocsr()  # (K, n)
@@ -95,7 +95,7 @@ def transfer_power(system, selector, injection, input_vector, frequency_Hz, powe
     chunk = f.size if system.size <= DENSE_LIMIT else _GAIN_CHUNK
     for start in range(0, f.size, chunk):
         stop = min(f.size, start + chunk)
-        z = solver.solve(selector, f[start:stop])  # (Fc, n)
+        z = solver.solve(selector, f[start:stop], progress)  # (Fc, n)
         if k:
             gains = bt @ z.T  # (K, Fc)
             power[:, start:stop] = gains.real**2 + gains.imag**2
@@ -272,19 +272,25 @@ class AdjointSolver:
             self._system = system
 
     # -- public --------------------------------------------------------------
-    def solve(self, selector: np.ndarray, frequency_Hz: np.ndarray) -> np.ndarray:
-        """(F, n) complex z(f) with Y(f)ᵀ z(f) = selector."""
+    def solve(self, selector: np.ndarray, frequency_Hz: np.ndarray, progress=None) -> np.ndarray:
+        """(F, n) complex z(f) with Y(f)ᵀ z(f) = selector.  ``progress``, if
+        given, is called with the number of frequencies just solved."""
         f = np.asarray(frequency_Hz, dtype=float).ravel()
         if self.n == 0:
             return np.zeros((f.size, 0), dtype=complex)
         c = np.asarray(selector, dtype=float)
         if self.method == "dense":
-            return self._dense(c, f)
+            out = self._dense(c, f)
+            if progress is not None:
+                progress(f.size)
+            return out
         require_memory(f.size * self.n * 16, "the adjoint solutions at every frequency")
         out = np.empty((f.size, self.n), dtype=complex)
         one = self._banded_one if self.method == "banded" else self._sparse_one
         for i, fi in enumerate(f):
             out[i] = one(c, float(fi))
+            if progress is not None:
+                progress(1)
         return out
 
     # -- checks --------------------------------------------------------------

@@ -53,6 +53,7 @@ class FakeEngine:
 
     def analyze(self, circuit, **kwargs):
         assert circuit is self.circuit
+        self.progress = kwargs.pop("progress")  # the terminal's progress line (netnoise.progress)
         self.calls.append(kwargs)
         if self.error is not None:
             raise self.error

@@ -48,6 +48,7 @@ class FakeEngine:
 
     def analyze(self, circuit, **kwargs):
         assert circuit is self.circuit
+        self.progress = kwargs.pop("progress")  # the terminal's progress line (netnoise.progress)
         self.calls.append(kwargs)
         return self.result
 
