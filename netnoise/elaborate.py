@@ -23,6 +23,7 @@ sources and ``K`` inductors are names in the scope where the line is.
 
 from __future__ import annotations
 
+import contextlib
 import dataclasses
 import difflib
 import math
@@ -79,6 +80,18 @@ def _fail(message: str, location: SourceLocation | None, hint: str = "") -> Netl
 
 def _where(location: SourceLocation) -> str:
     return f"{location.file}:{location.line}"
+
+
+@contextlib.contextmanager
+def _naming_instance(instance: str):
+    """A line of a subcircuit that fails for one instance (its parameters) names that
+    instance; the innermost one names the whole path (X1.X2), outer ones leave it."""
+    try:
+        yield
+    except NetlistError as error:
+        if not error.instance:
+            error.instance = instance
+        raise
 
 
 # --------------------------------------------------------------------------
@@ -574,15 +587,18 @@ class _Elaborator:
             if okey in overrides:
                 raise _fail(f"parameter '{assignment.name}' is given twice on {statement.name}", assignment.loc)
             overrides[okey] = assignment
+        within = f"{name}, an instance of subcircuit '{definition.name}' ({_where(statement.loc)})"
         for default in definition.defaults:
             okey = default.name.lower()
-            if okey in overrides:
+            if okey in overrides:  # written on the X line: evaluated where that line is
                 inner.params[okey] = self.number(overrides[okey].value, scope)
             else:
-                inner.params[okey] = self.number(default.value, inner)
+                with _naming_instance(within):
+                    inner.params[okey] = self.number(default.value, inner)
             inner.param_origin[okey] = default.loc
         self.active.append(definition)
-        self.expand(inner)
+        with _naming_instance(within):
+            self.expand(inner)
         self.active.pop()
 
     # ---- references

@@ -65,6 +65,9 @@ class NetlistError(NetnoiseError, ValueError):
         self.message = message
         self.location = location
         self.hint = hint
+        # for a line inside a subcircuit: the instance whose expansion failed, e.g.
+        # "X2, an instance of subcircuit 'stage' (amp.cir:9)"; set by netnoise.elaborate
+        self.instance = ""
         super().__init__(message)
 
     def __str__(self) -> str:
@@ -72,6 +75,8 @@ class NetlistError(NetnoiseError, ValueError):
         parts = [head]
         if self.location is not None and self.location.excerpt():
             parts.append(self.location.excerpt())
+        if self.instance:
+            parts.append(f"  within {self.instance}")
         if self.hint:
             parts.append(f"  hint: {self.hint}")
         return "\n".join(parts)

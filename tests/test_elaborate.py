@@ -356,3 +356,44 @@ def test_amplifier_library_loads(tmp_path):
     assert bjt.voltage_noise < jfet.voltage_noise and bjt.current_noise > 100 * jfet.current_noise
     assert models["generic_cmos_rrio"].voltage_noise_corner_Hz > 10 * jfet.voltage_noise_corner_Hz
     assert models["generic_fast_vfb"].gain_bandwidth_Hz == max(m.gain_bandwidth_Hz for m in models.values())
+
+
+# ---- an error inside a subcircuit names the instance it failed for
+
+
+STAGE = """.subckt stage in out rval=1k
+R1 in mid {rval}
+C1 mid 0 {1n/rval*1k}
+R2 mid out 1k
+.ends
+"""
+
+
+def _error(text: str) -> NetlistError:
+    with pytest.raises(NetlistError) as info:
+        parse_netlist(text)
+    return info.value
+
+
+def test_a_definition_line_failing_for_one_instance_names_it():
+    error = _error("t\n" + STAGE + "Vin a 0 AC 1\nX1 a b stage rval=2k\nX2 b c stage rval=0\n.end\n")
+    assert "division by zero" in error.message
+    assert (error.location.line, error.location.column) == (4, 14)  # the line in the definition
+    assert error.instance == "X2, an instance of subcircuit 'stage' (<text>:9)"
+    assert "\n  within X2, an instance of subcircuit 'stage' (<text>:9)" in str(error)
+
+
+def test_nested_instances_name_the_whole_path():
+    outer = ".subckt outer p q\nX3 p q stage rval=0\n.ends\n"
+    error = _error("t\n" + STAGE + outer + "Vin a 0 AC 1\nX1 a b outer\n.end\n")
+    assert error.instance.startswith("X1.X3, an instance of subcircuit 'stage'")
+
+
+def test_a_bad_value_on_the_instance_line_is_located_there_not_inside():
+    # the override is evaluated where the X line is: at top level no instance is named;
+    # inside another subcircuit, that subcircuit's instance is
+    top = _error("t\n" + STAGE + "Vin a 0 AC 1\nX1 a b stage rval={1/0}\n.end\n")
+    assert top.location.line == 8 and top.instance == ""
+    outer = ".subckt outer p q\nX3 p q stage rval={1/0}\n.ends\n"
+    nested = _error("t\n" + STAGE + outer + "Vin a 0 AC 1\nX1 a b outer\n.end\n")
+    assert nested.location.line == 8 and nested.instance.startswith("X1, an instance of subcircuit 'outer'")
