@@ -64,7 +64,12 @@ from .parser import (
 )
 from .values import milli_slip_notice
 
-__all__ = ["MAX_INCLUDE_DEPTH", "GROUND_ALIASES", "elaborate"]
+__all__ = ["MAX_INCLUDE_DEPTH", "GROUND_ALIASES", "NOISE_INDEX_PLAUSIBLE_DB", "elaborate"]
+
+# Noise indices of real resistors, dB re 1 µV/V per decade: from about -40 dB (metal foil,
+# wirewound) to about +20 dB (carbon composition) -- from memory of manufacturers' data, widened
+# by 10 dB each way. Outside it the value is almost surely a slip; it is used, with a notice.
+NOISE_INDEX_PLAUSIBLE_DB = (-50.0, 30.0)
 
 MAX_INCLUDE_DEPTH = 16
 GROUND_ALIASES = frozenset({"0", "gnd"})
@@ -450,6 +455,13 @@ class _Elaborator:
                     "temp= is the resistor's own temperature in degrees Celsius",
                 )
         noise_index = self.number(statement.noise_index, scope) if statement.noise_index is not None else None
+        if noise_index is not None and not NOISE_INDEX_PLAUSIBLE_DB[0] <= noise_index <= NOISE_INDEX_PLAUSIBLE_DB[1]:
+            low, high = NOISE_INDEX_PLAUSIBLE_DB
+            self.notices.append(
+                f"{_where(statement.noise_index.loc)}: {name}: noise index ni={noise_index:g} dB is outside "
+                f"{low:g} .. +{high:g} dB, where resistors' noise indices lie; check the value "
+                f"(it is dB re 1 µV per volt per decade)"
+            )
         return c.Resistor(
             name,
             nodes,

@@ -268,6 +268,17 @@ def test_resistor_options_reach_the_circuit():
     assert (plain.noiseless, plain.temperature_celsius, plain.noise_index_dB) == (False, None, None)
 
 
+def test_an_implausible_noise_index_is_used_with_a_notice():
+    # plausible range: about -40 dB (metal foil) to +20 dB (carbon composition), from memory of
+    # manufacturers' data; the tool widens it by 10 dB each way and only remarks outside it
+    ok = parse_netlist("t\nR1 a 0 10k ni=-20\nV1 a 0 1\n")
+    assert not any("noise index" in n for n in ok.notices)
+    slip = parse_netlist("t\nR1 a 0 10k ni=200\nV1 a 0 1\n")
+    assert by_name(slip)["R1"].noise_index_dB == 200.0
+    (notice,) = [n for n in slip.notices if "noise index" in n]
+    assert notice.startswith("<text>:2:") and "R1: noise index ni=200 dB is outside -50 .. +30 dB" in notice
+
+
 def test_source_noise_spec_and_shot():
     circuit = parse_netlist(
         "t\n.param en0=5n\nVs a 0 AC 1 noise={2*en0} corner=10\nVr r 0 DC 2.5 noise=50n corner=1 slope=2\n"
