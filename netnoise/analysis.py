@@ -111,7 +111,7 @@ def _resolve(circuit, output, reference, input_source, band, points_per_decade, 
 class _Problem:
     """The assembled circuit with its output selector, sources and input."""
 
-    def __init__(self, circuit: ck.Circuit, settings: _Settings, progress=None):
+    def __init__(self, circuit: ck.Circuit, settings: _Settings, progress: Callable[[int], None] | None = None):
         self.progress = progress
         check_topology(circuit)
         self.system: MnaSystem = assemble(circuit)
