@@ -115,9 +115,9 @@ def mesh(nx: int, ny: int, counts=(25, 49, 101)) -> dict:
         from netnoise import transfer
         solved = [0]
         plain_solve = transfer.AdjointSolver.solve
-        def counting(self, selector, f):  # count every frequency solved, refinements included
+        def counting(self, selector, f, progress=None):  # count every frequency solved, refinements included
             solved[0] += len(f)
-            return plain_solve(self, selector, f)
+            return plain_solve(self, selector, f, progress)
         transfer.AdjointSolver.solve = counting
         t = time.perf_counter(); c = netnoise.parse_netlist(gen.rc_mesh({nx}, {ny})); parse = time.perf_counter() - t
         solved[0] = 0
