@@ -400,38 +400,30 @@ class AdjointSolver:
         import scipy.sparse as sp
         import scipy.sparse.linalg as spla
 
-        s = 2j * math.pi * f
-        options = dict(SymmetricMode=True)
-        if self._superlu_order is None:
-            # first frequency: minimum-degree ordering on Aᵀ + A, then fix the pattern in that order
-            p = self._plain
-            data, dr, dc, norm = p.scaled(s)
-            a = sp.csc_matrix((data, p.rows, p.indptr), shape=p.shape)
-            try:
-                lu = spla.splu(a, permc_spec="MMD_AT_PLUS_A", diag_pivot_thresh=_PIVOT_THRESHOLD, options=options)
-            except RuntimeError:
-                raise _singular(f) from None
-            require_memory(3 * 20 * (lu.L.nnz + lu.U.nnz), "the sparse LU factors")
-            order = np.argsort(lu.perm_c)
-            self._superlu_order = order
-            self._pattern = _Pattern(self._system.G.T, self._system.C.T, order)
-            self._system = None
-            rhs = np.stack([dr * c, self._probe], axis=1)
-            rn = float(np.abs(rhs[:, 0]).max())
-            w = lu.solve(rhs)
-            self._check(f, w[:, 0], w[:, 1], rn, norm)
-            return dc * w[:, 0]
-        p, order = self._pattern, self._superlu_order
-        data, dr, dc, norm = p.scaled(s)
+        # first frequency: minimum-degree ordering on Aᵀ + A, then the pattern is fixed in that
+        # order and later frequencies factor it as it stands
+        first = self._superlu_order is None
+        p, order = (self._plain, None) if first else (self._pattern, self._superlu_order)
+        data, dr, dc, norm = p.scaled(2j * math.pi * f)
         a = sp.csc_matrix((data, p.rows, p.indptr), shape=p.shape)
         try:
-            lu = spla.splu(a, permc_spec="NATURAL", diag_pivot_thresh=_PIVOT_THRESHOLD, options=options)
+            lu = spla.splu(
+                a, permc_spec="MMD_AT_PLUS_A" if first else "NATURAL", diag_pivot_thresh=_PIVOT_THRESHOLD,
+                options=dict(SymmetricMode=True),
+            )
         except RuntimeError:
             raise _singular(f) from None
-        rhs = np.stack([dr * c[order], self._probe], axis=1)
+        if first:
+            require_memory(3 * 20 * (lu.L.nnz + lu.U.nnz), "the sparse LU factors")
+            self._superlu_order = np.argsort(lu.perm_c)
+            self._pattern = _Pattern(self._system.G.T, self._system.C.T, self._superlu_order)
+            self._system = None
+        rhs = np.stack([dr * (c if order is None else c[order]), self._probe], axis=1)
         rn = float(np.abs(rhs[:, 0]).max())
         w = lu.solve(rhs)
         self._check(f, w[:, 0], w[:, 1], rn, norm)
+        if order is None:
+            return dc * w[:, 0]
         z = np.empty(self.n, dtype=complex)
         z[order] = dc * w[:, 0]
         return z
