@@ -98,7 +98,7 @@ def ladder(sections: int, tmp: Path) -> dict:
         t = time.perf_counter()
         r = netnoise.analyze(c, band=(1, 1e9), points_per_decade=40, output="n{sections}", input_source="Vin")
         analyze = time.perf_counter() - t
-        from netnoise.transfer import solver_for
+        from netnoise.engine.transfer import solver_for
         print(json.dumps(dict(parse=parse, analyze=analyze, sources=len(r.source_names), grid=len(r.frequency_Hz),
               rel_error=r.integration_rel_error, rss=resource.getrusage(resource.RUSAGE_SELF).ru_maxrss * 1024)))
     """)
@@ -112,7 +112,7 @@ def mesh(nx: int, ny: int, counts=(25, 49, 101)) -> dict:
         import json, time, resource, sys
         sys.path.insert(0, {str(HERE)!r})
         import numpy as np, generators as gen, netnoise
-        from netnoise import transfer
+        from netnoise.engine import transfer
         solved = [0]
         plain_solve = transfer.AdjointSolver.solve
         def counting(self, selector, f, progress=None):  # count every frequency solved, refinements included
@@ -125,7 +125,7 @@ def mesh(nx: int, ny: int, counts=(25, 49, 101)) -> dict:
         r = netnoise.analyze(c, band=(1e3, 1e10), points_per_decade=12.5)  # 1 kHz .. 10 GHz, 88 grid intervals
         full = (solved[0], time.perf_counter() - t, len(r.frequency_Hz))
         # linearity: the engine's work (setup, solves, every source's gain) at 25/50/100 frequencies
-        from netnoise.analysis import _Problem, _resolve
+        from netnoise.engine.analysis import _Problem, _resolve
         problem = _Problem(c, _resolve(c, None, None, None, (1e3, 1e10), 10, None))
         rows = []
         for count in (25, 50, 100):
@@ -134,8 +134,8 @@ def mesh(nx: int, ny: int, counts=(25, 49, 101)) -> dict:
             transfer.transfer_power(problem.system, problem.selector, problem.sources.injection, None,
                                     np.logspace(3, 10, count))
             rows.append((count, time.perf_counter() - t))
-        from netnoise.transfer import solver_for
-        from netnoise.mna import assemble
+        from netnoise.engine.transfer import solver_for
+        from netnoise.engine.mna import assemble
         print(json.dumps(dict(parse=parse, full=full, runs=rows, sources=len(r.source_names),
               method=solver_for(assemble(c)).method, rss=resource.getrusage(resource.RUSAGE_SELF).ru_maxrss * 1024)))
     """
@@ -165,7 +165,7 @@ def small(tmp: Path) -> dict:
 
     result = run()
     engine = best(run, 7)
-    from netnoise.mna import assemble
+    from netnoise.engine.mna import assemble
 
     system = assemble(circuit)
     g, cc = system.G.toarray(), system.C.toarray()
@@ -226,7 +226,7 @@ def exact_cost(sizes) -> list[dict]:
 def wideband(n_check: int, n_large: int) -> dict:
     """Beyond EXACT_LIMIT: the quadrature + tail total; its accuracy against the exact method."""
     import netnoise
-    from netnoise import analysis
+    from netnoise.engine import analysis
 
     circuit = netnoise.parse_netlist(gen.rc_ladder(n_check, source=False))
     saved = analysis.EXACT_LIMIT

@@ -9,16 +9,17 @@ Results are design estimates.  For mains-connected or safety-related
 equipment, follow local codes and licensed engineering practice.
 """
 
-from . import dc, figures
-from .analysis import analyze, output_density_function
-from .circuit import Circuit
-from .dc import operating_point
-from .errors import CircuitError, NetlistError, NetnoiseError, UsageError
-from .export import result_to_dict, write_csv, write_json
-from .netlist import load_netlist, parse_netlist
-from .plotting import plot_noise, save_plot  # matplotlib itself loads only when a plot is drawn
-from .report import format_report
-from .result import Contribution, NoiseResult
+from netnoise.engine import dc
+from netnoise.results import figures
+from netnoise.engine.analysis import analyze, output_density_function
+from netnoise.circuit import Circuit
+from netnoise.engine.dc import operating_point
+from netnoise.errors import CircuitError, NetlistError, NetnoiseError, UsageError
+from netnoise.outputs.export import result_to_dict, write_csv, write_json
+from netnoise.netlist import load_netlist, parse_netlist
+from netnoise.outputs.plotting import plot_noise, save_plot  # matplotlib itself loads only when a plot is drawn
+from netnoise.outputs.report import format_report
+from netnoise.results.result import Contribution, NoiseResult
 
 __version__ = "0.1.0"
 

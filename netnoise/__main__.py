@@ -1,5 +1,5 @@
 """``python -m netnoise`` runs the command line."""
 
-from .cli import main
+from netnoise.cli import main
 
 raise SystemExit(main())

@@ -40,8 +40,8 @@ import sys
 import traceback
 from collections.abc import Sequence
 
-from . import __version__
-from .errors import CircuitError, NetnoiseError, UsageError
+from netnoise import __version__
+from netnoise.errors import CircuitError, NetnoiseError, UsageError
 
 __all__ = ["main", "build_parser"]
 
@@ -153,7 +153,7 @@ def _frequency(text: str, which: str, *, allow_infinite: bool) -> float:
         if allow_infinite:
             return math.inf
         raise UsageError(f"--band {which} must be finite, got '{text}'")
-    from .values import parse_value
+    from netnoise.text.values import parse_value
 
     try:
         value = float(parse_value(text))
@@ -195,7 +195,7 @@ def parse_temperature(text: str | None) -> float | None:
 def _positive_value(option: str, text: str, what: str) -> tuple[float, str]:
     """A positive finite value with engineering suffixes: (value, the letters
     after the number as written)."""
-    from .values import parse_value
+    from netnoise.text.values import parse_value
 
     try:
         value = parse_value(text)
@@ -244,7 +244,7 @@ def _same_file(a: str, b: str) -> bool:
 
 def check_outputs(args: argparse.Namespace) -> None:
     """Refuse outputs that would overwrite the netlist or each other, before any work."""
-    from .plotting import SAVE_FORMATS
+    from netnoise.outputs.plotting import SAVE_FORMATS
 
     netlist = os.path.realpath(args.netlist)
     seen: dict[str, str] = {}
@@ -275,7 +275,7 @@ def check_outputs(args: argparse.Namespace) -> None:
 
 # --- the command ------------------------------------------------------------
 def _load(path: str):
-    from . import netlist
+    from netnoise import netlist
 
     if os.path.isdir(path):
         raise UsageError(f"cannot read netlist '{path}': it is a folder; give the netlist file")
@@ -330,8 +330,8 @@ def _engine_options(args: argparse.Namespace, band, temperature) -> dict:
 
 
 def run_analyze(args: argparse.Namespace) -> int:
-    from .export import atomic_write, to_csv, to_json
-    from .report import format_report
+    from netnoise.outputs.export import atomic_write, to_csv, to_json
+    from netnoise.outputs.report import format_report
 
     # everything the user typed is checked before the (possibly long) analysis
     check_outputs(args)
@@ -344,8 +344,8 @@ def run_analyze(args: argparse.Namespace) -> int:
     converter = parse_adc(args.adc)
     circuit = _load(args.netlist)
     check_outputs_against_includes(args, circuit)
-    from . import analysis
-    from .progress import ProgressLine
+    from netnoise.engine import analysis
+    from netnoise.outputs.progress import ProgressLine
 
     progress = ProgressLine(sys.stderr)  # a count of solved frequencies, on a terminal, for long runs
     try:
@@ -356,16 +356,16 @@ def run_analyze(args: argparse.Namespace) -> int:
         raise CircuitError(f"the analysis gave no noise figure for --source-resistor {args.source_resistor}")
     extras: dict = {"group_by": args.group, "signal_at": signal_at}
     if signal is not None:
-        from .figures import signal_to_noise
+        from netnoise.results.figures import signal_to_noise
 
         extras["snr"] = signal_to_noise(result, signal, at=signal_at)
     if converter is not None:
-        from .figures import adc_comparison
+        from netnoise.results.figures import adc_comparison
 
         bits, full_scale, rate = converter
         extras["adc"] = adc_comparison(result, bits=bits, full_scale_V=full_scale, sample_rate_Hz=rate)
     if args.dc:
-        from .dc import operating_point
+        from netnoise.engine.dc import operating_point
 
         extras["operating_point"] = operating_point(circuit)
 
@@ -387,7 +387,7 @@ def run_analyze(args: argparse.Namespace) -> int:
     if csv_text is not None:
         _write("--csv", args.csv, lambda: atomic_write(args.csv, lambda handle: handle.write(csv_text)))
     if args.plot is not None:
-        from .plotting import save_plot
+        from netnoise.outputs.plotting import save_plot
 
         _write("--plot", args.plot, lambda: save_plot(result, args.plot))
     return 0

@@ -11,7 +11,7 @@ import math
 import numpy as np
 from scipy.constants import k as BOLTZMANN
 
-from netnoise.result import NoiseResult
+from netnoise.results.result import NoiseResult
 
 
 def thermal_density(resistance: float, kelvin: float) -> float:

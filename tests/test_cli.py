@@ -18,7 +18,9 @@ import types
 
 import pytest
 
-from netnoise import __version__, cli
+from netnoise import __version__
+
+from netnoise import cli
 from netnoise.errors import CircuitError, NetlistError, SourceLocation
 
 
@@ -43,7 +45,7 @@ class FakeEngine:
         self.calls: list[dict] = []
         self.circuit = object()
         monkeypatch.setattr(_module(monkeypatch, "netnoise.netlist"), "load_netlist", self.load_netlist, raising=False)
-        monkeypatch.setattr(_module(monkeypatch, "netnoise.analysis"), "analyze", self.analyze, raising=False)
+        monkeypatch.setattr(_module(monkeypatch, "netnoise.engine.analysis"), "analyze", self.analyze, raising=False)
 
     def load_netlist(self, path):
         self.loaded.append(os.fspath(path))
@@ -104,7 +106,7 @@ def test_options_reach_the_engine(engine, netlist):
 
 
 def test_band_with_suffixes_and_infinity(engine, netlist):
-    pytest.importorskip("netnoise.values")
+    pytest.importorskip("netnoise.text.values")
     run("analyze", netlist, "--band", "10", "20k")
     assert engine.calls[-1]["band"] == (10.0, 20e3)  # k = 1e3 (SI prefix)
     run("analyze", netlist, "--band", "0", "inf")
@@ -275,7 +277,7 @@ def test_python_dash_m_netnoise():
 def test_end_to_end_with_the_real_parser_and_engine(tmp_path, capsys, monkeypatch):
     """A divider with a capacitor, integrated to infinite bandwidth: kT/C."""
     pytest.importorskip("netnoise.netlist")
-    pytest.importorskip("netnoise.analysis")
+    pytest.importorskip("netnoise.engine.analysis")
     from scipy.constants import k as BOLTZMANN
 
     monkeypatch.delenv("NETNOISE_DEBUG", raising=False)

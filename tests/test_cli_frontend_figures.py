@@ -35,7 +35,7 @@ class FakeEngine:
     """Returns ``self.result`` from analyze and ``self.op`` from the DC solve, and records calls."""
 
     def __init__(self, monkeypatch):
-        from netnoise.dc import OperatingPoint
+        from netnoise.engine.dc import OperatingPoint
 
         self.result = samples.front_end()
         self.op = OperatingPoint({"a": 0.5}, {"Rs": 1e-3, "R1": 1e-3}, {"Rs": 0.05, "R1": 0.01})
@@ -43,8 +43,8 @@ class FakeEngine:
         self.dc_calls = 0
         self.circuit = types.SimpleNamespace(elements=(), source_file="fake", noise_card=None)
         monkeypatch.setattr(_module(monkeypatch, "netnoise.netlist"), "load_netlist", lambda path: self.circuit)
-        monkeypatch.setattr(_module(monkeypatch, "netnoise.analysis"), "analyze", self.analyze, raising=False)
-        monkeypatch.setattr(_module(monkeypatch, "netnoise.dc"), "operating_point", self.operating_point, raising=False)
+        monkeypatch.setattr(_module(monkeypatch, "netnoise.engine.analysis"), "analyze", self.analyze, raising=False)
+        monkeypatch.setattr(_module(monkeypatch, "netnoise.engine.dc"), "operating_point", self.operating_point, raising=False)
 
     def analyze(self, circuit, **kwargs):
         assert circuit is self.circuit
@@ -259,7 +259,7 @@ def test_output_over_an_included_file_is_refused(engine, netlist, tmp_path, caps
 @pytest.fixture
 def real_engine(monkeypatch):
     pytest.importorskip("netnoise.netlist")
-    pytest.importorskip("netnoise.analysis")
+    pytest.importorskip("netnoise.engine.analysis")
     monkeypatch.delenv("NETNOISE_DEBUG", raising=False)
 
 

@@ -12,7 +12,7 @@ import pytest
 from scipy import constants
 
 from circuit_builders import C, E, F, H, I, L, R, V, butterworth_ladder, circuit
-from netnoise.analysis import analyze
+from netnoise.engine.analysis import analyze
 
 K_B = constants.Boltzmann  # exact SI value (2019 redefinition)
 T300 = 300.0 - 273.15  # analyses take °C
@@ -157,7 +157,7 @@ def test_exact_infinite_band_agrees_with_quadrature():
     res = analyze(ckt, output="c", band=(0.0, math.inf))
     finite = analyze(ckt, output="c", band=(0.0, 1e9))
     assert res.total_variance == pytest.approx(finite.total_variance, rel=1e-4)
-    from netnoise.analysis import output_density_function
+    from netnoise.engine.analysis import output_density_function
 
     density = output_density_function(ckt, output="c")
     pieces = [quad(lambda f: float(density(np.array([f]))[0]), a, b, limit=200, epsabs=0)[0]

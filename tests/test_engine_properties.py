@@ -12,8 +12,8 @@ from hypothesis import strategies as st
 from scipy import constants
 
 from circuit_builders import C, R, V, circuit
-from netnoise import transfer
-from netnoise.analysis import analyze
+from netnoise.engine import transfer
+from netnoise.engine.analysis import analyze
 
 
 @st.composite

@@ -12,7 +12,7 @@ import numpy as np
 import pytest
 
 from netnoise.errors import CircuitError
-from netnoise.export import atomic_write, csv_header, result_to_dict, to_json, write_csv, write_json
+from netnoise.outputs.export import atomic_write, csv_header, result_to_dict, to_json, write_csv, write_json
 
 
 import _output_samples as samples  # tests/ is on sys.path (conftest.py)
@@ -236,7 +236,7 @@ def test_spot_noise_figure_without_gain_is_null_and_nan_is_refused():
 def test_to_json_names_a_non_finite_field_the_encoder_refuses():
     # to_json leaves the walk over every number to the encoder (allow_nan=False) and,
     # when it refuses, names the field as result_to_dict does
-    from netnoise.figures import SignalToNoise
+    from netnoise.results.figures import SignalToNoise
 
     snr = SignalToNoise(signal_output_rms_V=math.nan, noise_rms_V=1e-6, snr_dB=math.nan)
     with pytest.raises(CircuitError, match=r"result\.snr\.signal_rms is nan"):
@@ -266,8 +266,8 @@ def _parsed_with(result, **extras) -> dict:
 
 
 def test_snr_adc_and_operating_point_keys():
-    from netnoise.dc import OperatingPoint
-    from netnoise.figures import adc_comparison, signal_to_noise
+    from netnoise.engine.dc import OperatingPoint
+    from netnoise.results.figures import adc_comparison, signal_to_noise
 
     result = samples.front_end()
     snr = signal_to_noise(result, 1e-3, at="input")
@@ -283,7 +283,7 @@ def test_snr_adc_and_operating_point_keys():
     assert data["adc"]["nyquist_Hz"] == pytest.approx(500e3, rel=1e-12)
     assert data["adc"]["floor_set_by"] in ("analog chain", "converter")
     # ENOB of the ideal converter's own SNR is its resolution: (98.09 − 1.76)/6.02 ≈ 16.0 (common practice)
-    from netnoise.report import enob_bits
+    from netnoise.outputs.report import enob_bits
 
     assert enob_bits(data["adc"]["ideal_snr_dB"]) == pytest.approx(16.0, rel=1e-3)
     assert data["operating_point"] == {
@@ -292,7 +292,7 @@ def test_snr_adc_and_operating_point_keys():
 
 
 def test_snr_without_noise_is_null_not_infinity():
-    from netnoise.figures import signal_to_noise
+    from netnoise.results.figures import signal_to_noise
 
     quiet = samples.white(source_density=np.zeros((1, 41)), source_variance=np.zeros(1), cumulative_variance=np.zeros(41))
     data = _parsed_with(quiet, snr=signal_to_noise(quiet, 1.0, at="output"), signal_at="output")

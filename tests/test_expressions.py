@@ -5,8 +5,8 @@ import math
 import pytest
 
 from netnoise.errors import NetlistError
-from netnoise.expressions import FUNCTIONS, evaluate_text, referenced_names
-from netnoise.parser import parse_expression
+from netnoise.text.expressions import FUNCTIONS, evaluate_text, referenced_names
+from netnoise.text.syntax import parse_expression
 
 # (expression, params, expected).  References are Python's math module or
 # ordinary arithmetic written out by hand (from memory).
@@ -109,7 +109,7 @@ def test_no_python_eval_reachable():
 
 
 def test_nesting_limit_boundary():
-    from netnoise.expressions import MAX_DEPTH
+    from netnoise.text.expressions import MAX_DEPTH
 
     # MAX_DEPTH - 1 signs and a number: MAX_DEPTH operations, still evaluated
     assert evaluate_text("-" * (MAX_DEPTH - 1) + "2") == pytest.approx((-1) ** (MAX_DEPTH - 1) * 2, rel=1e-12)

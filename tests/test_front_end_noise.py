@@ -12,10 +12,10 @@ import pytest
 from scipy import constants
 
 from circuit_builders import E, I, R, V, C, circuit, opamp
-from netnoise.analysis import analyze
+from netnoise.engine.analysis import analyze
 from netnoise.circuit import NoiseSpec
-from netnoise.dc import operating_point
-from netnoise.figures import adc_comparison, ideal_adc_snr_dB
+from netnoise.engine.dc import operating_point
+from netnoise.results.figures import adc_comparison, ideal_adc_snr_dB
 
 K_B = constants.Boltzmann
 Q_E = constants.e

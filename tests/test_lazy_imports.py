@@ -26,7 +26,7 @@ def test_importing_the_package_and_cli_does_not_import_matplotlib():
     completed = _run(
         """
         import sys
-        import netnoise, netnoise.cli, netnoise.report, netnoise.export, netnoise.plotting, netnoise.figures
+        import netnoise, netnoise.cli, netnoise.outputs.report, netnoise.outputs.export, netnoise.outputs.plotting, netnoise.results.figures
         loaded = sorted(name for name in sys.modules if name.split(".")[0] == "matplotlib")
         print("LOADED:" + ",".join(loaded))
         """

@@ -364,7 +364,7 @@ HOSTILE = [
 def test_hostile_expressions_never_reach_python(expression, monkeypatch):
     import builtins
 
-    from netnoise.grammar import netlist_parser
+    from netnoise.text.grammar import netlist_parser
 
     netlist_parser()  # built before the trap is set
 

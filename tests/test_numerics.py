@@ -12,9 +12,9 @@ import numpy as np
 import pytest
 
 import netnoise
-from netnoise import transfer
+from netnoise.engine import transfer
 from netnoise.errors import CircuitError
-from netnoise.mna import assemble
+from netnoise.engine.mna import assemble
 
 K_B = 1.380649e-23  # J/K, exact SI value (2019 redefinition)
 

@@ -5,9 +5,9 @@ from pathlib import Path
 
 import pytest
 
-from netnoise.grammar import START_SYMBOLS, grammar_path, netlist_parser
+from netnoise.text.grammar import START_SYMBOLS, grammar_path, netlist_parser
 from netnoise.netlist import load_netlist, parse_netlist
-from netnoise.parser import (
+from netnoise.netlist.parser import (
     OPAMP_PARAMS,
     Coupling,
     CurrentControlled,
@@ -54,7 +54,7 @@ def _parse_in_fresh_process(cache_home: Path) -> str:
     import sys
 
     code = (
-        "import netnoise; from netnoise.grammar import parser_cache_path; "
+        "import netnoise; from netnoise.text.grammar import parser_cache_path; "
         "c = netnoise.parse_netlist('t\\nR1 a 0 1k\\nC1 a 0 {2p}\\n'); "
         "print(len(c.elements), parser_cache_path())"
     )

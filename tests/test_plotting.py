@@ -11,7 +11,7 @@ import pytest
 matplotlib = pytest.importorskip("matplotlib")
 matplotlib.use("Agg")
 
-from netnoise import plotting  # noqa: E402
+from netnoise.outputs import plotting  # noqa: E402
 from netnoise.errors import UsageError  # noqa: E402
 
 

@@ -6,9 +6,9 @@ from __future__ import annotations
 import io
 
 import netnoise
-from netnoise import transfer
-from netnoise.mna import assemble
-from netnoise.progress import ProgressLine
+from netnoise.engine import transfer
+from netnoise.engine.mna import assemble
+from netnoise.outputs.progress import ProgressLine
 
 LADDER = "ladder\nVin in 0 AC 1\n" + "".join(
     f"R{i} {'in' if i == 1 else f'n{i - 1}'} n{i} 1k\nC{i} n{i} 0 1n\n" for i in range(1, 301)

@@ -11,7 +11,7 @@ from scipy.constants import k as BOLTZMANN
 
 from netnoise.engformat import format_quantity
 from netnoise.errors import UsageError
-from netnoise.report import BAR_WIDTH, CAUTION, format_report
+from netnoise.outputs.report import BAR_WIDTH, CAUTION, format_report
 
 
 import _output_samples as samples  # tests/ is on sys.path (conftest.py)
@@ -303,13 +303,13 @@ def test_unknown_grouping_is_refused():
 
 
 def _snr(result, signal, at="input"):
-    from netnoise.figures import signal_to_noise
+    from netnoise.results.figures import signal_to_noise
 
     return signal_to_noise(result, signal, at=at)
 
 
 def _adc(result, bits, full_scale, rate):
-    from netnoise.figures import adc_comparison
+    from netnoise.results.figures import adc_comparison
 
     return adc_comparison(result, bits=bits, full_scale_V=full_scale, sample_rate_Hz=rate)
 
@@ -387,7 +387,7 @@ def test_converter_with_a_stated_signal_and_clipping_warning():
 
 
 def test_dc_operating_point_section():
-    from netnoise.dc import OperatingPoint
+    from netnoise.engine.dc import OperatingPoint
 
     op = OperatingPoint(
         node_voltages={"in": 5.0, "out": 2.5, "mid": 3e-17},  # 3e-17 V: solver round-off
@@ -404,7 +404,7 @@ def test_dc_operating_point_section():
 
 
 def test_non_finite_operating_point_is_refused():
-    from netnoise.dc import OperatingPoint
+    from netnoise.engine.dc import OperatingPoint
     from netnoise.errors import CircuitError
 
     op = OperatingPoint({"out": math.nan}, {}, {})

@@ -11,9 +11,11 @@ import numpy as np
 import pytest
 
 import netnoise
-from netnoise import analysis, resources, transfer
+from netnoise.engine import analysis
+from netnoise.engine import resources
+from netnoise.engine import transfer
 from netnoise.errors import CircuitError
-from netnoise.mna import assemble
+from netnoise.engine.mna import assemble
 
 
 def ladder(sections: int, r: str = "100", c: str = "1p") -> str:

@@ -4,7 +4,7 @@ import math
 
 import pytest
 
-from netnoise.values import milli_slip_notice, parse_value, split_value
+from netnoise.text.values import milli_slip_notice, parse_value, split_value
 
 # (text, expected value).  The scale factors are the SPICE suffix convention
 # (common practice); 'mil' = 1/1000 inch = 25.4 µm (the inch is 25.4 mm
@@ -120,7 +120,7 @@ def test_value_is_a_python_float():
 from hypothesis import given, settings  # noqa: E402
 from hypothesis import strategies as st  # noqa: E402
 
-from netnoise.values import _split_checked  # noqa: E402
+from netnoise.text.values import _split_checked  # noqa: E402
 
 _VALUE_PIECES = st.tuples(
     st.sampled_from(["", "+", "-"]),

@@ -19,16 +19,16 @@ from typing import Callable
 
 import numpy as np
 
-from . import circuit as ck
-from .engformat import format_quantity
-from .errors import CircuitError, UsageError
-from .integrate import integrate_band
-from .mna import MnaSystem, assemble
-from .noise_sources import NoiseSources, collect_noise_sources
-from .resources import require_memory
-from .result import NoiseResult
-from .topology import check_topology
-from .total_variance import EXACT_LIMIT, finite_poles_Hz, infinite_band_totals
+from netnoise import circuit as ck
+from netnoise.engformat import format_quantity
+from netnoise.errors import CircuitError, UsageError
+from netnoise.engine.integrate import integrate_band
+from netnoise.engine.mna import MnaSystem, assemble
+from netnoise.engine.noise_sources import NoiseSources, collect_noise_sources
+from netnoise.engine.resources import require_memory
+from netnoise.results.result import NoiseResult
+from netnoise.circuit.topology import check_topology
+from netnoise.engine.total_variance import EXACT_LIMIT, finite_poles_Hz, infinite_band_totals
 
 __all__ = ["analyze", "output_density_function", "DEFAULT_TEMPERATURE_C", "DEFAULT_POINTS_PER_DECADE"]
 
@@ -130,7 +130,7 @@ class _Problem:
         """Rows of output density (V²/Hz) at ``frequency_Hz``: every source's
         ``part`` ("full", "white" or "colored"); then, with ``extra_colored``,
         the 1/f part of each colored source again; then |H|² of the input."""
-        from .transfer import transfer_power  # blocks of frequencies, never all (F, n) solutions at once
+        from netnoise.engine.transfer import transfer_power  # blocks of frequencies, never all (F, n) solutions at once
 
         k = len(self.sources)
         colored = np.flatnonzero(self.sources.colored) if extra_colored else np.zeros(0, dtype=np.intp)
@@ -164,7 +164,7 @@ class _Problem:
         unknowns (dense QZ); beyond it, estimates of the lowest and highest
         only (:func:`netnoise.wideband.pole_range_Hz`, sparse, no dense matrix)."""
         if self.system.size > EXACT_LIMIT:
-            from .wideband import pole_range_Hz
+            from netnoise.engine.wideband import pole_range_Hz
 
             cached = self.__dict__.get("_pole_range")
             if cached is None:
@@ -322,7 +322,7 @@ def _infinite_band_totals(problem: _Problem) -> tuple[np.ndarray, np.ndarray | N
     system = problem.system
     k = len(problem.sources)
     if system.size > EXACT_LIMIT:
-        from .wideband import wideband_totals
+        from netnoise.engine.wideband import wideband_totals
 
         poles = problem.poles_Hz()
         if poles is None:

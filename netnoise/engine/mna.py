@@ -40,8 +40,8 @@ from dataclasses import dataclass, field
 import numpy as np
 import scipy.sparse as sp
 
-from . import circuit as ck
-from .errors import CircuitError
+from netnoise import circuit as ck
+from netnoise.errors import CircuitError
 
 __all__ = ["MnaSystem", "assemble", "BRANCH_ELEMENTS"]
 

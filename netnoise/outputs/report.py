@@ -34,13 +34,13 @@ from typing import TYPE_CHECKING
 
 import numpy as np
 
-from .engformat import format_quantity
-from .errors import CircuitError, UsageError
-from .result import Contribution, NoiseResult
+from netnoise.engformat import format_quantity
+from netnoise.errors import CircuitError, UsageError
+from netnoise.results.result import Contribution, NoiseResult
 
 if TYPE_CHECKING:  # pragma: no cover
-    from .dc import OperatingPoint
-    from .figures import AdcComparison, SignalToNoise
+    from netnoise.engine.dc import OperatingPoint
+    from netnoise.results.figures import AdcComparison, SignalToNoise
 
 __all__ = ["format_report", "check_finite", "enob_bits", "non_finite_fields", "PEAK_TO_PEAK_SIGMAS", "CAUTION", "T0_K", "GROUPINGS"]
 

@@ -59,13 +59,13 @@ from typing import IO, TYPE_CHECKING, Any
 
 import numpy as np
 
-from .errors import CircuitError, UsageError
-from .report import check_finite, enob_bits
-from .result import NoiseResult
+from netnoise.errors import CircuitError, UsageError
+from netnoise.outputs.report import check_finite, enob_bits
+from netnoise.results.result import NoiseResult
 
 if TYPE_CHECKING:  # pragma: no cover
-    from .dc import OperatingPoint
-    from .figures import AdcComparison, SignalToNoise
+    from netnoise.engine.dc import OperatingPoint
+    from netnoise.results.figures import AdcComparison, SignalToNoise
 
 __all__ = ["result_to_dict", "to_json", "to_csv", "write_json", "write_csv", "csv_header", "atomic_write", "NOISE_FIGURE_COLUMN"]
 

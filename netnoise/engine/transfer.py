@@ -41,9 +41,9 @@ import weakref
 
 import numpy as np
 
-from .errors import CircuitError
-from .mna import MnaSystem
-from .resources import require_memory
+from netnoise.errors import CircuitError
+from netnoise.engine.mna import MnaSystem
+from netnoise.engine.resources import require_memory
 
 __all__ = ["adjoint_solutions", "transfer_power", "AdjointSolver", "solver_for", "DENSE_LIMIT", "RCOND_MIN"]
 

@@ -10,7 +10,7 @@ from __future__ import annotations
 
 import os
 
-from .errors import CircuitError
+from netnoise.errors import CircuitError
 
 __all__ = ["available_memory", "require_memory", "MEMORY_FRACTION"]
 

@@ -30,10 +30,10 @@ import math
 from dataclasses import dataclass, field
 from pathlib import Path
 
-from . import circuit as c
-from .errors import NetlistError, SourceLocation
-from .expressions import CONSTANTS, evaluate
-from .parser import (
+from netnoise import circuit as c
+from netnoise.errors import NetlistError, SourceLocation
+from netnoise.text.expressions import CONSTANTS, evaluate
+from netnoise.netlist.parser import (
     AcCard,
     Assignment,
     Coupling,
@@ -56,13 +56,12 @@ from .parser import (
     Value,
     VoltageControlled,
     Word,
-    bounded,
     check_opamp_param,
     parse_statements,
-    read_netlist_text,
-    shown,
 )
-from .values import milli_slip_notice
+from netnoise.text.fields import shown
+from netnoise.text.source import bounded, read_netlist_text
+from netnoise.text.values import milli_slip_notice
 
 __all__ = ["MAX_INCLUDE_DEPTH", "GROUND_ALIASES", "NOISE_INDEX_PLAUSIBLE_DB", "elaborate"]
 

@@ -19,7 +19,7 @@ from dataclasses import dataclass, field
 from functools import cached_property
 from typing import Union
 
-from .errors import SourceLocation
+from netnoise.errors import SourceLocation
 
 __all__ = [
     "GROUND",

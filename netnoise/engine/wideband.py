@@ -31,7 +31,7 @@ from typing import Callable, Sequence
 
 import numpy as np
 
-from .integrate import integrate_band
+from netnoise.engine.integrate import integrate_band
 
 __all__ = ["pole_range_Hz", "WidebandTotals", "wideband_totals"]
 

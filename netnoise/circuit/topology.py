@@ -8,8 +8,8 @@ from __future__ import annotations
 
 import numpy as np
 
-from . import circuit as ck
-from .errors import CircuitError
+from netnoise import circuit as ck
+from netnoise.errors import CircuitError
 
 __all__ = ["check_topology"]
 

@@ -26,10 +26,10 @@ from typing import TYPE_CHECKING
 
 import numpy as np
 
-from .engformat import format_quantity, si_prefix_scale
-from .errors import UsageError
-from .export import atomic_write
-from .result import NoiseResult
+from netnoise.engformat import format_quantity, si_prefix_scale
+from netnoise.errors import UsageError
+from netnoise.outputs.export import atomic_write
+from netnoise.results.result import NoiseResult
 
 if TYPE_CHECKING:  # pragma: no cover
     from matplotlib.axes import Axes

@@ -20,7 +20,7 @@ from typing import Callable, Sequence
 
 import numpy as np
 
-from .resources import MEMORY_FRACTION, available_memory
+from netnoise.engine.resources import MEMORY_FRACTION, available_memory
 
 __all__ = ["BandIntegral", "integrate_band", "log_grid_intervals"]
 

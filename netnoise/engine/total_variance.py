@@ -27,7 +27,7 @@ from dataclasses import dataclass
 
 import numpy as np
 
-from .errors import CircuitError
+from netnoise.errors import CircuitError
 
 __all__ = ["InfiniteBandTotals", "infinite_band_totals", "EXACT_LIMIT", "finite_poles_Hz"]
 

@@ -36,9 +36,9 @@ import numpy as np
 import scipy.sparse as sp
 from scipy import constants
 
-from . import circuit as ck
-from .engformat import format_quantity
-from .mna import MnaSystem
+from netnoise import circuit as ck
+from netnoise.engformat import format_quantity
+from netnoise.engine.mna import MnaSystem
 
 __all__ = ["NoiseSource", "NoiseSources", "NoiseContext", "collect_noise_sources", "MECHANISMS", "BOLTZMANN"]
 
@@ -273,7 +273,7 @@ def collect_noise_sources(
     mechanism needs it (excess noise).
     """
     if dc_solution is None:
-        from .dc import solve_operating_point
+        from netnoise.engine.dc import solve_operating_point
 
         def dc_solution():
             return solve_operating_point(system)

@@ -32,7 +32,7 @@ import functools
 import math
 import re
 
-from .engformat import format_quantity
+from netnoise.engformat import format_quantity
 
 __all__ = ["SUFFIXES", "UNITS", "parse_value", "split_value", "milli_slip_notice"]
 

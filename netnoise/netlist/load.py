@@ -14,9 +14,10 @@ import gc
 import os
 from pathlib import Path
 
-from .circuit import Circuit
-from .elaborate import elaborate
-from .parser import parse_statements, read_netlist_text
+from netnoise.circuit import Circuit
+from netnoise.netlist.elaborate import elaborate
+from netnoise.netlist.parser import parse_statements
+from netnoise.text.source import read_netlist_text
 
 __all__ = ["parse_netlist", "load_netlist"]
 

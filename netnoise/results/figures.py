@@ -11,8 +11,8 @@ from __future__ import annotations
 import math
 from dataclasses import dataclass
 
-from .errors import UsageError
-from .result import NoiseResult
+from netnoise.errors import UsageError
+from netnoise.results.result import NoiseResult
 
 __all__ = ["SignalToNoise", "AdcComparison", "signal_to_noise", "adc_comparison", "ideal_adc_snr_dB"]
 

@@ -30,7 +30,7 @@ def grammar_path() -> Path:
     packaged = resources.files("netnoise").joinpath("grammar_files", GRAMMAR_FILE)
     if packaged.is_file():
         return Path(str(packaged))
-    checkout = Path(__file__).resolve().parent.parent / "grammar" / GRAMMAR_FILE
+    checkout = Path(__file__).resolve().parents[2] / "grammar" / GRAMMAR_FILE
     if checkout.is_file():
         return checkout
     raise FileNotFoundError(

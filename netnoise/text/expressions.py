@@ -23,8 +23,8 @@ from collections.abc import Callable, Mapping
 
 from lark import Token, Tree
 
-from .errors import NetlistError, SourceLocation
-from .values import split_value
+from netnoise.errors import NetlistError, SourceLocation
+from netnoise.text.values import split_value
 
 __all__ = ["CONSTANTS", "FUNCTIONS", "MAX_DEPTH", "Locator", "evaluate", "evaluate_text", "referenced_names"]
 
@@ -219,7 +219,7 @@ def referenced_names(tree: Tree) -> set[str]:
 
 def evaluate_text(text: str, params: Mapping[str, float] | None = None, filename: str = "<expression>") -> float:
     """Parse and evaluate one expression, e.g. ``evaluate_text("2*pi*1k")``."""
-    from .parser import parse_expression  # the parser owns lark's error messages
+    from netnoise.text.syntax import parse_expression  # the parser owns lark's error messages
 
     tree, locate = parse_expression(text, filename)
     lowered = {key.lower(): value for key, value in (params or {}).items()}

@@ -13,10 +13,10 @@ from dataclasses import dataclass
 import numpy as np
 import scipy.sparse.linalg as spla
 
-from . import circuit as ck
-from .errors import CircuitError
-from .mna import MnaSystem, assemble
-from .topology import check_topology
+from netnoise import circuit as ck
+from netnoise.errors import CircuitError
+from netnoise.engine.mna import MnaSystem, assemble
+from netnoise.circuit.topology import check_topology
 
 __all__ = ["OperatingPoint", "operating_point", "solve_operating_point"]
 

@@ -1,0 +1,1 @@
+"""The engine: MNA assembly, operating point, transfers, band integration, totals."""

@@ -1,0 +1,574 @@
+"""Netlist text -> lark tree -> a list of statements.
+
+This module knows the *shape* of each line (which fields an ``R`` line has,
+what follows ``.noise``); :mod:`netnoise.netlist.elaborate` gives the
+statements their meaning (scopes, parameters, subcircuits).  Keywords and
+element letters are not case sensitive.
+"""
+
+from __future__ import annotations
+
+from lark import Token, Tree
+
+from netnoise.errors import SourceLocation
+from netnoise.netlist.statements import *  # noqa: F401,F403
+from netnoise.netlist.statements import (
+    AcCard, Assignment, Coupling, CurrentControlled, EndsCard, IncludeCard, IndependentSource, Instance,
+    ModelCard, NoiseCard, OptionsCard, ParamCard, ParsedFile, Passive, Statement, SubcktCard, Sweep,
+    TempCard, VoltageControlled,
+)
+from netnoise.text.fields import (
+    Call, Field, FieldReader, Keyed, Quoted, Value, Word, as_assignment, as_value,
+    describe, is_value, shown,
+)
+from netnoise.text.source import SourceText, fail as _fail, prepare
+from netnoise.text.syntax import parse_tree
+
+# --------------------------------------------------------------------------
+# element lines
+
+SUPPORTED_LETTERS = "RCLKVIEGFHX"
+
+_FORMS = {
+    "R": "Rname node1 node2 value [noiseless] [temp=CELSIUS] [ni=DB]",
+    "C": "Cname node1 node2 value",
+    "L": "Lname node1 node2 value",
+    "K": "Kname Lfirst Lsecond coupling",
+    "V": "Vname node+ node- [DC] [value] [AC magnitude [phase]] [noise=V/rtHz [corner=HZ] [slope=N]]",
+    "I": "Iname node+ node- [DC] [value] [AC magnitude [phase]] [noise=A/rtHz [corner=HZ] [slope=N]] [shot]",
+    "E": "Ename out+ out- in+ in- gain",
+    "G": "Gname out+ out- in+ in- transconductance",
+    "F": "Fname out+ out- Vcontrol gain",
+    "H": "Hname out+ out- Vcontrol transresistance",
+    "X": "Xname node ... subcircuit [param=value ...]  or  Xname in+ in- out opamp_model [param=value ...]",
+}
+
+_UNSUPPORTED = {
+    "D": "diodes are not supported",
+    "Q": "bipolar transistors are not supported",
+    "M": "MOS transistors are not supported",
+    "J": "junction FETs are not supported",
+    "Z": "MESFETs are not supported",
+    "B": "behavioural sources are not supported",
+    "S": "switches are not supported",
+    "W": "switches are not supported",
+    "T": "transmission lines are not supported",
+    "O": "transmission lines are not supported",
+    "U": "transmission lines are not supported",
+}
+
+_WAVEFORMS = {"sin", "pulse", "exp", "pwl", "sffm", "am"}
+_BEHAVIOURAL_KEYS = {"value", "table", "laplace", "freq", "vol", "cur"}
+
+
+class _Line:
+    """The fields of one element line, consumed left to right."""
+
+    def __init__(self, name: str, letter: str, name_word: Word, fields: list[Field]) -> None:
+        self.name = name
+        self.letter = letter
+        self.fields = fields
+        self.position = 0
+        self.last: Field = name_word  # the last field taken; its .end is where a missing one goes
+
+    @property
+    def last_end(self) -> SourceLocation:
+        return self.last.end
+
+    def form_hint(self) -> str:
+        return f"the form is: {_FORMS[self.letter]}"
+
+    def peek(self) -> Field | None:
+        return self.fields[self.position] if self.position < len(self.fields) else None
+
+    def take(self, what: str) -> Field:
+        item = self.peek()
+        if item is None:
+            raise _fail(f"{self.name} is missing its {what}", self.last_end, self.form_hint())
+        self._check_unsupported_form(item)
+        self.position += 1
+        self.last = item
+        return item
+
+    def _check_unsupported_form(self, item: Field) -> None:
+        if isinstance(item, Call) and item.name.lower() == "poly":
+            raise _fail(
+                f"{self.name}: POLY forms are not supported",
+                item.loc,
+                "netnoise takes one linear gain per controlled source",
+            )
+        if isinstance(item, Keyed) and item.key.lower() in _BEHAVIOURAL_KEYS:
+            raise _fail(f"{self.name}: behavioural sources are not supported", item.loc)
+
+    def node(self, what: str) -> Word:
+        item = self.take(what)
+        if not isinstance(item, Word):
+            raise _fail(f"expected {what} of {self.name} here, not {describe(item)}", item.loc, self.form_hint())
+        return item
+
+    def value(self, what: str) -> Value:
+        item = self.take(what)
+        return as_value(item, f"{what} of {self.name}")
+
+    def done(self) -> None:
+        item = self.peek()
+        if item is not None:
+            self._check_unsupported_form(item)
+            raise _fail(f"unexpected extra field {describe(item)} on {self.name}", item.loc, self.form_hint())
+
+
+def _element(tree: Tree, fields: FieldReader) -> Statement:
+    """An element line with keyed, called, braced or quoted fields."""
+    name_word = fields.word(tree.children[0])
+    _check_letter(name_word)
+    return _element_statement(name_word, fields.fields(tree.children[1:]))
+
+
+def _plain_element(token: Token, fields: FieldReader) -> Statement:
+    """An element line of plain words only (one PLAIN_LINE token)."""
+    name_word, *items = fields.words(token)
+    name = name_word.text
+    letter = name[0].upper()
+    if letter in "RCL" and len(items) == 3:  # most lines of a large netlist: no options to take
+        what = "value of " + name
+        return Passive(letter, name, (items[0], items[1]), as_value(items[2], what), name_word.loc)
+    _check_letter(name_word)
+    return _element_statement(name_word, items)
+
+
+def _check_letter(name_word: Word) -> None:
+    name = name_word.text
+    if name[0].upper() not in SUPPORTED_LETTERS:
+        reason = _UNSUPPORTED.get(name[0].upper(), f"element letter '{name[0]}' is not supported")
+        raise _fail(
+            f"{name}: {reason}",
+            name_word.loc,
+            "netnoise reads linear circuits: R, C, L, K, V, I, E, G, F, H and X lines",
+        )
+
+
+def _element_statement(name_word: Word, items: list[Field]) -> Statement:
+    name = name_word.text
+    letter = name[0].upper()
+    line = _Line(name, letter, name_word, items)
+    loc = name_word.loc
+    if letter in "RCL":
+        nodes = (line.node("first node"), line.node("second node"))
+        value = line.value("value")
+        if letter == "R" and line.peek() is not None:
+            return _resistor_options(line, name, nodes, value, loc)
+        line.done()
+        return Passive(letter, name, nodes, value, loc)
+    if letter == "K":
+        inductors = (line.node("first inductor name"), line.node("second inductor name"))
+        value = line.value("coupling coefficient")
+        line.done()
+        return Coupling(name, inductors, value, loc)
+    if letter in "EG":
+        nodes = (line.node("positive output node"), line.node("negative output node"))
+        control = (line.node("positive control node"), line.node("negative control node"))
+        gain = line.value("gain" if letter == "E" else "transconductance")
+        line.done()
+        return VoltageControlled(letter, name, nodes, control, gain, loc)
+    if letter in "FH":
+        nodes = (line.node("positive output node"), line.node("negative output node"))
+        control = line.node("controlling voltage source")
+        gain = line.value("gain" if letter == "F" else "transresistance")
+        line.done()
+        return CurrentControlled(letter, name, nodes, control, gain, loc)
+    if letter in "VI":
+        return _source(line, letter, name, loc)
+    return _instance(line, name, loc)
+
+
+RESISTOR_KEYS = ("noiseless", "temp", "ni")
+SOURCE_NOISE_KEYS = ("noise", "corner", "slope")
+
+
+def _keyed_value(line: _Line, item: Keyed, what: str) -> Value:
+    line.take(what)
+    return as_value(item.value, f"{what} of {line.name}")
+
+
+def _resistor_options(line: _Line, name: str, nodes: tuple[Word, Word], value: Value, loc: SourceLocation) -> Passive:
+    """``noiseless``, ``temp=°C``, ``ni=dB`` after a resistor's value, in any order."""
+    noiseless = False
+    temperature: Value | None = None
+    noise_index: Value | None = None
+    hint = "after the value a resistor takes: noiseless, temp=CELSIUS, ni=DB (noise index)"
+    while (item := line.peek()) is not None:
+        if isinstance(item, Word) and item.text.lower() == "noiseless":
+            if noiseless:
+                raise _fail(f"{name} says 'noiseless' twice", item.loc)
+            line.take("noiseless")
+            noiseless = True
+            continue
+        key = item.key.lower() if isinstance(item, Keyed) else ""
+        if key == "temp":
+            if temperature is not None:
+                raise _fail(f"{name} has two temp= values", item.loc)
+            temperature = _keyed_value(line, item, "temperature")  # type: ignore[arg-type]
+        elif key == "ni":
+            if noise_index is not None:
+                raise _fail(f"{name} has two ni= values", item.loc)
+            noise_index = _keyed_value(line, item, "noise index")  # type: ignore[arg-type]
+        else:
+            line._check_unsupported_form(item)
+            raise _fail(f"unexpected extra field {describe(item)} on {name}", item.loc, hint)
+    return Passive("R", name, nodes, value, loc, noiseless, temperature, noise_index)
+
+
+
+
+
+
+def _source(line: _Line, letter: str, name: str, loc: SourceLocation) -> IndependentSource:
+    nodes = (line.node("positive node"), line.node("negative node"))
+    dc: Value | None = None
+    ac_magnitude: Value | None = None
+    ac_phase: Value | None = None
+    has_ac = False
+    waveform: str | None = None
+    noise: dict[str, Value] = {}
+    noise_at: dict[str, Keyed] = {}
+    shot = False
+    while (item := line.peek()) is not None:
+        keyword = item.text.lower() if isinstance(item, Word) else ""
+        key = item.key.lower() if isinstance(item, Keyed) else ""
+        if keyword == "dc":
+            if dc is not None:
+                raise _fail(f"{name} has two DC values", item.loc, line.form_hint())
+            line.take("DC keyword")
+            dc = line.value("DC value")
+        elif keyword == "ac":
+            if has_ac:
+                raise _fail(f"{name} has two AC specifications", item.loc, line.form_hint())
+            line.take("AC keyword")
+            has_ac = True
+            if is_value(line.peek()):
+                ac_magnitude = line.value("AC magnitude")
+                if is_value(line.peek()):
+                    ac_phase = line.value("AC phase")
+        elif keyword == "shot":
+            if letter != "I":
+                raise _fail(
+                    f"{name}: 'shot' applies to current sources only",
+                    item.loc,
+                    "mark the junction current (an I source) with shot; give a V source noise=DENSITY",
+                )
+            if shot:
+                raise _fail(f"{name} says 'shot' twice", item.loc)
+            line.take("shot")
+            shot = True
+        elif key in SOURCE_NOISE_KEYS:
+            if key in noise:
+                raise _fail(f"{name} has two {key}= values", item.loc)
+            what = {"noise": "noise density", "corner": "noise corner frequency", "slope": "noise slope"}[key]
+            noise[key] = _keyed_value(line, item, what)  # type: ignore[arg-type]
+            noise_at[key] = item  # type: ignore[assignment]
+        elif isinstance(item, Call) and item.name.lower() in _WAVEFORMS:
+            if waveform is not None:
+                raise _fail(f"{name} has two waveforms", item.loc, line.form_hint())
+            line.take("waveform")
+            waveform = item.name.upper()
+        elif dc is None and is_value(item):
+            dc = line.value("DC value")
+        else:
+            line.done()
+    if "noise" not in noise:
+        for key in ("corner", "slope"):
+            if key in noise:
+                unit = "V/√Hz" if letter == "V" else "A/√Hz"
+                raise _fail(
+                    f"{name}: {key}= shapes a noise density, but there is no noise=",
+                    noise_at[key].loc,
+                    f"add noise=DENSITY ({unit}), e.g. noise=10n {key}=...",
+                )
+    return IndependentSource(
+        letter, name, nodes, dc, ac_magnitude, ac_phase, has_ac, waveform, loc,
+        noise.get("noise"), noise.get("corner"), noise.get("slope"), shot,
+    )
+
+
+
+def _instance(line: _Line, name: str, loc: SourceLocation) -> Instance:
+    words: list[Word] = []
+    overrides: list[Assignment] = []
+    for item in line.fields:
+        line._check_unsupported_form(item)
+        if isinstance(item, Word) and not overrides:
+            if item.text.lower() == "params:":
+                continue
+            words.append(item)
+        elif isinstance(item, Keyed):
+            overrides.append(as_assignment(item, f"on {name}"))
+        else:
+            raise _fail(
+                f"unexpected {describe(item)} on {name}",
+                item.loc,
+                line.form_hint(),
+            )
+    if not words:
+        raise _fail(f"{name} is missing its subcircuit name", line.last_end, line.form_hint())
+    return Instance(name, tuple(words[:-1]), words[-1], tuple(overrides), loc)
+
+
+# --------------------------------------------------------------------------
+# dot-cards
+
+SUPPORTED_CARDS = (".subckt", ".ends", ".model", ".param", ".include", ".temp", ".ac", ".noise", ".options", ".end")
+_NOT_YET = {
+    ".lib": "'.lib' is not supported; use .include FILE",
+    ".inc": "write '.include' in full",
+    ".global": "'.global' is not supported: only ground (0) is shared between subcircuits",
+}
+
+
+class _Card:
+    def __init__(self, name: str, loc: SourceLocation, end: SourceLocation, fields: list[Field]) -> None:
+        self.name = name
+        self.loc = loc
+        self.fields = fields
+        self.position = 0
+        self.last_end = end
+
+    def peek(self) -> Field | None:
+        return self.fields[self.position] if self.position < len(self.fields) else None
+
+    def take(self, what: str, form: str) -> Field:
+        item = self.peek()
+        if item is None:
+            raise _fail(f"{self.name} is missing its {what}", self.last_end, f"the form is: {form}")
+        self.position += 1
+        self.last_end = item.end
+        return item
+
+    def word(self, what: str, form: str) -> Word:
+        item = self.take(what, form)
+        if not isinstance(item, Word):
+            raise _fail(f"expected {what} here, not {describe(item)}", item.loc, f"the form is: {form}")
+        return item
+
+    def done(self, form: str) -> None:
+        item = self.peek()
+        if item is not None:
+            raise _fail(f"unexpected extra field {describe(item)} on {self.name}", item.loc, f"the form is: {form}")
+
+
+_SWEEP_FORM = "dec|oct|lin points fstart fstop"
+
+
+def _sweep(card: _Card, form: str) -> Sweep:
+    kind = card.word("sweep kind (dec, oct or lin)", form)
+    if kind.text.lower() not in ("dec", "oct", "lin"):
+        raise _fail(f"unknown sweep kind '{kind.text}'; expected dec, oct or lin", kind.loc, f"the form is: {form}")
+    points = as_value(card.take("number of points", form), "number of points")
+    start = as_value(card.take("start frequency", form), "start frequency")
+    stop = as_value(card.take("stop frequency", form), "stop frequency")
+    return Sweep(kind.text.lower(), points, start, stop, kind.loc)
+
+
+def _card(tree: Tree, fields: FieldReader) -> Statement:
+    name_token = tree.children[0]
+    source = fields.source
+    loc = source.at(name_token)
+    name = str(name_token).lower()
+    items = fields.fields(tree.children[1:])
+    card = _Card(name, loc, source.after(name_token), items)
+    if name == ".subckt":
+        return _subckt(card)
+    if name == ".ends":
+        form = ".ends [name]"
+        label = card.word("name", form) if card.peek() is not None else None
+        card.done(form)
+        return EndsCard(label, loc)
+    if name == ".include":
+        form = ".include FILE"
+        item = card.take("file name", form)
+        if not isinstance(item, (Word, Quoted)):
+            raise _fail(f"expected a file name here, not {describe(item)}", item.loc)
+        card.done(form)
+        return IncludeCard(item.text, loc)
+    if name == ".temp":
+        form = ".temp degrees_celsius"
+        value = as_value(card.take("temperature", form), "temperature")
+        card.done(form)
+        return TempCard(value, loc)
+    if name == ".ac":
+        form = f".ac {_SWEEP_FORM}"
+        sweep = _sweep(card, form)
+        card.done(form)
+        return AcCard(sweep, loc)
+    if name == ".noise":
+        return _noise(card)
+    if name == ".model":
+        return _model(card)
+    if name in (".options", ".option"):
+        return OptionsCard(loc)
+    if name in _NOT_YET:
+        raise _fail(_NOT_YET[name], loc)
+    raise _fail(
+        f"unknown dot-card '{name_token}'",
+        loc,
+        "netnoise reads " + " ".join(SUPPORTED_CARDS),
+    )
+
+
+def _subckt(card: _Card) -> SubcktCard:
+    form = ".subckt NAME pin ... [params:] [name=default ...]"
+    name = card.word("subcircuit name", form)
+    pins: list[Word] = []
+    defaults: list[Assignment] = []
+    while (item := card.peek()) is not None:
+        card.take("pin", form)
+        if isinstance(item, Word) and not defaults:
+            if item.text.lower() == "params:":
+                continue
+            pins.append(item)
+        elif isinstance(item, Keyed):
+            defaults.append(as_assignment(item, f"in .subckt {name.text}"))
+        else:
+            raise _fail(f"unexpected {describe(item)} on .subckt {name.text}", item.loc, f"the form is: {form}")
+    return SubcktCard(name, tuple(pins), tuple(defaults), card.loc)
+
+
+def _noise(card: _Card) -> NoiseCard:
+    form = ".noise v(out[,ref]) [SOURCE [dec|oct|lin points fstart fstop]]"
+    probe = card.take("output v(node) or v(node,ref)", form)
+    if not isinstance(probe, Call) or probe.name.lower() != "v":
+        raise _fail(
+            f"expected the output as v(node) or v(node,ref), not {describe(probe)}",
+            probe.loc,
+            "only voltage outputs are supported",
+        )
+    if not 1 <= len(probe.args) <= 2 or not all(isinstance(arg, Word) for arg in probe.args):
+        raise _fail("v(...) takes one node, or an output node and a reference node", probe.loc, f"the form is: {form}")
+    output = probe.args[0]
+    reference = probe.args[1] if len(probe.args) == 2 else None
+    # the source may be left out before a sweep: element names start with V or I,
+    # so a sweep keyword here cannot be a source's name
+    upcoming = card.peek()
+    names_sweep = isinstance(upcoming, Word) and upcoming.text.lower() in ("dec", "oct", "lin")
+    source = card.word("input source name", form) if upcoming is not None and not names_sweep else None
+    sweep = _sweep(card, form) if card.peek() is not None else None
+    card.done(form)
+    return NoiseCard(output, reference, source, sweep, card.loc)  # type: ignore[arg-type]
+
+
+# .model NAME opamp parameters: our name -> (OpAmpModel field, what it is)
+OPAMP_PARAMS: dict[str, tuple[str, str]] = {
+    "en": ("voltage_noise", "input voltage noise density, V/√Hz (white)"),
+    "en_corner": ("voltage_noise_corner_Hz", "1/f corner of en, Hz"),
+    "in": ("current_noise", "input current noise density on each input, A/√Hz (white)"),
+    "in_corner": ("current_noise_corner_Hz", "1/f corner of in, Hz"),
+    "aol": ("open_loop_gain", "open-loop DC gain, V/V"),
+    "gbw": ("gain_bandwidth_Hz", "gain-bandwidth product, Hz"),
+    "fp2": ("second_pole_Hz", "second pole, Hz"),
+    "cin": ("input_capacitance", "common-mode capacitance of each input to ground, F"),
+    "cdiff": ("differential_capacitance", "capacitance between the inputs, F"),
+    "rout": ("output_resistance", "output resistance, Ω"),
+}
+_MODEL_FORM = ".model NAME opamp [(] en=... in=... aol=... gbw=... [)]"
+_MODEL_TYPES_REFUSED = {
+    "d": "diode",
+    "npn": "bipolar transistor",
+    "pnp": "bipolar transistor",
+    "nmos": "MOS transistor",
+    "pmos": "MOS transistor",
+    "njf": "junction FET",
+    "pjf": "junction FET",
+}
+
+
+def opamp_param_list() -> str:
+    return ", ".join(OPAMP_PARAMS)
+
+
+def check_opamp_param(item: Assignment, owner: str) -> None:
+    """Refuse a parameter name that an amplifier model does not have."""
+    if item.name.lower() not in OPAMP_PARAMS:
+        raise _fail(
+            f"{owner}: an opamp model has no parameter '{shown(item.name)}'",
+            item.loc,
+            f"its parameters: {opamp_param_list()}",
+        )
+
+
+def _model(card: _Card) -> ModelCard:
+    name = card.word("model name", _MODEL_FORM)
+    kind_item = card.take("model type", _MODEL_FORM)
+    raw_params: list[Field] = []
+    if isinstance(kind_item, Word):
+        kind = kind_item.text
+        kind_loc = kind_item.loc
+    elif isinstance(kind_item, Call):
+        kind = kind_item.name
+        kind_loc = kind_item.loc
+        raw_params.extend(kind_item.args)
+    else:
+        raise _fail(f"expected the model type here, not {describe(kind_item)}", kind_item.loc, f"the form is: {_MODEL_FORM}")
+    if kind.lower() != "opamp":
+        what = _MODEL_TYPES_REFUSED.get(kind.lower())
+        reason = f"{what} models are not supported" if what else f"model type '{shown(kind)}' is not supported"
+        raise _fail(
+            f".model {shown(name.text)}: {reason}",
+            kind_loc,
+            "netnoise has amplifier models only: .model NAME opamp (en=... gbw=...)",
+        )
+    while card.peek() is not None:
+        raw_params.append(card.take("parameter", _MODEL_FORM))
+    owner = f".model {shown(name.text)}"
+    params: list[Assignment] = []
+    seen: set[str] = set()
+    for item in raw_params:
+        if not isinstance(item, Keyed):
+            raise _fail(
+                f"expected a name=value parameter on {owner}, not {describe(item)}",
+                item.loc,
+                f"its parameters: {opamp_param_list()}",
+            )
+        assignment = as_assignment(item, f"on {owner}")
+        check_opamp_param(assignment, owner)
+        key = assignment.name.lower()
+        if key in seen:
+            raise _fail(f"{owner}: parameter '{assignment.name}' is given twice", item.loc)
+        seen.add(key)
+        params.append(assignment)
+    return ModelCard(name, "opamp", tuple(params), card.loc)
+
+
+def _param_card(tree: Tree, source: SourceText) -> ParamCard:
+    assignments = []
+    for node in tree.children[1:]:
+        name_token, expression = node.children
+        key = str(name_token)
+        value = Value("{...}", source.at(expression), None, expression, source)
+        assignments.append(Assignment(key, value, source.at(name_token)))
+    return ParamCard(tuple(assignments), source.at(tree.children[0]))
+
+
+
+# --------------------------------------------------------------------------
+# the entry point
+
+
+def parse_statements(text: str, filename: str = "<text>", has_title: bool = True) -> ParsedFile:
+    """Parse netlist ``text`` into statements.
+
+    ``has_title``: the first line is the title (true for the top-level file,
+    false for included files).
+    """
+    prepared, title, source = prepare(text, filename, has_title)
+    tree = parse_tree(prepared, "netlist", source)
+    fields = FieldReader(source)
+    statements: list[Statement] = []
+    for node in tree.children:
+        if isinstance(node, Token):  # PLAIN_LINE
+            statements.append(_plain_element(node, fields))
+        elif node.data == "element_line":
+            statements.append(_element(node, fields))
+        elif node.data == "param_line":
+            statements.append(_param_card(node, source))
+        else:
+            statements.append(_card(node, fields))
+    return ParsedFile(title, tuple(statements), source)

@@ -1,0 +1,1 @@
+"""Results of an analysis, and the figures of merit derived from them."""

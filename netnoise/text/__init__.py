@@ -1,0 +1,1 @@
+"""The netlist's text: source locations, the grammar, fields, values and expressions."""

@@ -1,0 +1,281 @@
+"""The loose pieces of an element line or dot-card: words, quoted text,
+braced expressions, ``key=value`` pairs and calls, each with its place in
+the file; values (a number already converted, or an expression to evaluate
+later) and ``name = value`` assignments."""
+
+from __future__ import annotations
+
+import re
+from dataclasses import dataclass, field
+from typing import Union
+
+from lark import Token, Tree
+
+from netnoise.errors import SourceLocation
+from netnoise.text.source import SourceText, fail as _fail
+from netnoise.text.values import split_value
+
+__all__ = [
+    "Word", "Quoted", "Braced", "Keyed", "Call", "Field", "Value", "Assignment",
+    "FieldReader", "shown", "describe", "as_value", "as_assignment", "is_value", "IDENTIFIER",
+]
+
+class Word:
+    """One blank-separated word (a node, a value, a keyword).
+
+    Its locations are built only when asked for (a message, an origin):
+    a large netlist has hundreds of thousands of words.
+    """
+
+    __slots__ = ("text", "_source", "_line", "_column")
+
+    def __init__(self, text: str, source: SourceText, line: int, column: int) -> None:
+        self.text = text
+        self._source = source
+        self._line = line
+        self._column = column
+
+    @property
+    def loc(self) -> SourceLocation:
+        return self._source.location(self._line, self._column)
+
+    @property
+    def end(self) -> SourceLocation:
+        return self._source.location(self._line, self._column + len(self.text))
+
+    def __eq__(self, other: object) -> bool:
+        return isinstance(other, Word) and other.text == self.text
+
+    def __hash__(self) -> int:
+        return hash(self.text)
+
+    def __repr__(self) -> str:
+        return f"Word({self.text!r})"
+
+
+@dataclass(frozen=True)
+class Quoted:
+    text: str  # without the quotes
+    loc: SourceLocation = field(compare=False)
+    end: SourceLocation = field(compare=False, repr=False)
+
+
+@dataclass(frozen=True)
+class Braced:
+    tree: Tree
+    source: SourceText = field(compare=False, repr=False)
+    loc: SourceLocation = field(compare=False)
+    end: SourceLocation = field(compare=False, repr=False)
+
+
+@dataclass(frozen=True)
+class Keyed:
+    key: str
+    value: Union[Word, Braced, Quoted]
+    loc: SourceLocation = field(compare=False)
+    end: SourceLocation = field(compare=False, repr=False)
+
+
+@dataclass(frozen=True)
+class Call:
+    name: str
+    args: tuple[Union[Word, Braced, "Keyed"], ...]
+    loc: SourceLocation = field(compare=False)
+    end: SourceLocation = field(compare=False, repr=False)
+
+
+Field = Union[Word, Quoted, Braced, Keyed, Call]
+
+
+def shown(text: str, limit: int = 40) -> str:
+    """``text`` for a message: control characters by code point, long text cut."""
+    if len(text) > limit:
+        text = text[: limit - 3] + "..."
+    if not text.isprintable():
+        text = "".join(ch if ch.isprintable() else f"U+{ord(ch):04X}" for ch in text)
+    return text
+
+
+def describe(item: Field) -> str:
+    if isinstance(item, Word):
+        return f"'{shown(item.text)}'"
+    if isinstance(item, Quoted):
+        return f'"{shown(item.text)}"'
+    if isinstance(item, Braced):
+        return "a {...} expression"
+    if isinstance(item, Keyed):
+        return f"'{shown(item.key)}=...'"
+    return f"'{shown(item.name)}(...)'"
+
+
+class Value:
+    """A value field: a plain number (already converted) or an expression.
+
+    ``text`` is the number as written, or ``'{...}'``; ``loc`` is where it
+    is (built when asked for, from the word it came from).
+    """
+
+    __slots__ = ("text", "number", "tree", "source", "_loc", "_word")
+
+    def __init__(
+        self,
+        text: str,
+        loc: SourceLocation | None,
+        number: float | None = None,
+        tree: Tree | None = None,
+        source: SourceText | None = None,
+        word: Word | None = None,
+    ) -> None:
+        self.text = text
+        self.number = number
+        self.tree = tree
+        self.source = source
+        self._loc = loc
+        self._word = word
+
+    @property
+    def loc(self) -> SourceLocation:
+        if self._loc is None:
+            self._loc = self._word.loc  # type: ignore[union-attr]
+        return self._loc
+
+    def __eq__(self, other: object) -> bool:
+        return isinstance(other, Value) and (other.text, other.number) == (self.text, self.number)
+
+    def __hash__(self) -> int:
+        return hash((self.text, self.number))
+
+    def __repr__(self) -> str:
+        return f"Value({self.text!r}, number={self.number!r})"
+
+
+IDENTIFIER = re.compile(r"[A-Za-z_][A-Za-z0-9_]*\Z")
+
+
+def as_value(item: Field, what: str) -> Value:
+    """``item`` as a value; ``what`` names it in messages ('the value of R1')."""
+    if isinstance(item, Word):
+        try:
+            number = split_value(item.text)[0]
+        except ValueError as exc:
+            hint = ""
+            if IDENTIFIER.match(item.text):
+                hint = f"to use a parameter, put it in braces: {{{item.text}}}"
+            raise _fail(f"bad {what}: {exc}", item.loc, hint) from None
+        return Value(item.text, None, number, word=item)
+    if isinstance(item, Braced):
+        return Value("{...}", item.loc, None, item.tree, item.source)
+    hint = "write expressions in braces: {...}" if isinstance(item, Quoted) else ""
+    raise _fail(f"expected {what} here, not {describe(item)}", item.loc, hint)
+
+
+@dataclass(frozen=True)
+class Assignment:
+    """``name = value`` from .param, a .subckt header or an X line."""
+
+    name: str
+    value: Value
+    loc: SourceLocation = field(compare=False)
+
+
+
+def is_value(item: Field | None) -> bool:
+    if isinstance(item, Braced):
+        return True
+    if isinstance(item, Word):
+        try:
+            split_value(item.text)
+        except ValueError:
+            return False
+        return True
+    return False
+
+
+def as_assignment(item: Keyed, what: str) -> Assignment:
+    key = item.key
+    if key.lower().startswith("params:"):
+        key = key[len("params:") :]
+    if not IDENTIFIER.match(key):
+        raise _fail(
+            f"'{key}' is not a parameter name",
+            item.loc,
+            "parameter names are letters, digits and '_', starting with a letter",
+        )
+    return Assignment(key, as_value(item.value, f"value of parameter '{key}' {what}"), item.loc)
+
+
+
+class FieldReader:
+    """Turns the loose field trees of one line into Field objects."""
+
+    def __init__(self, source: SourceText) -> None:
+        self.source = source
+
+    def word(self, token: Token) -> Word:
+        return Word(str(token), self.source, token.line, token.column)
+
+    def words(self, token: Token) -> list[Word]:
+        """The words of a WORDS or PLAIN_LINE token (blank-separated, one line)."""
+        text = str(token)
+        line = token.line
+        column = token.column
+        out: list[Word] = []
+        position = 0
+        for piece in text.split():
+            position = text.find(piece, position)
+            out.append(Word(piece, self.source, line, column + position))
+            position += len(piece)
+        return out
+
+    def braced(self, tree: Tree) -> Braced:
+        inner = tree.children[1]  # LBRACE expression RBRACE
+        return Braced(inner, self.source, self.source.at(tree), self.source.after(tree))
+
+    def fields(self, children: list) -> list[Field]:
+        """Every field of a line, in order (a WORDS token gives several)."""
+        out: list[Field] = []
+        for child in children:
+            if isinstance(child, Token):
+                if child.type == "WORDS":
+                    out.extend(self.words(child))
+                else:
+                    out.append(self.word(child))
+            else:
+                out.append(self.field(child))
+        return out
+
+    def keyed(self, node: Tree) -> Keyed:
+        key, raw = node.children
+        if isinstance(raw, Tree):
+            value: Union[Word, Braced, Quoted] = self.braced(raw)
+        elif raw.type == "STRING":
+            value = Quoted(str(raw)[1:-1], self.source.at(raw), self.source.after(raw))
+        else:
+            value = self.word(raw)
+        return Keyed(str(key), value, self.source.at(key), self.source.after(node))
+
+    def field(self, node: Tree) -> Field:
+        kind = node.data
+        if kind == "word":
+            return self.word(node.children[0])
+        if kind == "quoted":
+            token = node.children[0]
+            return Quoted(str(token)[1:-1], self.source.at(token), self.source.after(token))
+        if kind == "braced":
+            return self.braced(node)
+        if kind == "keyed":
+            return self.keyed(node)
+        if kind == "call":
+            name = node.children[0]
+            args: list[Union[Word, Braced, Keyed]] = []
+            if len(node.children) > 3:  # name LPAR call_args RPAR
+                for arg in node.children[2].children:
+                    if arg.data == "word":
+                        args.append(self.word(arg.children[0]))
+                    elif arg.data == "keyed":
+                        args.append(self.keyed(arg))
+                    else:
+                        args.append(self.braced(arg))
+            return Call(str(name), tuple(args), self.source.at(name), self.source.after(node))
+        raise _fail(f"unexpected '{kind}'", self.source.at(node))  # grammar and code disagree
+
