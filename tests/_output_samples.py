@@ -40,7 +40,8 @@ def white(density_rt=100e-9, low=1.0, high=5.0, points=41, **extra) -> NoiseResu
         frequency_Hz=f,
         source_names=("R1",),
         source_mechanisms=("thermal",),
-        source_values=("1 kΩ",),
+        source_values=(1e3,),
+        source_units=("Ω",),
         source_density=np.full((1, f.size), s),
         source_variance=np.array([s * (high - low)]),
         cumulative_variance=s * (f - low),
@@ -74,7 +75,8 @@ def resistors(kelvin=300.0, low=1.0, high=10e3, gain=2.0, input_unit="V") -> Noi
         frequency_Hz=f,
         source_names=tuple(n for n, _, _ in RESISTORS),
         source_mechanisms=("thermal",) * 3,
-        source_values=tuple(v for _, _, v in RESISTORS),
+        source_values=tuple(r for _, r, _ in RESISTORS),
+        source_units=("Ω",) * len(RESISTORS),
         source_density=np.repeat(dens[:, None], f.size, axis=1),
         source_variance=dens * bw,
         cumulative_variance=dens.sum() * (f - low),
@@ -101,7 +103,8 @@ def many(count=20) -> NoiseResult:
         frequency_Hz=f,
         source_names=tuple(f"R{i + 1}" for i in range(count)),
         source_mechanisms=("thermal",) * count,
-        source_values=("1 kΩ",) * count,
+        source_values=(1e3,) * count,
+        source_units=("Ω",) * count,
         source_density=np.repeat(dens[:, None], f.size, axis=1),
         source_variance=variances,
         cumulative_variance=dens.sum() * (f - 1.0),
@@ -130,7 +133,8 @@ def rc_unbounded(resistance=1e3, capacitance=1e-9, kelvin=300.0) -> NoiseResult:
         frequency_Hz=f,
         source_names=("R1",),
         source_mechanisms=("thermal",),
-        source_values=("1 kΩ",),
+        source_values=(1e3,),
+        source_units=("Ω",),
         source_density=dens[None, :],
         source_variance=np.array([BOLTZMANN * kelvin / capacitance]),
         cumulative_variance=s0 * fc * np.arctan(f / fc),
@@ -145,11 +149,11 @@ def rc_unbounded(resistance=1e3, capacitance=1e-9, kelvin=300.0) -> NoiseResult:
 #: holds half the total, so F = 2: NF = 10·log10(2) = 3.0103 dB and
 #: Te = T0·(F − 1) = 290 K (common practice: F = 2 is Te = T0).
 FRONT_END = (
-    # name,            element, mechanism,           value,     equivalent Ω
-    ("Rs", "Rs", "thermal", "50 Ω", 50.0),
-    ("Xu1 (voltage)", "Xu1", "amplifier-voltage", "LN1 model", 30.0),
-    ("Xu1 (in+)", "Xu1", "amplifier-current", "LN1 model", 10.0),
-    ("R1", "R1", "thermal", "10 Ω", 10.0),
+    # name,            element, mechanism,           (value, unit, details),                    equivalent Ω
+    ("Rs", "Rs", "thermal", (50.0, "Ω", {}), 50.0),
+    ("Xu1 (voltage)", "Xu1", "amplifier-voltage", (4e-9, "V/√Hz", {"model": "LN1"}), 30.0),
+    ("Xu1 (in+)", "Xu1", "amplifier-current", (1e-12, "A/√Hz", {"model": "LN1"}), 10.0),
+    ("R1", "R1", "thermal", (10.0, "Ω", {}), 10.0),
 )
 
 
@@ -185,7 +189,9 @@ def front_end(gain=10.0, low=10.0, high=100e3, with_noise_figure=True) -> NoiseR
         frequency_Hz=f,
         source_names=tuple(row[0] for row in FRONT_END),
         source_mechanisms=tuple(row[2] for row in FRONT_END),
-        source_values=tuple(row[3] for row in FRONT_END),
+        source_values=tuple(row[3][0] for row in FRONT_END),
+        source_units=tuple(row[3][1] for row in FRONT_END),
+        source_details=tuple(row[3][2] for row in FRONT_END),
         source_elements=tuple(row[1] for row in FRONT_END),
         source_density=np.repeat(dens[:, None], f.size, axis=1),
         source_variance=dens * bw,

@@ -60,7 +60,7 @@ def test_rc_total_is_kT_over_C_independent_of_R(r):
     assert res.total_variance == pytest.approx(K_B * 300.0 / cap, rel=1e-9)
     # 1 pF at 300 K: 64.36 µV rms (value checked while planning the project).
     assert res.total_rms == pytest.approx(64.36e-6, rel=1e-3)
-    assert res.contributions[0].element == "R1"
+    assert res.contributions[0].source == "R1"
     assert res.contributions[0].share == pytest.approx(1.0, rel=1e-12)
 
 
@@ -174,7 +174,7 @@ def test_divider_equal_resistors_parallel_density_half_shares():
     ckt = circuit(R("Rtop", "vdd", "mid", r), R("Rbot", "mid", "0", r), V("Vdd", "vdd", "0"))
     res = analyze(ckt, output="mid", band=(10.0, 1e4), temperature_celsius=t - 273.15)
     assert res.spot_density(1e3) == pytest.approx(math.sqrt(4 * K_B * t * r / 2), rel=1e-9)
-    shares = {c.element: c.share for c in res.contributions}
+    shares = {c.source: c.share for c in res.contributions}
     assert shares["Rtop"] == pytest.approx(0.5, rel=1e-9)
     assert shares["Rbot"] == pytest.approx(0.5, rel=1e-9)
     assert sum(shares.values()) == pytest.approx(1.0, rel=1e-12)
@@ -198,7 +198,7 @@ def test_cccs_transfers_noise_current():
         F("F1", "out", "0", "Vsense", gain), R("Rload", "out", "0", rload),
     )
     res = analyze(ckt, output="out", band=(1.0, 1e3), temperature_celsius=t - 273.15)
-    by = {c.element: c for c in res.contributions}
+    by = {c.source: c for c in res.contributions}
     in_rs = 4 * K_B * t / rs
     assert by["Rs"].variance_V2 / (1e3 - 1.0) == pytest.approx(in_rs * (gain * rload) ** 2, rel=1e-9)
     assert by["Rload"].variance_V2 / (1e3 - 1.0) == pytest.approx(4 * K_B * t * rload, rel=1e-9)

@@ -67,7 +67,8 @@ def test_white_source_numbers():
     assert data["input_source"] is None and data["input_referred_rms"] is None
     assert data["input_referred_unit"] is None and data["gain_at_max"] is None and data["enbw_Hz"] is None
     assert data["contributions"] == [
-        {"element": "R1", "mechanism": "thermal", "value": "1 kΩ", "rms_V": pytest.approx(200e-9, rel=1e-12),
+        {"source": "R1", "element": "R1", "mechanism": "thermal", "value": 1e3, "unit": "Ω", "value_text": "1 kΩ",
+         "rms_V": pytest.approx(200e-9, rel=1e-12),
          "share": 1.0, "cumulative_share": 1.0}
     ]
     assert data["spectrum"]["output_density_V_per_rtHz"] == pytest.approx([100e-9] * 41, rel=1e-12)
@@ -81,7 +82,7 @@ def test_shares_sorted_and_summing_to_one():
     assert math.fsum(shares) == pytest.approx(1.0, rel=1e-12)
     # R/ΣR with 1, 4, 15 kΩ (sample construction)
     assert shares == pytest.approx([0.75, 0.20, 0.05], rel=1e-12)
-    assert [row["element"] for row in data["contributions"]] == ["R3", "R2", "R1"]
+    assert [row["source"] for row in data["contributions"]] == ["R3", "R2", "R1"]
     assert data["contributions"][-1]["cumulative_share"] == pytest.approx(1.0, rel=1e-12)
 
 
@@ -213,7 +214,7 @@ def test_noise_figure_keys():
     assert data["noise_figure_spectrum_dB"] == pytest.approx([3.0103] * result.frequency_Hz.size, rel=1e-5)
     assert data["source_resistor"] == "Rs"
     # one row per source, each mechanism one of the fixed strings
-    assert [row["element"] for row in data["contributions"]] == ["Rs", "Xu1 (voltage)", "Xu1 (in+)", "R1"]
+    assert [row["source"] for row in data["contributions"]] == ["Rs", "Xu1 (voltage)", "Xu1 (in+)", "R1"]
     assert {row["mechanism"] for row in data["contributions"]} <= MECHANISMS
 
 

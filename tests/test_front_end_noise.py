@@ -47,7 +47,7 @@ def test_non_inverting_amplifier_textbook_formula():
     expected = g**2 * (en**2 + (i_n * rs) ** 2 + 4 * K_B * T * rs + (i_n * rp) ** 2 + 4 * K_B * T * rp)
     assert res.spot_density(100.0) ** 2 == pytest.approx(expected, rel=1e-6)
     assert res.gain_at_max == pytest.approx(g, rel=1e-6)
-    mechanisms = {c.element: c.mechanism for c in res.contributions}
+    mechanisms = {c.source: c.mechanism for c in res.contributions}
     assert mechanisms["XU1 (voltage)"] == "amplifier-voltage"
     assert mechanisms["XU1 (in+)"] == mechanisms["XU1 (in-)"] == "amplifier-current"
     by_element = {c.element: c.share for c in res.grouped("element")}
@@ -84,7 +84,7 @@ def test_transimpedance_stage_closed_form_with_finite_gbw():
     # amplifier's e_n·(1 + C_in/C_f) dominates (common practice)
     plateau = res.spot_density(2e6)
     assert plateau == pytest.approx(en * (1 + cin / cf), rel=0.05)
-    assert res.contributions[0].element == "XTIA (voltage)"
+    assert res.contributions[0].source == "XTIA (voltage)"
 
 
 def test_amplifier_voltage_noise_with_1_over_f_corner_integrates_to_closed_form():
@@ -129,7 +129,7 @@ def test_1_over_f_with_infinite_band_combines_exact_white_and_numeric_flicker():
     res = analyze(ckt, output="a", band=(fl, math.inf), temperature_celsius=T_C)
     flicker = k * r**2 / 2 * math.log(1 + (fc / fl) ** 2)
     white = (1e-12) ** 2 * r**2 * fc * (math.pi / 2 - math.atan(fl / fc))
-    by = {c.element: c.variance_V2 for c in res.contributions}
+    by = {c.source: c.variance_V2 for c in res.contributions}
     assert by["In"] == pytest.approx(white + flicker, rel=1e-4)
     assert by["R1"] == pytest.approx(4 * K_B * T * r * fc * (math.pi / 2 - math.atan(fl / fc)), rel=1e-6)
 
@@ -192,7 +192,7 @@ def test_noiseless_and_per_element_temperature():
     hot = dataclasses.replace(R("Rhot", "a", "0", 1e3), temperature_celsius=400.0 - 273.15)
     ckt = circuit(hot, noiseless(R("Rcold", "a", "0", 1e3)))
     res = analyze(ckt, output="a", band=(1.0, 2.0), temperature_celsius=T_C)
-    assert [c.element for c in res.contributions] == ["Rhot"]
+    assert [c.source for c in res.contributions] == ["Rhot"]
     # 1 kΩ ∥ 1 kΩ: Rhot's noise current sees 500 Ω
     assert res.spot_density(1.5) ** 2 == pytest.approx(4 * K_B * 400.0 / 1e3 * 500.0**2, rel=1e-9)
 

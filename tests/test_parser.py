@@ -7,8 +7,9 @@ import pytest
 
 from netnoise.text.grammar import START_SYMBOLS, grammar_path, netlist_parser
 from netnoise.netlist import load_netlist, parse_netlist
-from netnoise.netlist.parser import (
-    OPAMP_PARAMS,
+from netnoise.circuit.elements.amplifier import OPAMP_PARAMS
+from netnoise.netlist.parser import parse_statements
+from netnoise.netlist.statements import (
     Coupling,
     CurrentControlled,
     IndependentSource,
@@ -19,7 +20,6 @@ from netnoise.netlist.parser import (
     Passive,
     SubcktCard,
     VoltageControlled,
-    parse_statements,
 )
 
 REPO = Path(__file__).resolve().parent.parent

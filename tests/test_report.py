@@ -175,7 +175,9 @@ def test_equal_shares_are_called_a_tie():
         result,
         source_names=("R1", "R2"),
         source_mechanisms=("thermal",) * 2,
-        source_values=("10 kΩ",) * 2,
+        source_values=(10e3,) * 2,
+        source_units=("Ω",) * 2,
+        source_details=({},) * 2,
         source_density=result.source_density[[1, 1]],
         source_variance=result.source_variance[[1, 1]],
     )
@@ -274,8 +276,8 @@ def test_grouped_by_element_merges_an_amplifiers_sources():
 
 def test_grouped_element_value_is_what_its_sources_share():
     base = samples.front_end()
-    values = ("50 Ω", "LN1: 4 nV/√Hz", "LN1: 1 pA/√Hz", "10 Ω")  # an amplifier's two sources, one model
-    rows = _table_rows(format_report(dataclasses.replace(base, source_values=values), group_by="element"))
+    # the sample's amplifier has two sources of one model, LN1: 4 nV/√Hz and 1 pA/√Hz
+    rows = _table_rows(format_report(base, group_by="element"))
     assert rows[1].split()[1:4] == ["Xu1", "amplifier-voltage+amplifier-current", "LN1"]
     assert "nV/√Hz" not in rows[1]
 

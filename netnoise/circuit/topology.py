@@ -13,24 +13,6 @@ from netnoise.errors import CircuitError
 
 __all__ = ["check_topology"]
 
-# elements that fix the voltage between their terminals (at DC for L)
-_VOLTAGE_DEFINING = (
-    ck.VoltageSource,
-    ck.VoltageControlledVoltageSource,
-    ck.CurrentControlledVoltageSource,
-    ck.Inductor,
-)
-
-# elements whose two terminals are joined by a path that conducts at DC
-_DC_CONDUCTING = (
-    ck.Resistor,
-    ck.Inductor,
-    ck.VoltageSource,
-    ck.VoltageControlledVoltageSource,
-    ck.CurrentControlledVoltageSource,
-)
-
-
 class _DisjointSets:
     def __init__(self):
         self.parent: dict[str, str] = {}
@@ -55,7 +37,7 @@ def check_topology(circuit: ck.Circuit) -> None:
     to ground, or a loop of voltage sources and inductors."""
     if not circuit.elements:
         raise CircuitError("the circuit has no elements")
-    touches_ground = any(ck.GROUND in getattr(e, "nodes", ()) for e in circuit.elements)
+    touches_ground = any(ck.GROUND in e.terminals() for e in circuit.elements)
     if not touches_ground:
         raise CircuitError(
             "no element connects to ground (node 0); every circuit needs a reference node: "
@@ -64,12 +46,9 @@ def check_topology(circuit: ck.Circuit) -> None:
     every_terminal = []
     dc_paths = []
     for element in circuit.elements:
-        terminals = tuple(getattr(element, "nodes", ())) + tuple(getattr(element, "control_nodes", ()))
+        terminals = element.terminals()
         every_terminal.extend((terminals[0], node) for node in terminals[1:])
-        if isinstance(element, _DC_CONDUCTING):
-            dc_paths.append(element.nodes)
-        elif isinstance(element, ck.OpAmp):  # its output is a voltage source to ground
-            dc_paths.append((element.nodes[2], ck.GROUND))
+        dc_paths.extend(element.dc_paths())
     apart = _cut_off_from_ground(circuit.nodes, every_terminal)
     if apart:
         raise CircuitError(
@@ -109,16 +88,14 @@ def _cut_off_from_ground(nodes: tuple[str, ...], edges: list[tuple[str, str]]) -
 
 def _check_voltage_loops(circuit: ck.Circuit) -> None:
     loops = _DisjointSets()
+    members: list[tuple[str, str]] = []  # (element name, one of its nodes)
     for element in circuit.elements:
-        if isinstance(element, (*_VOLTAGE_DEFINING, ck.OpAmp)):
-            a, b = (element.nodes[2], ck.GROUND) if isinstance(element, ck.OpAmp) else element.nodes
+        for a, b in element.voltage_defined():
+            members.append((element.name, a))
             if a == b or not loops.union(a, b):
-                members = [
-                    e.name for e in circuit.elements
-                    if isinstance(e, (*_VOLTAGE_DEFINING, ck.OpAmp)) and loops.find(e.nodes[0 if not isinstance(e, ck.OpAmp) else 2]) == loops.find(a)
-                ]
+                names = [name for name, node in members if loops.find(node) == loops.find(a)]
                 raise CircuitError(
                     f"{element.name} closes a loop of voltage sources, amplifier outputs and/or inductors "
-                    f"({', '.join(members[:8])}): at DC the loop's voltages over-determine each "
+                    f"({', '.join(names[:8])}): at DC the loop's voltages over-determine each "
                     "other. Add the series resistance the real parts have"
                 )

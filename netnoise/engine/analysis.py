@@ -291,7 +291,9 @@ def analyze(
         frequency_Hz=shown.grid_Hz,
         source_names=tuple(s.name for s in sources.sources),
         source_mechanisms=tuple(s.mechanism for s in sources.sources),
-        source_values=tuple(s.value for s in sources.sources),
+        source_values=np.array([s.value for s in sources.sources], dtype=float),
+        source_units=tuple(s.unit for s in sources.sources),
+        source_details=tuple(s.details for s in sources.sources),
         source_elements=tuple(s.element for s in sources.sources),
         source_density=source_density,
         source_variance=source_variance,
@@ -403,7 +405,7 @@ def _noise_figure(problem: _Problem, name: str, variance: np.ndarray, density: n
         element = problem.system.circuit.element(name)
     except KeyError:
         raise UsageError(f"source resistor '{name}' does not exist in the circuit") from None
-    if not isinstance(element, ck.Resistor):
+    if type(element).letter != "R":
         raise UsageError(f"source resistor '{name}' is a {type(element).__name__}, not a resistor")
     found = [i for i, s in enumerate(sources) if s.mechanism == "thermal" and ck.name_key(s.element) == key]
     if not found or variance[found[0]] <= 0.0:

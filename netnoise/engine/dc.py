@@ -34,17 +34,11 @@ class OperatingPoint:
 
 
 def dc_excitation(system: MnaSystem) -> np.ndarray:
-    """Right-hand side of the DC equations."""
+    """Right-hand side of the DC equations: every element's DC excitation."""
     b = np.zeros(system.size)
+    stamps = system.stamps
     for element in system.circuit.elements:
-        if isinstance(element, ck.VoltageSource):
-            b[system.branch_index[ck.name_key(element.name)]] += element.dc
-        elif isinstance(element, ck.CurrentSource):
-            a, c = (system.node_row(n) for n in element.nodes)
-            if a >= 0:
-                b[a] -= element.dc
-            if c >= 0:
-                b[c] += element.dc
+        element.stamp_dc(stamps, b)
     return b
 
 
@@ -69,36 +63,30 @@ def operating_point(circuit: ck.Circuit) -> OperatingPoint:
     system = assemble(circuit)
     x = solve_operating_point(system)
 
-    def v(node: str) -> float:
-        row = system.node_row(node)
-        return float(x[row]) if row >= 0 else 0.0
-
-    def branch(name: str) -> float:
-        return float(x[system.branch_index[ck.name_key(name)]])
-
+    view = _Solution(system, x)
     currents: dict[str, float] = {}
     voltages: dict[str, float] = {}
     for element in circuit.elements:
-        if isinstance(element, ck.MutualCoupling):
+        current = element.dc_current(view)
+        if current is None:
             continue
-        if isinstance(element, ck.OpAmp):
-            voltages[element.name] = v(element.nodes[2])
-            currents[element.name] = branch(element.name)
-            continue
-        across = v(element.nodes[0]) - v(element.nodes[1])
-        voltages[element.name] = across
-        if isinstance(element, ck.Resistor):
-            currents[element.name] = across / element.resistance
-        elif isinstance(element, ck.Capacitor):
-            currents[element.name] = 0.0
-        elif isinstance(element, ck.CurrentSource):
-            currents[element.name] = element.dc
-        elif isinstance(element, ck.VoltageControlledCurrentSource):
-            c, d = element.control_nodes
-            currents[element.name] = element.transconductance * (v(c) - v(d))
-        elif isinstance(element, ck.CurrentControlledCurrentSource):
-            currents[element.name] = element.gain * branch(element.control_source)
-        else:  # V, E, H, L: their branch current is an unknown
-            currents[element.name] = branch(element.name)
-    nodes = {node: v(node) for node in system.node_index}
+        currents[element.name] = current
+        voltages[element.name] = element.dc_voltage(view)
+    nodes = {node: view.v(node) for node in system.node_index}
     return OperatingPoint(node_voltages=nodes, element_currents=currents, element_voltages=voltages)
+
+
+class _Solution:
+    """A solution vector seen by node and element."""
+
+    def __init__(self, system: MnaSystem, x: np.ndarray) -> None:
+        self.system = system
+        self.x = x
+
+    def v(self, node: str) -> float:
+        row = self.system.node_row(node)
+        return float(self.x[row]) if row >= 0 else 0.0
+
+    def branch_current(self, element) -> float:
+        name = element if isinstance(element, str) else element.name
+        return float(self.x[self.system.branch_index[ck.name_key(name)]])

@@ -1,72 +1,32 @@
-"""Noise sources of a circuit, as injections into the MNA equations.
+"""Noise sources of a circuit, stacked as injections into the MNA equations.
 
 Each source ``k`` is a column ``B[:, k]`` of the injection matrix (a unit
 noise current between two nodes, or a unit noise voltage in a branch row)
 with a one-sided power density ``S_k(f) = W_k + F_k · (1 Hz / f)^α_k``
 (A²/Hz or V²/Hz): a white level ``W_k`` and a 1/f^α part of density
-``F_k`` at 1 Hz (a part with corner fc has ``F = W · fc^α``).  The output density it causes is ``|zᵀ B[:, k]|² · S_k(f)``
-where ``z`` solves the adjoint system (see :mod:`netnoise.transfer`).
-Sources are uncorrelated.
+``F_k`` at 1 Hz (a part with corner fc has ``F = W · fc^α``).  The output
+density it causes is ``|zᵀ B[:, k]|² · S_k(f)`` where ``z`` solves the
+adjoint system (see :mod:`netnoise.engine.transfer`).  Sources are
+uncorrelated.
 
-Mechanisms (the strings are fixed; they appear in the JSON):
-
-* ``thermal`` -- a resistor's Johnson–Nyquist noise, a current 4kT/R in
-  parallel with it (Johnson 1928; Nyquist 1928), at the resistor's own
-  temperature if it has one; none for a resistor marked noiseless.
-* ``excess`` -- a resistor's 1/f current noise from its noise index NI (dB re
-  1 µV per volt of DC across it per decade): a voltage density
-  (NI_lin · V_dc)² / (ln 10 · f) in series, i.e. that over R² as a current.
-* ``shot`` -- 2q|I_dc| for a current source marked as a junction current
-  (Schottky 1918).
-* ``source`` -- an explicit density given to an independent V or I source.
-* ``amplifier-voltage`` / ``amplifier-current`` -- an amplifier's input
-  voltage noise (at its first stage, equivalent to a source in series with
-  its input) and the current noise of each input to ground.
-
-Reactive elements and controlled sources are noiseless.
+Every element kind states its own sources (``Element.noise_sources``; the
+mechanisms' physics is in :mod:`netnoise.noise.mechanisms`); rows come
+grouped by mechanism, in netlist order within each.
 """
 
 from __future__ import annotations
 
-import math
 from dataclasses import dataclass
-from typing import Callable, Iterator
+from typing import Callable
 
 import numpy as np
 import scipy.sparse as sp
-from scipy import constants
 
 from netnoise import circuit as ck
-from netnoise.engformat import format_quantity
 from netnoise.engine.mna import MnaSystem
+from netnoise.noise.mechanisms import ROW_ORDER, NoiseSource
 
-__all__ = ["NoiseSource", "NoiseSources", "NoiseContext", "collect_noise_sources", "MECHANISMS", "BOLTZMANN"]
-
-BOLTZMANN = constants.Boltzmann  # J/K, exact SI value
-ELEMENTARY_CHARGE = constants.e  # C, exact SI value
-ZERO_CELSIUS_K = 273.15
-
-
-@dataclass(frozen=True)
-class NoiseSource:
-    """One noise generator: where it enters the equations and how strong it is.
-
-    ``name`` labels its row in the budget (the element name, with a suffix
-    where one element has several sources); ``element`` is the element.
-    ``injection`` lists (row, coefficient) pairs of its unit excitation.
-    Density ``white_density + flicker_at_1Hz · (1 Hz / f)^slope``, in A²/Hz
-    or V²/Hz as its injection is a current or a voltage.
-    """
-
-    name: str
-    element: str
-    mechanism: str
-    value: str
-    injection: tuple[tuple[int, float], ...]
-    white_density: float
-    flicker_at_1Hz: float = 0.0
-    slope: float = 1.0
-    temperature_K: float | None = None  # thermal sources: the temperature used
+__all__ = ["NoiseSource", "NoiseSources", "NoiseContext", "collect_noise_sources"]
 
 
 @dataclass(frozen=True, eq=False)
@@ -108,160 +68,37 @@ class NoiseSources:
 
 @dataclass(frozen=True, eq=False)
 class NoiseContext:
-    """What the mechanisms need: the system, the analysis temperature (K)
-    and, on demand, the DC solution vector."""
+    """What the element kinds need to state their noise (see
+    :class:`netnoise.circuit.elements.base.NoiseView`): rows of the system,
+    the analysis temperature (K) and, on demand, the DC solution vector."""
 
     system: MnaSystem
     temperature_K: float
     dc_solution: Callable[[], np.ndarray]
 
-    def dc_voltage(self, nodes: tuple[str, str]) -> float:
+    def node(self, name: str) -> int:
+        return self.system.node_row(name)
+
+    def branch(self, element) -> int:
+        return self.system.branch_index[ck.name_key(element.name)]
+
+    def internal(self, element, label: str) -> int:
+        return self.system.internal_index[f"{ck.name_key(element.name)}#{label}"]
+
+    def current_between(self, a: str, b: str) -> tuple[tuple[int, float], ...]:
+        """Injection of a noise current in parallel with nodes ``a`` and ``b``:
+        +1 at a's row, -1 at b's (ground rows left out)."""
+        rows = []
+        for node, sign in ((a, 1.0), (b, -1.0)):
+            row = self.system.node_row(node)
+            if row >= 0:
+                rows.append((row, sign))
+        return tuple(rows)
+
+    def dc_voltage(self, a: str, b: str) -> float:
         x = self.dc_solution()
-        a, b = (self.system.node_row(n) for n in nodes)
-        return float((x[a] if a >= 0 else 0.0) - (x[b] if b >= 0 else 0.0))
-
-
-def _current_between(system: MnaSystem, nodes) -> tuple[tuple[int, float], ...]:
-    rows = []
-    for node, sign in zip(nodes, (1.0, -1.0)):
-        row = system.node_row(node)
-        if row >= 0:
-            rows.append((row, sign))
-    return tuple(rows)
-
-
-def thermal_sources(ctx: NoiseContext) -> Iterator[NoiseSource]:
-    """Johnson–Nyquist current noise 4kT/R of every resistor not marked noiseless."""
-    for element in ctx.system.circuit.elements:
-        if isinstance(element, ck.Resistor) and not element.noiseless:
-            injection = _current_between(ctx.system, element.nodes)
-            if not injection:  # both ends on ground: it cannot reach the output
-                continue
-            t = ctx.temperature_K if element.temperature_celsius is None else element.temperature_celsius + ZERO_CELSIUS_K
-            yield NoiseSource(
-                name=element.name,
-                element=element.name,
-                mechanism="thermal",
-                value=format_quantity(element.resistance, "Ω"),
-                injection=injection,
-                white_density=4.0 * BOLTZMANN * t / element.resistance,
-                temperature_K=t,
-            )
-
-
-def excess_sources(ctx: NoiseContext) -> Iterator[NoiseSource]:
-    """1/f excess noise of resistors with a noise index, from their DC voltage."""
-    for element in ctx.system.circuit.elements:
-        if isinstance(element, ck.Resistor) and element.noise_index_dB is not None and not element.noiseless:
-            injection = _current_between(ctx.system, element.nodes)
-            v_dc = ctx.dc_voltage(element.nodes)
-            if not injection or v_dc == 0.0:
-                continue
-            per_volt = 10.0 ** (element.noise_index_dB / 20.0) * 1e-6  # V rms per V of DC, per decade
-            # voltage density K/f with ∫_f^{10f} K/f df = K·ln 10 = (per_volt·V_dc)²;
-            # in parallel as a current: K/R²
-            k_voltage = (per_volt * v_dc) ** 2 / math.log(10.0)
-            yield NoiseSource(
-                name=f"{element.name} (excess)",
-                element=element.name,
-                mechanism="excess",
-                value=f"{format_quantity(element.resistance, 'Ω')}, NI {element.noise_index_dB:g} dB at {format_quantity(abs(v_dc), 'V')}",
-                injection=injection,
-                white_density=0.0,
-                flicker_at_1Hz=k_voltage / element.resistance**2,
-            )
-
-
-def shot_sources(ctx: NoiseContext) -> Iterator[NoiseSource]:
-    """Shot noise 2q|I| of current sources marked as junction currents (Schottky 1918)."""
-    for element in ctx.system.circuit.elements:
-        if isinstance(element, ck.CurrentSource) and element.shot:
-            injection = _current_between(ctx.system, element.nodes)
-            if injection and element.dc != 0.0:
-                yield NoiseSource(
-                    name=element.name,
-                    element=element.name,
-                    mechanism="shot",
-                    value=format_quantity(element.dc, "A") + " DC",
-                    injection=injection,
-                    white_density=2.0 * ELEMENTARY_CHARGE * abs(element.dc),
-                )
-
-
-def _spec_density(spec: ck.NoiseSpec) -> tuple[float, float, float]:
-    white = spec.white**2
-    return white, white * spec.corner_Hz**spec.slope if spec.corner_Hz > 0 else 0.0, spec.slope
-
-
-def explicit_sources(ctx: NoiseContext) -> Iterator[NoiseSource]:
-    """Densities given in the netlist to independent V (in series) and I sources."""
-    for element in ctx.system.circuit.elements:
-        spec = getattr(element, "noise", None)
-        if spec is None or spec.white <= 0.0:
-            continue
-        if isinstance(element, ck.VoltageSource):
-            injection = ((ctx.system.branch_index[ck.name_key(element.name)], 1.0),)
-            unit = "V/√Hz"
-        else:
-            injection = _current_between(ctx.system, element.nodes)
-            unit = "A/√Hz"
-        white, flicker, slope = _spec_density(spec)
-        corner = f", corner {format_quantity(spec.corner_Hz, 'Hz')}" if spec.corner_Hz > 0 else ""
-        shot_too = isinstance(element, ck.CurrentSource) and element.shot
-        yield NoiseSource(
-            name=f"{element.name} (noise)" if shot_too else element.name,
-            element=element.name,
-            mechanism="source",
-            value=format_quantity(spec.white, unit) + corner,
-            injection=injection,
-            white_density=white,
-            flicker_at_1Hz=flicker,
-            slope=slope,
-        )
-
-
-def amplifier_sources(ctx: NoiseContext) -> Iterator[NoiseSource]:
-    """Input voltage noise and the two input current noises of each amplifier."""
-    system = ctx.system
-    for element in system.circuit.elements:
-        if not isinstance(element, ck.OpAmp):
-            continue
-        model = element.model
-        if model.voltage_noise > 0:
-            white = model.voltage_noise**2
-            p1 = system.internal_index[f"{ck.name_key(element.name)}#p1"]
-            yield NoiseSource(
-                name=f"{element.name} (voltage)",
-                element=element.name,
-                mechanism="amplifier-voltage",
-                value=f"{model.name}: {format_quantity(model.voltage_noise, 'V/√Hz')}",
-                injection=((p1, system.amplifier_input_transconductance(element)),),
-                white_density=white,
-                flicker_at_1Hz=white * model.voltage_noise_corner_Hz,
-            )
-        if model.current_noise > 0:
-            white = model.current_noise**2
-            for pin, label in zip(element.nodes[:2], ("in+", "in-")):
-                injection = _current_between(system, (pin, ck.GROUND))
-                if injection:
-                    yield NoiseSource(
-                        name=f"{element.name} ({label})",
-                        element=element.name,
-                        mechanism="amplifier-current",
-                        value=f"{model.name}: {format_quantity(model.current_noise, 'A/√Hz')}",
-                        injection=injection,
-                        white_density=white,
-                        flicker_at_1Hz=white * model.current_noise_corner_Hz,
-                    )
-
-
-MECHANISMS: tuple[Callable[[NoiseContext], Iterator[NoiseSource]], ...] = (
-    thermal_sources,
-    excess_sources,
-    shot_sources,
-    explicit_sources,
-    amplifier_sources,
-)
+        ra, rb = self.system.node_row(a), self.system.node_row(b)
+        return float((x[ra] if ra >= 0 else 0.0) - (x[rb] if rb >= 0 else 0.0))
 
 
 def collect_noise_sources(
@@ -269,8 +106,8 @@ def collect_noise_sources(
 ) -> NoiseSources:
     """Every noise source of the circuit at ``temperature_K`` kelvin.
 
-    ``dc_solution`` returns the DC solution vector; it is called only if a
-    mechanism needs it (excess noise).
+    ``dc_solution`` returns the DC solution vector; it is called only if an
+    element's noise needs it (excess noise).
     """
     if dc_solution is None:
         from netnoise.engine.dc import solve_operating_point
@@ -279,7 +116,9 @@ def collect_noise_sources(
             return solve_operating_point(system)
 
     ctx = NoiseContext(system=system, temperature_K=temperature_K, dc_solution=_once(dc_solution))
-    sources = tuple(s for mechanism in MECHANISMS for s in mechanism(ctx))
+    found = [s for element in system.circuit.elements for s in element.noise_sources(ctx)]
+    found.sort(key=lambda s: ROW_ORDER[s.mechanism])  # stable: netlist order within a mechanism
+    sources = tuple(found)
     rows, cols, vals = [], [], []
     for k, source in enumerate(sources):
         for row, coefficient in source.injection:

@@ -31,50 +31,38 @@ from dataclasses import dataclass, field
 from pathlib import Path
 
 from netnoise import circuit as c
+from netnoise.constants import ABSOLUTE_ZERO_C, GROUND_ALIASES
 from netnoise.errors import NetlistError, SourceLocation
-from netnoise.text.expressions import CONSTANTS, evaluate
-from netnoise.netlist.parser import (
+from netnoise.circuit.elements.amplifier import OpAmp
+from netnoise.text.expressions import CONSTANTS, evaluate, referenced_names
+from netnoise.netlist.statements import (
     AcCard,
     Assignment,
-    Coupling,
-    CurrentControlled,
     EndsCard,
     IncludeCard,
-    IndependentSource,
     Instance,
     ModelCard,
     NoiseCard,
-    OPAMP_PARAMS,
     OptionsCard,
     ParamCard,
     ParsedFile,
-    Passive,
     Statement,
     SubcktCard,
     Sweep,
     TempCard,
     Value,
-    VoltageControlled,
     Word,
-    check_opamp_param,
-    parse_statements,
 )
+from netnoise.circuit.elements.amplifier import check_opamp_param
+from netnoise.netlist.parser import parse_statements
 from netnoise.text.fields import shown
 from netnoise.text.source import bounded, read_netlist_text
-from netnoise.text.values import milli_slip_notice
 
-__all__ = ["MAX_INCLUDE_DEPTH", "GROUND_ALIASES", "NOISE_INDEX_PLAUSIBLE_DB", "elaborate"]
-
-# Noise indices of real resistors, dB re 1 µV/V per decade: from about -40 dB (metal foil,
-# wirewound) to about +20 dB (carbon composition) -- from memory of manufacturers' data, widened
-# by 10 dB each way. Outside it the value is almost surely a slip; it is used, with a notice.
-NOISE_INDEX_PLAUSIBLE_DB = (-50.0, 30.0)
+__all__ = ["MAX_INCLUDE_DEPTH", "GROUND_ALIASES", "elaborate"]
 
 MAX_INCLUDE_DEPTH = 16
-GROUND_ALIASES = frozenset({"0", "gnd"})
 _TOP_LEVEL_ONLY = (TempCard, AcCard, NoiseCard, OptionsCard)
 _CARD_NAMES = {TempCard: ".temp", AcCard: ".ac", NoiseCard: ".noise", OptionsCard: ".options"}
-ABSOLUTE_ZERO_CELSIUS = -273.15
 
 
 def _fail(message: str, location: SourceLocation | None, hint: str = "") -> NetlistError:
@@ -272,6 +260,7 @@ class _Scope:
     pin_map: dict[str, str]
     params: dict[str, float] = field(default_factory=dict)
     param_origin: dict[str, SourceLocation] = field(default_factory=dict)
+    overridden: set[str] = field(default_factory=set)  # parameters set on the instance's X line
 
     def visible(self) -> dict[str, float]:
         chain: list[_Scope] = []
@@ -306,8 +295,67 @@ class _Pending:
     owner: str
 
 
+class _BuildContext:
+    """What an element kind sees while it builds itself (see
+    :class:`netnoise.circuit.elements.base.BuildContext`)."""
+
+    def __init__(self, engine: "_Elaborator", scope: _Scope, name: str, loc: SourceLocation) -> None:
+        self.engine = engine
+        self.scope = scope
+        self.name = name
+        self.loc = loc
+        self._refs: list[tuple[Word, str, type, str, str]] = []
+
+    def number(self, value: Value) -> float:
+        return self.engine.number(value, self.scope)
+
+    def node(self, word: Word) -> str:
+        return self.scope.node(word)
+
+    def local_name(self, word: Word) -> str:
+        return self.scope.element_prefix + word.text
+
+    def refer(self, word: Word, full_name: str, wanted: type, what: str, slot: str) -> None:
+        self._refs.append((word, full_name, wanted, what, slot))
+
+    def notice(self, text: str, loc: SourceLocation | None = None) -> None:
+        self.engine.notices.append(f"{_where(loc or self.loc)}: {text}")
+
+    def fail(self, message: str, loc: SourceLocation | None, hint: str = "") -> NetlistError:
+        return _fail(message, loc, hint)
+
+    def settle(self, index: int) -> None:
+        """The element now has an index: its references are checked once all exist."""
+        for word, full_name, wanted, what, slot in self._refs:
+            self.engine.pending.append(_Pending(index, word, full_name, wanted, what, slot, self.name))
+
+
+def _origin(value: Value, scope: _Scope) -> c.ValueOrigin:
+    """Where a value came from: a literal, one parameter, an expression, or an X-line override."""
+    if value.number is not None:
+        return c.ValueOrigin("literal", value.text, (), value.loc)
+    names = tuple(sorted(referenced_names(value.tree)))
+    tree = value.tree
+    single = getattr(tree, "data", None) == "name" or (not hasattr(tree, "data") and len(names) == 1)
+    kind = "param" if single and len(names) == 1 else "expression"
+    if any(name in scope.overridden for name in names):
+        kind = "override"
+    return c.ValueOrigin(kind, _expression_text(value), names, value.loc)
+
+
+def _expression_text(value: Value) -> str:
+    meta = getattr(value.tree, "meta", None)
+    source = value.source
+    if source is None or meta is None or getattr(meta, "empty", True) or meta.line != meta.end_line:
+        return value.text
+    line = source.lines[meta.line - 1] if 0 < meta.line <= len(source.lines) else ""
+    return "{" + line[meta.column - 1 : meta.end_column - 1] + "}"
+
+
 class _Elaborator:
-    def __init__(self, notices: list[str]) -> None:
+    def __init__(self, notices: list[str], param_overrides: dict[str, float] | None = None) -> None:
+        self.param_overrides = param_overrides or {}
+        self.origins: dict[str, c.ValueOrigin] = {}
         self.elements: list[c.Element] = []
         self.by_key: dict[str, tuple[c.Element, SourceLocation]] = {}
         self.pending: list[_Pending] = []
@@ -326,7 +374,8 @@ class _Elaborator:
         return result
 
     def define_params(self, assignments: tuple[Assignment, ...], scope: _Scope, where: _Scope) -> None:
-        """Set each assignment in ``scope``, evaluating it in ``where``."""
+        """Set each assignment in ``scope``, evaluating it in ``where``; at the
+        top level a value in ``self.param_overrides`` replaces the written one."""
         for assignment in assignments:
             key = assignment.name.lower()
             if key in CONSTANTS:
@@ -337,7 +386,10 @@ class _Elaborator:
                     assignment.loc,
                     f"the first definition is at {_where(scope.param_origin[key])}",
                 )
-            scope.params[key] = self.number(assignment.value, where)
+            if scope.parent is None and key in self.param_overrides:
+                scope.params[key] = self.param_overrides[key]
+            else:
+                scope.params[key] = self.number(assignment.value, where)
             scope.param_origin[key] = assignment.loc
 
     # ---- elements
@@ -366,137 +418,15 @@ class _Elaborator:
                 self.element(statement, scope)
 
     def element(self, statement: Statement, scope: _Scope) -> None:
+        kind = statement.kind  # type: ignore[union-attr]
         name = scope.element_prefix + statement.name  # type: ignore[union-attr]
-        loc = statement.loc
-        if isinstance(statement, Passive):
-            nodes = (scope.node(statement.nodes[0]), scope.node(statement.nodes[1]))
-            value = self.number(statement.value, scope)
-            if statement.letter == "R":
-                if statement.value.number is not None and value < 1.0:
-                    notice = milli_slip_notice(name, statement.value.text, value)
-                    if notice:
-                        self.notices.append(f"{_where(statement.value.loc)}: {notice}")
-                if statement.noiseless or statement.temperature is not None or statement.noise_index is not None:
-                    self.add(self.resistor(statement, name, nodes, value, scope), loc)
-                else:
-                    self.add(c.Resistor(name, nodes, loc, resistance=value), loc)
-            elif statement.letter == "C":
-                self.add(c.Capacitor(name, nodes, loc, capacitance=value), loc)
-            else:
-                self.add(c.Inductor(name, nodes, loc, inductance=value), loc)
-        elif isinstance(statement, Coupling):
-            k = self.number(statement.value, scope)
-            if not 0 < abs(k) <= 1:
-                raise _fail(
-                    f"the coupling coefficient of {name} must satisfy 0 < |k| <= 1, not {k:g}",
-                    statement.value.loc,
-                )
-            first, second = (scope.element_prefix + w.text for w in statement.inductors)
-            index = self.add(c.MutualCoupling(name, (first, second), k, loc), loc)
-            for slot, word, full in (("inductors0", statement.inductors[0], first), ("inductors1", statement.inductors[1], second)):
-                self.pending.append(_Pending(index, word, full, c.Inductor, "inductor", slot, name))
-        elif isinstance(statement, IndependentSource):
-            nodes = (scope.node(statement.nodes[0]), scope.node(statement.nodes[1]))
-            dc = self.number(statement.dc, scope) if statement.dc else 0.0
-            magnitude = 0.0
-            if statement.has_ac:
-                magnitude = self.number(statement.ac_magnitude, scope) if statement.ac_magnitude else 1.0
-            phase = self.number(statement.ac_phase, scope) if statement.ac_phase else 0.0
-            if statement.waveform:
-                self.notices.append(
-                    f"{_where(loc)}: {name}: the {statement.waveform}(...) waveform is ignored; "
-                    "noise analysis works on the small-signal circuit"
-                )
-            noise = self.noise_spec(statement, name, scope)
-            if statement.letter == "V":
-                self.add(c.VoltageSource(name, nodes, loc, dc=dc, ac_magnitude=magnitude, ac_phase=phase, noise=noise), loc)
-            else:
-                self.add(
-                    c.CurrentSource(
-                        name, nodes, loc, dc=dc, ac_magnitude=magnitude, ac_phase=phase, noise=noise, shot=statement.shot
-                    ),
-                    loc,
-                )
-        elif isinstance(statement, VoltageControlled):
-            nodes = (scope.node(statement.nodes[0]), scope.node(statement.nodes[1]))
-            control = (scope.node(statement.control_nodes[0]), scope.node(statement.control_nodes[1]))
-            gain = self.number(statement.gain, scope)
-            if statement.letter == "E":
-                self.add(c.VoltageControlledVoltageSource(name, nodes, loc, control_nodes=control, gain=gain), loc)
-            else:
-                self.add(
-                    c.VoltageControlledCurrentSource(name, nodes, loc, control_nodes=control, transconductance=gain),
-                    loc,
-                )
-        elif isinstance(statement, CurrentControlled):
-            nodes = (scope.node(statement.nodes[0]), scope.node(statement.nodes[1]))
-            gain = self.number(statement.gain, scope)
-            control = scope.element_prefix + statement.control.text
-            if statement.letter == "F":
-                element: c.Element = c.CurrentControlledCurrentSource(
-                    name, nodes, loc, control_source=control, gain=gain
-                )
-            else:
-                element = c.CurrentControlledVoltageSource(name, nodes, loc, control_source=control, transresistance=gain)
-            index = self.add(element, loc)
-            self.pending.append(
-                _Pending(index, statement.control, control, c.VoltageSource, "voltage source", "control_source", name)
-            )
-
-    def resistor(self, statement: Passive, name: str, nodes: tuple[str, str], value: float, scope: _Scope) -> c.Resistor:
-        temperature = None
-        if statement.temperature is not None:
-            temperature = self.number(statement.temperature, scope)
-            if temperature <= ABSOLUTE_ZERO_CELSIUS:
-                raise _fail(
-                    f"{name}: temp={temperature:g} °C is at or below absolute zero (-273.15 °C)",
-                    statement.temperature.loc,
-                    "temp= is the resistor's own temperature in degrees Celsius",
-                )
-        noise_index = self.number(statement.noise_index, scope) if statement.noise_index is not None else None
-        if noise_index is not None and not NOISE_INDEX_PLAUSIBLE_DB[0] <= noise_index <= NOISE_INDEX_PLAUSIBLE_DB[1]:
-            low, high = NOISE_INDEX_PLAUSIBLE_DB
-            self.notices.append(
-                f"{_where(statement.noise_index.loc)}: {name}: noise index ni={noise_index:g} dB is outside "
-                f"{low:g} .. +{high:g} dB, where resistors' noise indices lie; check the value "
-                f"(it is dB re 1 µV per volt per decade)"
-            )
-        return c.Resistor(
-            name,
-            nodes,
-            statement.loc,
-            resistance=value,
-            noiseless=statement.noiseless,
-            temperature_celsius=temperature,
-            noise_index_dB=noise_index,
-        )
-
-    def noise_spec(self, statement: IndependentSource, name: str, scope: _Scope) -> c.NoiseSpec | None:
-        if statement.noise is None:
-            return None
-        unit = "V/√Hz" if statement.letter == "V" else "A/√Hz"
-        white = self.number(statement.noise, scope)
-        if white < 0:
-            raise _fail(f"{name}: the noise density cannot be negative ({white:g} {unit})", statement.noise.loc)
-        corner = 0.0
-        if statement.corner is not None:
-            corner = self.number(statement.corner, scope)
-            if corner < 0:
-                raise _fail(
-                    f"{name}: the noise corner cannot be negative ({corner:g} Hz)",
-                    statement.corner.loc,
-                    "corner=0 (or no corner=) means white noise only",
-                )
-        slope = 1.0
-        if statement.slope is not None:
-            slope = self.number(statement.slope, scope)
-            if not 0 < slope <= 3:
-                raise _fail(
-                    f"{name}: the noise slope must satisfy 0 < slope <= 3, not {slope:g}",
-                    statement.slope.loc,
-                    "slope=1 is 1/f noise, slope=2 is 1/f² (random walk)",
-                )
-        return c.NoiseSpec(white, corner, slope)
+        ctx = _BuildContext(self, scope, name, statement.loc)
+        element = kind.build(statement, ctx)
+        index = self.add(element, statement.loc)
+        ctx.settle(index)
+        value = getattr(statement, kind.statement_value, None) if kind.statement_value else None
+        if value is not None:
+            self.origins[c.name_key(name)] = _origin(value, scope)
 
     def opamp(self, statement: Instance, scope: _Scope, model: ModelCard, home: _Definition) -> None:
         name = scope.element_prefix + statement.name
@@ -524,18 +454,9 @@ class _Elaborator:
                 raise _fail(f"parameter '{assignment.name}' is given twice on {name}", assignment.loc)
             given.add(key)
             values[key] = (self.number(assignment.value, scope), assignment.value)
-        fields: dict[str, float] = {}
-        for key, (number, value) in values.items():
-            field_name, what = OPAMP_PARAMS[key]
-            if key in ("aol", "gbw", "fp2"):
-                if number <= 0:
-                    raise _fail(f"{name}: {key} ({what}) must be above 0, not {number:g}", value.loc)
-            elif number < 0:
-                raise _fail(f"{name}: {key} ({what}) cannot be negative ({number:g})", value.loc)
-            fields[field_name] = number
-        amplifier = c.OpAmpModel(name=model.name.text, **fields)
-        nodes = (scope.node(statement.nodes[0]), scope.node(statement.nodes[1]), scope.node(statement.nodes[2]))
-        self.add(c.OpAmp(name, nodes, amplifier, statement.loc), statement.loc)
+        ctx = _BuildContext(self, scope, name, statement.loc)
+        self.add(OpAmp.build_instance(statement, ctx, model.name.text, values), statement.loc)
+
 
     def instance(self, statement: Instance, scope: _Scope) -> None:
         key = statement.subckt.text.lower()
@@ -603,6 +524,7 @@ class _Elaborator:
             okey = default.name.lower()
             if okey in overrides:  # written on the X line: evaluated where that line is
                 inner.params[okey] = self.number(overrides[okey].value, scope)
+                inner.overridden.add(okey)
             else:
                 with _naming_instance(within):
                     inner.params[okey] = self.number(default.value, inner)
@@ -691,8 +613,8 @@ def _noise_card(card: NoiseCard, engine: _Elaborator, scope: _Scope, nodes: set[
     source_name = None
     if card.source is not None:
         found = engine.by_key.get(c.name_key(card.source.text))
-        if found is None or not isinstance(found[0], (c.VoltageSource, c.CurrentSource)):
-            sources = [e.name for e, _ in engine.by_key.values() if isinstance(e, (c.VoltageSource, c.CurrentSource))]
+        if found is None or not found[0].can_drive:
+            sources = [e.name for e, _ in engine.by_key.values() if e.can_drive]
             close = difflib.get_close_matches(card.source.text, sources, n=3)
             hint = "did you mean " + " or ".join(f"'{n}'" for n in close) + "?" if close else ""
             raise _fail(
@@ -733,13 +655,20 @@ def elaborate(parsed: ParsedFile, base_dir: Path, source_file: str = "<text>", o
     """The flat circuit described by ``parsed`` (a top-level file).
 
     ``base_dir`` is where its ``.include`` paths start; ``own_path`` (if the
-    text came from a file) lets an include cycle back to it be caught.
+    text came from a file) lets an include cycle back to it be caught.  The
+    circuit keeps the statements it was built from, so
+    :meth:`~netnoise.circuit.Circuit.with_params` builds it again with other
+    ``.param`` values without reading any text.
     """
     chain = (own_path.resolve(),) if own_path is not None else ()
     statements = _expand_includes(parsed, base_dir, chain)
     top = _build_definitions(statements)
+    return _flat_circuit(parsed, top, source_file, {})
+
+
+def _flat_circuit(parsed: ParsedFile, top: _Definition, source_file: str, overrides: dict[str, float]) -> c.Circuit:
     notices: list[str] = []
-    engine = _Elaborator(notices)
+    engine = _Elaborator(notices, overrides)
     scope = _Scope(top, None, "", "", {})
     engine.expand(scope)
     engine.resolve()
@@ -750,19 +679,22 @@ def elaborate(parsed: ParsedFile, base_dir: Path, source_file: str = "<text>", o
     temp_card = _one(top.body, TempCard)
     if temp_card is not None:
         temperature = engine.number(temp_card.value, scope)  # type: ignore[union-attr]
-        if temperature <= ABSOLUTE_ZERO_CELSIUS:
+        if temperature <= ABSOLUTE_ZERO_C:
             raise _fail(
                 f"{temperature:g} °C is at or below absolute zero (-273.15 °C)",
                 temp_card.value.loc,  # type: ignore[union-attr]
             )
     ac_card = _one(top.body, AcCard)
     ac_sweep = _sweep(ac_card.sweep, engine, scope) if ac_card is not None else None  # type: ignore[union-attr]
-    circuit_nodes = {n for e in engine.elements for n in (*getattr(e, "nodes", ()), *getattr(e, "control_nodes", ()))}
+    circuit_nodes = {n for e in engine.elements for n in e.terminals()}
     noise = _one(top.body, NoiseCard)
     noise_card = _noise_card(noise, engine, scope, circuit_nodes) if noise is not None else None  # type: ignore[arg-type]
     for statement in top.body:
         if isinstance(statement, OptionsCard):
             notices.append(f"{_where(statement.loc)}: .options ignored: netnoise has no simulator options to set")
+
+    def rebuild(new_overrides):
+        return _flat_circuit(parsed, top, source_file, {**overrides, **new_overrides})
 
     return c.Circuit(
         title=parsed.title,
@@ -772,4 +704,7 @@ def elaborate(parsed: ParsedFile, base_dir: Path, source_file: str = "<text>", o
         ac_sweep=ac_sweep,
         notices=tuple(dict.fromkeys(notices)),
         source_file=source_file,
+        parameters=dict(scope.params),
+        value_origins=engine.origins,
+        rebuild=rebuild,
     )

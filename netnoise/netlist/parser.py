@@ -8,18 +8,22 @@ element letters are not case sensitive.
 
 from __future__ import annotations
 
+__all__ = ["parse_statements", "OPAMP_PARAMS", "SUPPORTED_LETTERS", "SUPPORTED_CARDS", "check_opamp_param"]
+
 from lark import Token, Tree
 
 from netnoise.errors import SourceLocation
-from netnoise.netlist.statements import *  # noqa: F401,F403
 from netnoise.netlist.statements import (
-    AcCard, Assignment, Coupling, CurrentControlled, EndsCard, IncludeCard, IndependentSource, Instance,
+    AcCard, Assignment, EndsCard, IncludeCard, Instance,
     ModelCard, NoiseCard, OptionsCard, ParamCard, ParsedFile, Passive, Statement, SubcktCard, Sweep,
-    TempCard, VoltageControlled,
+    TempCard,
 )
+from netnoise.circuit.elements.amplifier import OPAMP_PARAMS, check_opamp_param, opamp_param_list
+from netnoise.circuit.registry import LINE_LETTERS, forms, kind_for_line, kinds_for
 from netnoise.text.fields import (
+    LineReader,
     Call, Field, FieldReader, Keyed, Quoted, Value, Word, as_assignment, as_value,
-    describe, is_value, shown,
+    describe, shown,
 )
 from netnoise.text.source import SourceText, fail as _fail, prepare
 from netnoise.text.syntax import parse_tree
@@ -27,21 +31,11 @@ from netnoise.text.syntax import parse_tree
 # --------------------------------------------------------------------------
 # element lines
 
-SUPPORTED_LETTERS = "RCLKVIEGFHX"
+# --------------------------------------------------------------------------
+# element lines: each kind reads its own form (netnoise.circuit.registry)
 
-_FORMS = {
-    "R": "Rname node1 node2 value [noiseless] [temp=CELSIUS] [ni=DB]",
-    "C": "Cname node1 node2 value",
-    "L": "Lname node1 node2 value",
-    "K": "Kname Lfirst Lsecond coupling",
-    "V": "Vname node+ node- [DC] [value] [AC magnitude [phase]] [noise=V/rtHz [corner=HZ] [slope=N]]",
-    "I": "Iname node+ node- [DC] [value] [AC magnitude [phase]] [noise=A/rtHz [corner=HZ] [slope=N]] [shot]",
-    "E": "Ename out+ out- in+ in- gain",
-    "G": "Gname out+ out- in+ in- transconductance",
-    "F": "Fname out+ out- Vcontrol gain",
-    "H": "Hname out+ out- Vcontrol transresistance",
-    "X": "Xname node ... subcircuit [param=value ...]  or  Xname in+ in- out opamp_model [param=value ...]",
-}
+SUPPORTED_LETTERS = LINE_LETTERS
+X_FORM = "Xname node ... subcircuit [param=value ...]  or  Xname in+ in- out opamp_model [param=value ...]"
 
 _UNSUPPORTED = {
     "D": "diodes are not supported",
@@ -56,65 +50,6 @@ _UNSUPPORTED = {
     "O": "transmission lines are not supported",
     "U": "transmission lines are not supported",
 }
-
-_WAVEFORMS = {"sin", "pulse", "exp", "pwl", "sffm", "am"}
-_BEHAVIOURAL_KEYS = {"value", "table", "laplace", "freq", "vol", "cur"}
-
-
-class _Line:
-    """The fields of one element line, consumed left to right."""
-
-    def __init__(self, name: str, letter: str, name_word: Word, fields: list[Field]) -> None:
-        self.name = name
-        self.letter = letter
-        self.fields = fields
-        self.position = 0
-        self.last: Field = name_word  # the last field taken; its .end is where a missing one goes
-
-    @property
-    def last_end(self) -> SourceLocation:
-        return self.last.end
-
-    def form_hint(self) -> str:
-        return f"the form is: {_FORMS[self.letter]}"
-
-    def peek(self) -> Field | None:
-        return self.fields[self.position] if self.position < len(self.fields) else None
-
-    def take(self, what: str) -> Field:
-        item = self.peek()
-        if item is None:
-            raise _fail(f"{self.name} is missing its {what}", self.last_end, self.form_hint())
-        self._check_unsupported_form(item)
-        self.position += 1
-        self.last = item
-        return item
-
-    def _check_unsupported_form(self, item: Field) -> None:
-        if isinstance(item, Call) and item.name.lower() == "poly":
-            raise _fail(
-                f"{self.name}: POLY forms are not supported",
-                item.loc,
-                "netnoise takes one linear gain per controlled source",
-            )
-        if isinstance(item, Keyed) and item.key.lower() in _BEHAVIOURAL_KEYS:
-            raise _fail(f"{self.name}: behavioural sources are not supported", item.loc)
-
-    def node(self, what: str) -> Word:
-        item = self.take(what)
-        if not isinstance(item, Word):
-            raise _fail(f"expected {what} of {self.name} here, not {describe(item)}", item.loc, self.form_hint())
-        return item
-
-    def value(self, what: str) -> Value:
-        item = self.take(what)
-        return as_value(item, f"{what} of {self.name}")
-
-    def done(self) -> None:
-        item = self.peek()
-        if item is not None:
-            self._check_unsupported_form(item)
-            raise _fail(f"unexpected extra field {describe(item)} on {self.name}", item.loc, self.form_hint())
 
 
 def _element(tree: Tree, fields: FieldReader) -> Statement:
@@ -131,9 +66,12 @@ def _plain_element(token: Token, fields: FieldReader) -> Statement:
     letter = name[0].upper()
     if letter in "RCL" and len(items) == 3:  # most lines of a large netlist: no options to take
         what = "value of " + name
-        return Passive(letter, name, (items[0], items[1]), as_value(items[2], what), name_word.loc)
+        return Passive(letter, name, (items[0], items[1]), as_value(items[2], what), name_word.loc, kind=_PLAIN[letter])
     _check_letter(name_word)
     return _element_statement(name_word, items)
+
+
+_PLAIN = {letter: kinds_for(letter)[0] for letter in "RCL"}
 
 
 def _check_letter(name_word: Word) -> None:
@@ -143,159 +81,24 @@ def _check_letter(name_word: Word) -> None:
         raise _fail(
             f"{name}: {reason}",
             name_word.loc,
-            "netnoise reads linear circuits: R, C, L, K, V, I, E, G, F, H and X lines",
+            "netnoise reads linear circuits: " + ", ".join(SUPPORTED_LETTERS[:-1]) + f" and {SUPPORTED_LETTERS[-1]} lines",
         )
 
 
 def _element_statement(name_word: Word, items: list[Field]) -> Statement:
-    name = name_word.text
-    letter = name[0].upper()
-    line = _Line(name, letter, name_word, items)
-    loc = name_word.loc
-    if letter in "RCL":
-        nodes = (line.node("first node"), line.node("second node"))
-        value = line.value("value")
-        if letter == "R" and line.peek() is not None:
-            return _resistor_options(line, name, nodes, value, loc)
-        line.done()
-        return Passive(letter, name, nodes, value, loc)
-    if letter == "K":
-        inductors = (line.node("first inductor name"), line.node("second inductor name"))
-        value = line.value("coupling coefficient")
-        line.done()
-        return Coupling(name, inductors, value, loc)
-    if letter in "EG":
-        nodes = (line.node("positive output node"), line.node("negative output node"))
-        control = (line.node("positive control node"), line.node("negative control node"))
-        gain = line.value("gain" if letter == "E" else "transconductance")
-        line.done()
-        return VoltageControlled(letter, name, nodes, control, gain, loc)
-    if letter in "FH":
-        nodes = (line.node("positive output node"), line.node("negative output node"))
-        control = line.node("controlling voltage source")
-        gain = line.value("gain" if letter == "F" else "transresistance")
-        line.done()
-        return CurrentControlled(letter, name, nodes, control, gain, loc)
-    if letter in "VI":
-        return _source(line, letter, name, loc)
-    return _instance(line, name, loc)
+    letter = name_word.text[0].upper()
+    if letter == "X":
+        return _instance(LineReader(name_word, items, X_FORM))
+    line = LineReader(name_word, items, forms(letter))
+    return kind_for_line(letter, line.has_key).parse(line)
 
 
-RESISTOR_KEYS = ("noiseless", "temp", "ni")
-SOURCE_NOISE_KEYS = ("noise", "corner", "slope")
-
-
-def _keyed_value(line: _Line, item: Keyed, what: str) -> Value:
-    line.take(what)
-    return as_value(item.value, f"{what} of {line.name}")
-
-
-def _resistor_options(line: _Line, name: str, nodes: tuple[Word, Word], value: Value, loc: SourceLocation) -> Passive:
-    """``noiseless``, ``temp=°C``, ``ni=dB`` after a resistor's value, in any order."""
-    noiseless = False
-    temperature: Value | None = None
-    noise_index: Value | None = None
-    hint = "after the value a resistor takes: noiseless, temp=CELSIUS, ni=DB (noise index)"
-    while (item := line.peek()) is not None:
-        if isinstance(item, Word) and item.text.lower() == "noiseless":
-            if noiseless:
-                raise _fail(f"{name} says 'noiseless' twice", item.loc)
-            line.take("noiseless")
-            noiseless = True
-            continue
-        key = item.key.lower() if isinstance(item, Keyed) else ""
-        if key == "temp":
-            if temperature is not None:
-                raise _fail(f"{name} has two temp= values", item.loc)
-            temperature = _keyed_value(line, item, "temperature")  # type: ignore[arg-type]
-        elif key == "ni":
-            if noise_index is not None:
-                raise _fail(f"{name} has two ni= values", item.loc)
-            noise_index = _keyed_value(line, item, "noise index")  # type: ignore[arg-type]
-        else:
-            line._check_unsupported_form(item)
-            raise _fail(f"unexpected extra field {describe(item)} on {name}", item.loc, hint)
-    return Passive("R", name, nodes, value, loc, noiseless, temperature, noise_index)
-
-
-
-
-
-
-def _source(line: _Line, letter: str, name: str, loc: SourceLocation) -> IndependentSource:
-    nodes = (line.node("positive node"), line.node("negative node"))
-    dc: Value | None = None
-    ac_magnitude: Value | None = None
-    ac_phase: Value | None = None
-    has_ac = False
-    waveform: str | None = None
-    noise: dict[str, Value] = {}
-    noise_at: dict[str, Keyed] = {}
-    shot = False
-    while (item := line.peek()) is not None:
-        keyword = item.text.lower() if isinstance(item, Word) else ""
-        key = item.key.lower() if isinstance(item, Keyed) else ""
-        if keyword == "dc":
-            if dc is not None:
-                raise _fail(f"{name} has two DC values", item.loc, line.form_hint())
-            line.take("DC keyword")
-            dc = line.value("DC value")
-        elif keyword == "ac":
-            if has_ac:
-                raise _fail(f"{name} has two AC specifications", item.loc, line.form_hint())
-            line.take("AC keyword")
-            has_ac = True
-            if is_value(line.peek()):
-                ac_magnitude = line.value("AC magnitude")
-                if is_value(line.peek()):
-                    ac_phase = line.value("AC phase")
-        elif keyword == "shot":
-            if letter != "I":
-                raise _fail(
-                    f"{name}: 'shot' applies to current sources only",
-                    item.loc,
-                    "mark the junction current (an I source) with shot; give a V source noise=DENSITY",
-                )
-            if shot:
-                raise _fail(f"{name} says 'shot' twice", item.loc)
-            line.take("shot")
-            shot = True
-        elif key in SOURCE_NOISE_KEYS:
-            if key in noise:
-                raise _fail(f"{name} has two {key}= values", item.loc)
-            what = {"noise": "noise density", "corner": "noise corner frequency", "slope": "noise slope"}[key]
-            noise[key] = _keyed_value(line, item, what)  # type: ignore[arg-type]
-            noise_at[key] = item  # type: ignore[assignment]
-        elif isinstance(item, Call) and item.name.lower() in _WAVEFORMS:
-            if waveform is not None:
-                raise _fail(f"{name} has two waveforms", item.loc, line.form_hint())
-            line.take("waveform")
-            waveform = item.name.upper()
-        elif dc is None and is_value(item):
-            dc = line.value("DC value")
-        else:
-            line.done()
-    if "noise" not in noise:
-        for key in ("corner", "slope"):
-            if key in noise:
-                unit = "V/√Hz" if letter == "V" else "A/√Hz"
-                raise _fail(
-                    f"{name}: {key}= shapes a noise density, but there is no noise=",
-                    noise_at[key].loc,
-                    f"add noise=DENSITY ({unit}), e.g. noise=10n {key}=...",
-                )
-    return IndependentSource(
-        letter, name, nodes, dc, ac_magnitude, ac_phase, has_ac, waveform, loc,
-        noise.get("noise"), noise.get("corner"), noise.get("slope"), shot,
-    )
-
-
-
-def _instance(line: _Line, name: str, loc: SourceLocation) -> Instance:
+def _instance(line: LineReader) -> Instance:
+    name, loc = line.name, line.loc
     words: list[Word] = []
     overrides: list[Assignment] = []
     for item in line.fields:
-        line._check_unsupported_form(item)
+        line.check_unsupported_form(item)
         if isinstance(item, Word) and not overrides:
             if item.text.lower() == "params:":
                 continue
@@ -311,6 +114,10 @@ def _instance(line: _Line, name: str, loc: SourceLocation) -> Instance:
     if not words:
         raise _fail(f"{name} is missing its subcircuit name", line.last_end, line.form_hint())
     return Instance(name, tuple(words[:-1]), words[-1], tuple(overrides), loc)
+
+
+# --------------------------------------------------------------------------
+# dot-cards
 
 
 # --------------------------------------------------------------------------
@@ -455,19 +262,6 @@ def _noise(card: _Card) -> NoiseCard:
     return NoiseCard(output, reference, source, sweep, card.loc)  # type: ignore[arg-type]
 
 
-# .model NAME opamp parameters: our name -> (OpAmpModel field, what it is)
-OPAMP_PARAMS: dict[str, tuple[str, str]] = {
-    "en": ("voltage_noise", "input voltage noise density, V/√Hz (white)"),
-    "en_corner": ("voltage_noise_corner_Hz", "1/f corner of en, Hz"),
-    "in": ("current_noise", "input current noise density on each input, A/√Hz (white)"),
-    "in_corner": ("current_noise_corner_Hz", "1/f corner of in, Hz"),
-    "aol": ("open_loop_gain", "open-loop DC gain, V/V"),
-    "gbw": ("gain_bandwidth_Hz", "gain-bandwidth product, Hz"),
-    "fp2": ("second_pole_Hz", "second pole, Hz"),
-    "cin": ("input_capacitance", "common-mode capacitance of each input to ground, F"),
-    "cdiff": ("differential_capacitance", "capacitance between the inputs, F"),
-    "rout": ("output_resistance", "output resistance, Ω"),
-}
 _MODEL_FORM = ".model NAME opamp [(] en=... in=... aol=... gbw=... [)]"
 _MODEL_TYPES_REFUSED = {
     "d": "diode",
@@ -478,20 +272,6 @@ _MODEL_TYPES_REFUSED = {
     "njf": "junction FET",
     "pjf": "junction FET",
 }
-
-
-def opamp_param_list() -> str:
-    return ", ".join(OPAMP_PARAMS)
-
-
-def check_opamp_param(item: Assignment, owner: str) -> None:
-    """Refuse a parameter name that an amplifier model does not have."""
-    if item.name.lower() not in OPAMP_PARAMS:
-        raise _fail(
-            f"{owner}: an opamp model has no parameter '{shown(item.name)}'",
-            item.loc,
-            f"its parameters: {opamp_param_list()}",
-        )
 
 
 def _model(card: _Card) -> ModelCard:

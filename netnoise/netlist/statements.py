@@ -1,18 +1,25 @@
 """The statements of a netlist file: one frozen dataclass per line form,
-every field keeping its place in the file."""
+every field keeping its place in the file.  Element lines' statements are
+defined by their element kinds (:mod:`netnoise.circuit.elements`) and
+gathered here; the dot-cards' are defined here."""
 
 from __future__ import annotations
 
 from dataclasses import dataclass, field
 from typing import Union
 
+from netnoise.circuit.elements.base import Passive
+from netnoise.circuit.elements.controlled import CurrentControlled, VoltageControlled
+from netnoise.circuit.elements.coupling import Coupling
+from netnoise.circuit.elements.lossy_capacitor import LossyCapacitorLine
+from netnoise.circuit.elements.sources import IndependentSource
 from netnoise.errors import SourceLocation
 from netnoise.text.fields import Assignment, Value, Word
 from netnoise.text.source import SourceText
 
 __all__ = [
     "Sweep", "Passive", "Coupling", "IndependentSource", "VoltageControlled", "CurrentControlled", "Instance",
-    "ModelCard", "ParamCard", "SubcktCard", "EndsCard", "IncludeCard", "TempCard", "AcCard", "NoiseCard",
+    "LossyCapacitorLine", "ModelCard", "ParamCard", "SubcktCard", "EndsCard", "IncludeCard", "TempCard", "AcCard", "NoiseCard",
     "OptionsCard", "Statement", "ParsedFile",
 ]
 
@@ -25,73 +32,6 @@ class Sweep:
     points: Value
     start: Value
     stop: Value
-    loc: SourceLocation = field(compare=False)
-
-
-@dataclass(frozen=True)
-class Passive:
-    """R, C or L.  Resistors may carry ``noiseless``, ``temp=`` and ``ni=``."""
-
-    letter: str
-    name: str
-    nodes: tuple[Word, Word]
-    value: Value
-    loc: SourceLocation = field(compare=False)
-    noiseless: bool = False
-    temperature: Value | None = None  # temp=, °C
-    noise_index: Value | None = None  # ni=, dB
-
-
-@dataclass(frozen=True)
-class Coupling:
-    """K: two inductor names and a coupling coefficient."""
-
-    name: str
-    inductors: tuple[Word, Word]
-    value: Value
-    loc: SourceLocation = field(compare=False)
-
-
-@dataclass(frozen=True)
-class IndependentSource:
-    """V or I.  Absent values are None (DC 0, no AC; AC alone means 1)."""
-
-    letter: str
-    name: str
-    nodes: tuple[Word, Word]
-    dc: Value | None
-    ac_magnitude: Value | None
-    ac_phase: Value | None
-    has_ac: bool
-    waveform: str | None  # name of an ignored transient spec, e.g. 'SIN'
-    loc: SourceLocation = field(compare=False)
-    noise: Value | None = None  # noise=, V/√Hz or A/√Hz
-    corner: Value | None = None  # corner=, Hz
-    slope: Value | None = None  # slope=, the exponent of 1/f
-    shot: bool = False  # I only
-
-
-@dataclass(frozen=True)
-class VoltageControlled:
-    """E or G."""
-
-    letter: str
-    name: str
-    nodes: tuple[Word, Word]
-    control_nodes: tuple[Word, Word]
-    gain: Value
-    loc: SourceLocation = field(compare=False)
-
-
-@dataclass(frozen=True)
-class CurrentControlled:
-    """F or H: controlled by the current through a named V source."""
-
-    letter: str
-    name: str
-    nodes: tuple[Word, Word]
-    control: Word
-    gain: Value
     loc: SourceLocation = field(compare=False)
 
 
@@ -170,6 +110,7 @@ class OptionsCard:
 
 Statement = Union[
     ModelCard,
+    LossyCapacitorLine,
     Passive,
     Coupling,
     IndependentSource,

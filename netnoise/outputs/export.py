@@ -12,8 +12,9 @@ JSON shape (fixed keys; more may be added, none removed)::
      "band_Hz": {"low", "high"},            # high is null for an unbounded band
      "total_rms_V", "input_referred_rms", "input_referred_unit",
      "gain_at_max", "enbw_Hz",
-     "contributions": [{"element", "mechanism", "value", "rms_V", "share",
-                        "cumulative_share"}, ...],   # largest share first
+     "contributions": [{"source", "element", "mechanism",
+                        "value", "unit", "value_text",   # value: the number that sets the source, in unit (or null)
+                        "rms_V", "share", "cumulative_share"}, ...],   # largest share first
      "spectrum": {"frequency_Hz", "output_density_V_per_rtHz",
                   "cumulative_rms_V",
                   "input_referred_density_per_rtHz"},  # last one only with an input source
@@ -60,6 +61,7 @@ from typing import IO, TYPE_CHECKING, Any
 import numpy as np
 
 from netnoise.errors import CircuitError, UsageError
+from netnoise.outputs.labels import row_value_text
 from netnoise.outputs.report import check_finite, enob_bits
 from netnoise.results.result import NoiseResult
 
@@ -134,10 +136,10 @@ def _groups(result: NoiseResult, group_by: str) -> list[dict[str, Any]]:
     keys = result.source_elements if group_by == "element" else result.source_mechanisms
     rows = []
     for c in result.grouped(group_by):
-        members = [k for k, key in enumerate(keys) if key == c.element]
+        members = [k for k, key in enumerate(keys) if key == c.label]
         rows.append(
             {
-                "name": c.element,
+                "name": c.label,
                 "sources": [result.source_names[k] for k in members],
                 "mechanisms": list(dict.fromkeys(result.source_mechanisms[k] for k in members)),
                 "rms_V": c.rms_V,
@@ -233,9 +235,12 @@ def result_to_dict(
         "enbw_Hz": _optional(result.enbw_Hz),
         "contributions": [
             {
+                "source": c.source,
                 "element": c.element,
                 "mechanism": c.mechanism,
                 "value": c.value,
+                "unit": c.unit or None,
+                "value_text": row_value_text(c),
                 "rms_V": c.rms_V,
                 "share": c.share,
                 "cumulative_share": c.cumulative_share,
@@ -336,7 +341,7 @@ def csv_header(result: NoiseResult) -> list[str]:
     """Column names: frequency, total output density, then each source in
     rank order (all densities are output-referred amplitudes, V/√Hz), then
     the spot noise figure in dB when the result has one."""
-    names = ["frequency_Hz", "total_output_V_per_rtHz"] + [f"{c.element}_V_per_rtHz" for c in result.contributions]
+    names = ["frequency_Hz", "total_output_V_per_rtHz"] + [f"{c.source}_V_per_rtHz" for c in result.contributions]
     if result.noise_figure_spectrum_dB is not None:
         names.append(NOISE_FIGURE_COLUMN)
     return names

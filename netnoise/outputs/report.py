@@ -35,6 +35,7 @@ from typing import TYPE_CHECKING
 import numpy as np
 
 from netnoise.engformat import format_quantity
+from netnoise.outputs.labels import row_value_text, value_text
 from netnoise.errors import CircuitError, UsageError
 from netnoise.results.result import Contribution, NoiseResult
 
@@ -252,9 +253,9 @@ def _db(value: float, digits: int = 2) -> str:
 # --- noise figure -------------------------------------------------------------
 def _source_resistor_value(result: NoiseResult) -> str:
     name = result.source_resistor or ""
-    for element, value in zip(result.source_elements, result.source_values):
-        if element.lower() == name.lower() and value:
-            return value
+    for k, element in enumerate(result.source_elements):
+        if element.lower() == name.lower() and result.source_mechanisms[k] == "thermal":
+            return value_text(float(result.source_values[k]), result.source_units[k])
     return ""
 
 
@@ -440,39 +441,57 @@ def _spot_densities(result: NoiseResult) -> list[str]:
     return lines
 
 
-def _lump(rest: list[Contribution]) -> Contribution:
-    mechanisms = {c.mechanism for c in rest}
-    return Contribution(
-        element=f"({len(rest)} others)",
-        mechanism=mechanisms.pop() if len(mechanisms) == 1 else "mixed",
-        value="",
-        variance_V2=sum(c.variance_V2 for c in rest),
-        share=sum(c.share for c in rest),
-        cumulative_share=rest[-1].cumulative_share,
+def _lump(rest: list[_Row]) -> _Row:
+    mechanisms = {r.mechanism for r in rest}
+    return _Row(
+        f"({len(rest)} others)",
+        mechanisms.pop() if len(mechanisms) == 1 else "mixed",
+        "",
+        sum(r.rms_V**2 for r in rest) ** 0.5,
+        sum(r.share for r in rest),
+        rest[-1].cumulative_share,
     )
 
 
-def _element_value(result: NoiseResult, element: str, first: str) -> str:
+@dataclasses.dataclass(frozen=True)
+class _Row:
+    """A budget row as printed: its label, mechanism and value text, and its numbers."""
+
+    label: str
+    mechanism: str
+    value: str
+    rms_V: float
+    share: float
+    cumulative_share: float
+
+
+def _element_value(result: NoiseResult, element: str) -> str:
     """What an element row's value column shows: the members' common value, or
     the part before the first ': ' / ', ' they share ("lnamp: 4 nV/√Hz" and
     "lnamp: 1 pA/√Hz" -> "lnamp")."""
-    values = {v for e, v in zip(result.source_elements, result.source_values) if e == element}
+    values = {
+        value_text(float(result.source_values[k]), result.source_units[k], result.source_mechanisms[k], result.source_details[k])
+        for k, e in enumerate(result.source_elements) if e == element
+    }
     if len(values) <= 1:
-        return first
+        return values.pop() if values else ""
     heads = {v.replace(": ", ", ").split(", ")[0] for v in values}
     return heads.pop() if len(heads) == 1 else ""
 
 
-def _rows_of(result: NoiseResult, group_by: str) -> tuple[Contribution, ...]:
+def _rows_of(result: NoiseResult, group_by: str) -> tuple[_Row, ...]:
     if group_by == "source":
-        return result.contributions
+        return tuple(_Row(c.label, c.mechanism, row_value_text(c), c.rms_V, c.share, c.cumulative_share) for c in result.contributions)
     rows = result.grouped(group_by)
     if group_by == "element":
-        rows = tuple(dataclasses.replace(c, value=_element_value(result, c.element, c.value)) for c in rows)
-    return rows
+        return tuple(_Row(c.label, c.mechanism, _element_value(result, c.label), c.rms_V, c.share, c.cumulative_share) for c in rows)
+    return tuple(
+        _Row(c.label, c.mechanism, f"{c.count} source{'s' if c.count > 1 else ''}", c.rms_V, c.share, c.cumulative_share)
+        for c in rows
+    )
 
 
-def _budget_rows(result: NoiseResult, top: int | None, group_by: str = "source") -> list[tuple[str, Contribution]]:
+def _budget_rows(result: NoiseResult, top: int | None, group_by: str = "source") -> list[tuple[str, _Row]]:
     rows = list(_rows_of(result, group_by))
     ranked = [(str(i + 1), c) for i, c in enumerate(rows)]
     if top is not None and len(rows) > top:
@@ -497,12 +516,12 @@ def _budget(result: NoiseResult, top: int | None, group_by: str = "source") -> l
     numbers = lambda c: (format_quantity(c.rms_V, "V"), _percent(c.share), _percent(c.cumulative_share), _bar(c.share))  # noqa: E731
     if group_by == "mechanism":  # a mechanism row is named by its mechanism (its ``element`` field)
         header = ("#", "mechanism", "sources", "rms at output", "share", "cumul.", "")
-        cells = [(rank, c.element, c.value, *numbers(c)) for rank, c in rows]
+        cells = [(rank, c.label, c.value, *numbers(c)) for rank, c in rows]
         right = {0, 3, 4, 5}
     else:
         first = "element" if group_by == "element" else "source"
         header = ("#", first, "mechanism", "value", "rms at output", "share", "cumul.", "")
-        cells = [(rank, c.element, c.mechanism, c.value, *numbers(c)) for rank, c in rows]
+        cells = [(rank, c.label, c.mechanism, c.value, *numbers(c)) for rank, c in rows]
         right = {0, 4, 5, 6}  # numeric columns right-aligned
     widths = [max(len(header[j]), *(len(row[j]) for row in cells)) for j in range(len(header))]
 
@@ -524,13 +543,13 @@ def _headline(result: NoiseResult, group_by: str = "source") -> list[str]:
     tied = [c for c in rows if math.isclose(c.share, lead.share, rel_tol=1e-6)]
     kind = {"source": "sources", "element": "elements", "mechanism": "mechanisms"}[group_by]
     if len(tied) > 1:
-        names = ", ".join(c.element for c in tied[:-1]) + f" and {tied[-1].element}"
+        names = ", ".join(c.label for c in tied[:-1]) + f" and {tied[-1].label}"
         return ["", f"Largest {kind}: {names} tie at {_percent(lead.share)} of the output noise power each."]
     if group_by == "mechanism":
-        subject = f"Dominant mechanism: {lead.element} ({lead.value})"
+        subject = f"Dominant mechanism: {lead.label} ({lead.value})"
     else:
         value = f", {lead.value}" if lead.value else ""
-        subject = f"Dominant {'element' if group_by == 'element' else 'source'}: {lead.element} ({lead.mechanism}{value})"
+        subject = f"Dominant {'element' if group_by == 'element' else 'source'}: {lead.label} ({lead.mechanism}{value})"
     return [
         "",
         f"{subject} gives "

@@ -12,9 +12,11 @@ to :mod:`netnoise.report` and :mod:`netnoise.plotting`.
 
 from __future__ import annotations
 
+import dataclasses
 import math
 from dataclasses import dataclass, field
 from functools import cached_property
+from typing import Mapping
 
 import numpy as np
 
@@ -29,14 +31,31 @@ def _frozen(array, dtype=float) -> np.ndarray:
 
 @dataclass(frozen=True)
 class Contribution:
-    """One row of the ranked noise budget."""
+    """One row of the ranked noise budget.
 
-    element: str  # element name, hierarchical (``X1.R2``)
-    mechanism: str  # "thermal", ...
-    value: str  # the element's value as a short human string, e.g. "10 kΩ"
+    ``label`` names the row as the budget is grouped (a source, an element
+    or a mechanism); ``source``, ``element`` and ``mechanism`` say what it is
+    (``source`` is None for a merged row, ``element`` None for a row merging
+    several elements).  ``value`` (in ``unit``) is the number that sets the
+    source -- a resistance in Ω, a density in V/√Hz, a DC current in A --
+    or None; ``details`` further numbers keyed with their units.
+    ``index`` is the row of this source in the per-source arrays
+    (``source_density[index]``), None for a merged row; ``count`` the number
+    of sources in the row.
+    """
+
+    label: str
+    source: str | None
+    element: str | None
+    mechanism: str
+    value: float | None
+    unit: str
     variance_V2: float  # band-integrated output noise power, V²
     share: float  # fraction of the total output noise power, 0..1
     cumulative_share: float  # running sum of shares down the ranking
+    index: int | None = None
+    details: Mapping[str, float | str] = field(default_factory=dict)
+    count: int = 1
 
     @property
     def rms_V(self) -> float:
@@ -56,7 +75,9 @@ class NoiseResult:
     input_unit : "V" for a voltage input source, "A" for a current one, None.
     band_low_Hz, band_high_Hz : integration band; ``band_high_Hz`` may be ``inf``.
     frequency_Hz : (F,) the reported spectrum grid, increasing, Hz.
-    source_names, source_mechanisms, source_values : (K,) per noise source.
+    source_names, source_mechanisms : (K,) per noise source.
+    source_values : (K,) the number that sets each source (Ω, V/√Hz, A/√Hz, A;
+        NaN where none), in ``source_units``.
     source_density : (K, F) output noise power density per source, V²/Hz.
     source_variance : (K,) band-integrated output noise power per source, V².
         Computed by the engine to full accuracy (adaptive or exact), not by
@@ -72,6 +93,9 @@ class NoiseResult:
     notes : remarks for the user (defaults chosen, warnings), in order.
     source_elements : (K,) the element each source belongs to (an amplifier
         has several sources); empty means the same as ``source_names``.
+    source_units : (K,) the unit of each ``source_values`` entry; empty: none.
+    source_details : (K,) further numbers that set each source, keyed with
+        their units (``{"noise_index_dB": -10.0}``); empty: none.
     source_resistor : the resistor noise figure is referred to, or None.
     noise_figure_spectrum_dB : (F,) spot noise figure on the grid, or None.
     noise_figure_dB : band-integrated noise figure, or None.
@@ -88,7 +112,7 @@ class NoiseResult:
     frequency_Hz: np.ndarray
     source_names: tuple[str, ...]
     source_mechanisms: tuple[str, ...]
-    source_values: tuple[str, ...]
+    source_values: np.ndarray
     source_density: np.ndarray
     source_variance: np.ndarray
     cumulative_variance: np.ndarray
@@ -101,6 +125,8 @@ class NoiseResult:
     source_resistor: str | None = None
     noise_figure_spectrum_dB: np.ndarray | None = None
     noise_figure_dB: float | None = None
+    source_units: tuple[str, ...] = ()
+    source_details: tuple[Mapping[str, float | str], ...] = ()
 
     def __post_init__(self) -> None:
         set_ = object.__setattr__
@@ -112,7 +138,10 @@ class NoiseResult:
             set_(self, "gain", _frozen(self.gain))
         set_(self, "source_names", tuple(self.source_names))
         set_(self, "source_mechanisms", tuple(self.source_mechanisms))
-        set_(self, "source_values", tuple(self.source_values))
+        set_(self, "source_values", _frozen(self.source_values))
+        k = len(self.source_names)
+        set_(self, "source_units", tuple(self.source_units) or ("",) * k)
+        set_(self, "source_details", tuple(self.source_details) or ({},) * k)
         set_(self, "notes", tuple(self.notes))
         set_(self, "source_elements", tuple(self.source_elements) or tuple(self.source_names))
         if self.noise_figure_spectrum_dB is not None:
@@ -154,6 +183,14 @@ class NoiseResult:
             return np.zeros_like(self.source_variance)
         return self.source_variance / total
 
+    def _row(self, k: int, share: float, cumulative: float, variance: float) -> Contribution:
+        value = float(self.source_values[k])
+        return Contribution(
+            self.source_names[k], self.source_names[k], self.source_elements[k], self.source_mechanisms[k],
+            None if math.isnan(value) else value, self.source_units[k], variance, share, cumulative,
+            index=k, details=self.source_details[k],
+        )
+
     @cached_property
     def contributions(self) -> tuple[Contribution, ...]:
         """The noise budget, largest share first."""
@@ -162,15 +199,12 @@ class NoiseResult:
         # Python floats in one go (.tolist()), not one numpy scalar at a time: 20,000 rows
         variance, share = self.source_variance[order].tolist(), shares.tolist()
         cumulative = np.minimum(np.cumsum(shares), 1.0).tolist()
-        names, mechanisms, values = self.source_names, self.source_mechanisms, self.source_values
-        return tuple(
-            Contribution(names[k], mechanisms[k], values[k], variance[i], share[i], cumulative[i])
-            for i, k in enumerate(order.tolist())
-        )
+        return tuple(self._row(k, share[i], cumulative[i], variance[i]) for i, k in enumerate(order.tolist()))
 
     def grouped(self, by: str) -> tuple[Contribution, ...]:
         """The budget with rows merged by ``"element"`` or ``"mechanism"``,
-        largest first.  A merged row's ``value`` lists what it merged."""
+        largest first.  An element row keeps its value where its sources
+        share one; a mechanism row counts its sources."""
         if by == "source":
             return self.contributions
         if by not in ("element", "mechanism"):
@@ -183,23 +217,39 @@ class NoiseResult:
         rows = []
         for key, members in merged.items():
             variance = float(self.source_variance[members].sum())
-            if by == "element":
-                mechanism = "+".join(dict.fromkeys(self.source_mechanisms[k] for k in members))
-                value = self.source_values[members[0]]
-                element = key
-            else:
-                mechanism = key
-                value = f"{len(members)} source{'s' if len(members) > 1 else ''}"
-                element = key
-            rows.append((variance, element, mechanism, value))
+            rows.append((variance, key, members))
         rows.sort(key=lambda row: -row[0])
         running = 0.0
         out = []
-        for variance, element, mechanism, value in rows:
+        for variance, key, members in rows:
             share = variance / total if total > 0 else 0.0
             running += share
-            out.append(Contribution(element, mechanism, value, variance, share, min(running, 1.0)))
+            if len(members) == 1:
+                row = self._row(members[0], share, min(running, 1.0), variance)
+                out.append(dataclasses.replace(row, label=key, source=None if by == "mechanism" else row.source))
+                continue
+            first = members[0]
+            values = {(float(self.source_values[k]), self.source_units[k]) for k in members}
+            value, unit = values.pop() if len(values) == 1 else (math.nan, "")
+            elements = {self.source_elements[k] for k in members}
+            out.append(
+                Contribution(
+                    key, None, elements.pop() if len(elements) == 1 else None,
+                    "+".join(dict.fromkeys(self.source_mechanisms[k] for k in members)),
+                    None if math.isnan(value) or by == "mechanism" else value, unit if by == "element" else "",
+                    variance, share, min(running, 1.0),
+                    details=self.source_details[first] if by == "element" else {}, count=len(members),
+                )
+            )
         return tuple(out)
+
+    def source(self, name: str) -> Contribution:
+        """The budget row of noise source ``name`` (case-insensitive); KeyError if none."""
+        key = name.lower()
+        for row in self.contributions:
+            if row.source is not None and row.source.lower() == key:
+                return row
+        raise KeyError(name)
 
     @property
     def cumulative_rms(self) -> np.ndarray:

@@ -17,7 +17,8 @@ from netnoise.text.values import split_value
 
 __all__ = [
     "Word", "Quoted", "Braced", "Keyed", "Call", "Field", "Value", "Assignment",
-    "FieldReader", "shown", "describe", "as_value", "as_assignment", "is_value", "IDENTIFIER",
+    "FieldReader", "LineReader", "BEHAVIOURAL_KEYS", "shown", "describe", "as_value", "as_assignment", "is_value",
+    "IDENTIFIER",
 ]
 
 class Word:
@@ -279,3 +280,80 @@ class FieldReader:
             return Call(str(name), tuple(args), self.source.at(name), self.source.after(node))
         raise _fail(f"unexpected '{kind}'", self.source.at(node))  # grammar and code disagree
 
+
+
+BEHAVIOURAL_KEYS = frozenset({"value", "table", "laplace", "freq", "vol", "cur"})
+
+
+class LineReader:
+    """The fields of one element line, consumed left to right.
+
+    ``form`` is the line's usage text, shown in messages as "the form is: ...".
+    """
+
+    def __init__(self, name_word: Word, fields: list[Field], form: str) -> None:
+        self.name = name_word.text
+        self.letter = self.name[0].upper()
+        self.name_word = name_word
+        self.fields = fields
+        self.form = form
+        self.position = 0
+        self.last: Field = name_word  # the last field taken; its .end is where a missing one goes
+
+    @property
+    def loc(self) -> SourceLocation:
+        return self.name_word.loc
+
+    @property
+    def last_end(self) -> SourceLocation:
+        return self.last.end
+
+    def form_hint(self) -> str:
+        return f"the form is: {self.form}"
+
+    def peek(self) -> Field | None:
+        return self.fields[self.position] if self.position < len(self.fields) else None
+
+    def has_key(self, key: str) -> bool:
+        """True if a ``key=value`` field with this key (any case) is on the line."""
+        return any(isinstance(item, Keyed) and item.key.lower() == key for item in self.fields)
+
+    def take(self, what: str) -> Field:
+        item = self.peek()
+        if item is None:
+            raise _fail(f"{self.name} is missing its {what}", self.last_end, self.form_hint())
+        self.check_unsupported_form(item)
+        self.position += 1
+        self.last = item
+        return item
+
+    def check_unsupported_form(self, item: Field) -> None:
+        if isinstance(item, Call) and item.name.lower() == "poly":
+            raise _fail(
+                f"{self.name}: POLY forms are not supported",
+                item.loc,
+                "netnoise takes one linear gain per controlled source",
+            )
+        if isinstance(item, Keyed) and item.key.lower() in BEHAVIOURAL_KEYS:
+            raise _fail(f"{self.name}: behavioural sources are not supported", item.loc)
+
+    def node(self, what: str) -> Word:
+        item = self.take(what)
+        if not isinstance(item, Word):
+            raise _fail(f"expected {what} of {self.name} here, not {describe(item)}", item.loc, self.form_hint())
+        return item
+
+    def value(self, what: str) -> Value:
+        item = self.take(what)
+        return as_value(item, f"{what} of {self.name}")
+
+    def keyed_value(self, item: Keyed, what: str) -> Value:
+        """Take ``item`` (a key=value field, the next one) as the value of ``what``."""
+        self.take(what)
+        return as_value(item.value, f"{what} of {self.name}")
+
+    def done(self) -> None:
+        item = self.peek()
+        if item is not None:
+            self.check_unsupported_form(item)
+            raise _fail(f"unexpected extra field {describe(item)} on {self.name}", item.loc, self.form_hint())

@@ -1,0 +1,228 @@
+"""The protocol every element kind follows, and the views the engine gives it.
+
+An element kind is one frozen dataclass subclassing :class:`Element`, in one
+module of :mod:`netnoise.circuit.elements`, listed once in
+:mod:`netnoise.circuit.registry`.  It declares
+
+* its netlist form: ``letter``, ``form`` (the usage line shown in messages),
+  ``parse(line)`` -> a statement, and ``build(statement, ctx)`` -> the element;
+* its structure: ``terminals()`` (every node it touches), ``branch_count``
+  (branch currents it adds as unknowns), ``internal_nodes()`` (named
+  internal unknowns);
+* its class for the topology checks: ``dc_paths()`` (node pairs it joins at
+  DC) and ``voltage_defined()`` (node pairs whose voltage it fixes);
+* its stamps into G and C (``stamp(s)``, or ``stamp_all`` for many at once)
+  and its DC right-hand side (``stamp_dc(s, b)``);
+* its DC current and voltage from a solution (``dc_current(v)``, ``dc_voltage(v)``);
+* its noise sources (``noise_sources(n)``);
+* its values that can change (``value_field``, ``with_value``).
+
+The engine asks only these; it never asks which class an element is.
+
+Nonlinear kinds (diodes, transistors) will add ``is_linear = False`` and a
+residual and Jacobian at an operating point (``stamp_nonlinear``); a source
+with a correlated partner will return a small cross-spectral block from
+``noise_correlations``.  Linear kinds inherit the defaults below.
+"""
+
+from __future__ import annotations
+
+import dataclasses
+from dataclasses import dataclass, field
+from typing import TYPE_CHECKING, Any, ClassVar, Iterable, Iterator, Protocol
+
+from netnoise.errors import SourceLocation
+
+if TYPE_CHECKING:
+    import numpy as np
+
+    from netnoise.noise.mechanisms import NoiseSource
+    from netnoise.text.fields import LineReader
+
+__all__ = ["Element", "TwoTerminal", "Stamper", "SolutionView", "NoiseView", "BuildContext"]
+
+
+class Stamper(Protocol):
+    """What the MNA assembler offers a kind while it stamps (rows: -1 is ground)."""
+
+    def node(self, name: str) -> int: ...
+    def branch(self, element: "Element") -> int: ...
+    def internal(self, element: "Element", label: str) -> int: ...
+    def g(self, row: int, col: int, value: float) -> None: ...
+    def c(self, row: int, col: int, value: float) -> None: ...
+    def admittances(self, matrix: str, a: "np.ndarray", b: "np.ndarray", y: "np.ndarray") -> None: ...
+    def element(self, name: str) -> "Element": ...
+    def fail(self, message: str) -> Exception: ...
+
+
+class SolutionView(Protocol):
+    """A solution vector seen by node and element (DC operating point)."""
+
+    def v(self, node: str) -> float: ...
+    def branch_current(self, element: "Element | str") -> float: ...
+
+
+class NoiseView(Protocol):
+    """What a kind needs to state its noise sources."""
+
+    temperature_K: float  # the analysis temperature
+
+    def node(self, name: str) -> int: ...
+    def branch(self, element: "Element") -> int: ...
+    def internal(self, element: "Element", label: str) -> int: ...
+    def current_between(self, a: str, b: str) -> tuple[tuple[int, float], ...]: ...
+    def dc_voltage(self, a: str, b: str) -> float: ...
+
+
+class BuildContext(Protocol):
+    """What the elaborator offers a kind while it builds an element from its statement."""
+
+    name: str  # full hierarchical name (X1.R2)
+    loc: SourceLocation
+
+    def number(self, value: Any) -> float: ...
+    def node(self, word: Any) -> str: ...
+    def local_name(self, word: Any) -> str: ...
+    def refer(self, word: Any, full_name: str, wanted: type, what: str, slot: str) -> None: ...
+    def notice(self, text: str, loc: SourceLocation | None = None) -> None: ...
+    def fail(self, message: str, loc: SourceLocation | None, hint: str = "") -> Exception: ...
+
+
+@dataclass(frozen=True)
+class Element:
+    """Base of every element kind; the defaults are those of a passive, noiseless part."""
+
+    name: str
+
+    letter: ClassVar[str] = ""
+    form: ClassVar[str] = ""
+    selector: ClassVar[str | None] = None  # a keyword on the letter's line that selects this kind
+    value_field: ClassVar[str | None] = None  # the primary value, as `with_values` changes it
+    statement_value: ClassVar[str | None] = "value"  # the statement field that gives it
+    can_drive: ClassVar[bool] = False  # an independent source: can be the analysis input
+    unit: ClassVar[str] = ""
+    branch_count: ClassVar[int] = 0
+    is_linear: ClassVar[bool] = True
+
+    # ---- netlist form
+    @classmethod
+    def parse(cls, line: "LineReader") -> Any:
+        raise NotImplementedError(f"{cls.__name__} has no netlist form")
+
+    @classmethod
+    def build(cls, statement: Any, ctx: BuildContext) -> "Element":
+        raise NotImplementedError(f"{cls.__name__} cannot be built from a statement")
+
+    # ---- structure
+    def terminals(self) -> tuple[str, ...]:
+        """Every node this element touches (controlling nodes included)."""
+        return ()
+
+    def internal_nodes(self) -> tuple[str, ...]:
+        """Labels of internal unknowns (``"<name>#<label>"`` in the system)."""
+        return ()
+
+    def references(self) -> tuple[str, ...]:
+        """Names of other elements this one refers to (control sources, coupled inductors)."""
+        return ()
+
+    # ---- topology
+    def dc_paths(self) -> tuple[tuple[str, str], ...]:
+        return ()
+
+    def voltage_defined(self) -> tuple[tuple[str, str], ...]:
+        return ()
+
+    # ---- stamps
+    def stamp(self, s: Stamper) -> None:
+        pass
+
+    @classmethod
+    def stamp_all(cls, elements: "Iterable[Element]", s: Stamper) -> None:
+        for element in elements:
+            element.stamp(s)
+
+    def stamp_dc(self, s: Stamper, b: "np.ndarray") -> None:
+        """Add this element's DC excitation to ``b``."""
+
+    def excitation(self, s: Stamper, b: "np.ndarray") -> str | None:
+        """Add a unit small-signal excitation to ``b`` and return its unit
+        ("V" or "A"), or None for an element that cannot be an input."""
+        return None
+
+    # ---- DC
+    def dc_current(self, v: SolutionView) -> float | None:
+        """Current from the first terminal through the element to the second (A); None: not reported."""
+        return None
+
+    def dc_voltage(self, v: SolutionView) -> float | None:
+        """Voltage across the element (first terminal minus second, V); None: not reported."""
+        return None
+
+    # ---- noise
+    def noise_sources(self, n: NoiseView) -> "Iterator[NoiseSource]":
+        return iter(())
+
+    # ---- values
+    def with_value(self, value: float) -> "Element":
+        """A copy with its primary value replaced (ValueError if it has none)."""
+        if self.value_field is None:
+            raise ValueError(f"{self.name} has no value that can be changed")
+        return dataclasses.replace(self, **{self.value_field: float(value)})
+
+    @property
+    def primary_value(self) -> float | None:
+        return None if self.value_field is None else float(getattr(self, self.value_field))
+
+
+@dataclass(frozen=True)
+class TwoTerminal(Element):
+    """An element between ``nodes[0]`` and ``nodes[1]``."""
+
+    nodes: tuple[str, str]
+    origin: SourceLocation | None = field(default=None, compare=False, repr=False)
+
+    def terminals(self) -> tuple[str, ...]:
+        return self.nodes
+
+    def dc_voltage(self, v: SolutionView) -> float | None:
+        return v.v(self.nodes[0]) - v.v(self.nodes[1])
+
+
+@dataclass(frozen=True)
+class Passive:
+    """Statement of an R, C or L line.  Resistors may carry ``noiseless``,
+    ``temp=`` and ``ni=``; ``kind`` is the element kind that builds it."""
+
+    letter: str
+    name: str
+    nodes: tuple[Any, Any]  # Words
+    value: Any  # Value
+    loc: SourceLocation = field(compare=False)
+    noiseless: bool = False
+    temperature: Any = None  # temp=, °C
+    noise_index: Any = None  # ni=, dB
+    kind: Any = field(default=None, compare=False, repr=False)
+
+
+def value_nodes(ctx: BuildContext, statement: Any) -> tuple[str, str]:
+    """The canonical nodes of a two-node statement."""
+    return (ctx.node(statement.nodes[0]), ctx.node(statement.nodes[1]))
+
+
+def current_into(s: Any, b: "np.ndarray", nodes: tuple[str, str], amount: float) -> None:
+    """A current ``amount`` flowing from ``nodes[0]`` through the element to
+    ``nodes[1]``, as a right-hand side: it leaves node 0 and enters node 1."""
+    first, second = (s.node(x) for x in nodes)
+    if first >= 0:
+        b[first] -= amount
+    if second >= 0:
+        b[second] += amount
+
+
+def branch_kcl(s: Stamper, a: int, b: int, k: int) -> None:
+    """The KCL columns and branch-row entries of a branch current ``k`` from a to b."""
+    s.g(a, k, 1.0)
+    s.g(b, k, -1.0)
+    s.g(k, a, 1.0)
+    s.g(k, b, -1.0)

@@ -1,0 +1,107 @@
+"""What a noise source is, and the densities of the physical mechanisms.
+
+A source enters the MNA equations as an injection (``(row, coefficient)``
+pairs of its unit excitation) with a one-sided power density
+``S(f) = white_density + flicker_at_1Hz · (1 Hz / f)^slope`` in A²/Hz or
+V²/Hz as its injection is a current or a voltage.  Sources are uncorrelated.
+
+Mechanism names are fixed (they appear in JSON) and order the budget rows:
+rows come grouped by mechanism in :data:`MECHANISMS` order, netlist order
+within each.
+
+* ``thermal`` -- Johnson–Nyquist noise of a resistance, a current 4kT/R in
+  parallel with it (Johnson 1928; Nyquist 1928).
+* ``excess`` -- a resistor's 1/f current noise from its noise index.
+* ``shot`` -- 2q|I| of a junction current (Schottky 1918).
+* ``source`` -- an explicit density given to an independent V or I source.
+* ``amplifier-voltage`` / ``amplifier-current`` -- an amplifier's input
+  voltage noise and the current noise of each input.
+"""
+
+from __future__ import annotations
+
+import math
+from dataclasses import dataclass, field
+from typing import Mapping
+
+from netnoise.constants import BOLTZMANN, ELEMENTARY_CHARGE
+
+__all__ = [
+    "THERMAL",
+    "EXCESS",
+    "SHOT",
+    "SOURCE",
+    "AMPLIFIER_VOLTAGE",
+    "AMPLIFIER_CURRENT",
+    "MECHANISMS",
+    "NoiseSource",
+    "thermal_current_density",
+    "shot_current_density",
+    "excess_current_flicker",
+    "spectrum_levels",
+]
+
+THERMAL = "thermal"
+EXCESS = "excess"
+SHOT = "shot"
+SOURCE = "source"
+AMPLIFIER_VOLTAGE = "amplifier-voltage"
+AMPLIFIER_CURRENT = "amplifier-current"
+MECHANISMS = (THERMAL, EXCESS, SHOT, SOURCE, AMPLIFIER_VOLTAGE, AMPLIFIER_CURRENT)
+# the order of budget rows: the amplifier's voltage and current rows stay together per amplifier
+ROW_ORDER = {THERMAL: 0, EXCESS: 1, SHOT: 2, SOURCE: 3, AMPLIFIER_VOLTAGE: 4, AMPLIFIER_CURRENT: 4}
+
+
+@dataclass(frozen=True)
+class NoiseSource:
+    """One noise generator: where it enters the equations and how strong it is.
+
+    ``name`` labels its budget row (the element name, with a suffix where one
+    element has several sources); ``element`` the element it belongs to;
+    ``mechanism`` one of :data:`MECHANISMS`.  ``value`` and ``unit``: the
+    number that sets it (a resistance in Ω, a DC current in A, a density in
+    V/√Hz or A/√Hz); ``details`` further numbers that set it, keyed with
+    their units (``{"noise_index_dB": -10.0, "dc_voltage_V": 5.0}``) and,
+    for an amplifier, ``{"model": "NAME"}``.  ``injection`` lists (row,
+    coefficient) pairs of its unit excitation.
+    """
+
+    name: str
+    element: str
+    mechanism: str
+    value: float
+    unit: str
+    injection: tuple[tuple[int, float], ...]
+    white_density: float
+    flicker_at_1Hz: float = 0.0
+    slope: float = 1.0
+    temperature_K: float | None = None  # thermal sources: the temperature used
+    details: Mapping[str, float | str] = field(default_factory=dict)
+
+
+def thermal_current_density(resistance: float, temperature_K: float) -> float:
+    """4kT/R, A²/Hz: the Norton noise current of a resistance (Johnson 1928; Nyquist 1928)."""
+    return 4.0 * BOLTZMANN * temperature_K / resistance
+
+
+def shot_current_density(current: float) -> float:
+    """2q|I|, A²/Hz (Schottky 1918)."""
+    return 2.0 * ELEMENTARY_CHARGE * abs(current)
+
+
+def excess_current_flicker(noise_index_dB: float, dc_voltage: float, resistance: float) -> float:
+    """The 1/f current density of a resistor at 1 Hz, A²/Hz, from its noise index.
+
+    The noise index NI is dB re 1 µV of noise per volt of DC across the part
+    per decade of frequency, as resistor makers state it.  A voltage density
+    K/f has ∫_f^{10f} K/f df = K·ln 10 = (NI_lin·V_dc)²; as a parallel current, K/R².
+    """
+    per_volt = 10.0 ** (noise_index_dB / 20.0) * 1e-6
+    return (per_volt * dc_voltage) ** 2 / math.log(10.0) / resistance**2
+
+
+def spectrum_levels(white: float, corner_Hz: float, slope: float) -> tuple[float, float]:
+    """(white level, 1/f level at 1 Hz) of a density given as an amplitude ``white``
+    with a 1/f^slope part below ``corner_Hz``: S = white² · (1 + (corner/f)^slope)."""
+    level = white**2
+    return level, level * corner_Hz**slope if corner_Hz > 0 else 0.0

@@ -1,0 +1,36 @@
+"""The short text of a budget row's value, made at the edge from its numbers.
+
+"10 kΩ", "10 kΩ, NI -10 dB at 5 V", "1 mA DC", "10 nV/√Hz, corner 1 kHz",
+"lnamp: 4 nV/√Hz".
+"""
+
+from __future__ import annotations
+
+import math
+from typing import Mapping
+
+from netnoise.engformat import format_quantity
+from netnoise.noise.mechanisms import SHOT
+
+__all__ = ["value_text", "row_value_text"]
+
+
+def value_text(value: float | None, unit: str, mechanism: str = "", details: Mapping[str, float | str] | None = None) -> str:
+    """The value of a noise source as a designer reads it ('' when there is none)."""
+    details = details or {}
+    if value is None or (isinstance(value, float) and math.isnan(value)):
+        text = ""
+    else:
+        text = format_quantity(value, unit) + (" DC" if mechanism == SHOT else "")
+    if "noise_index_dB" in details:
+        text += f", NI {float(details['noise_index_dB']):g} dB at {format_quantity(abs(float(details['dc_voltage_V'])), 'V')}"
+    if float(details.get("corner_Hz", 0.0) or 0.0) > 0:  # type: ignore[arg-type]
+        text += f", corner {format_quantity(float(details['corner_Hz']), 'Hz')}"
+    if "model" in details:
+        text = f"{details['model']}: {text}" if text else str(details["model"])
+    return text
+
+
+def row_value_text(row) -> str:
+    """The value column of a budget row (a :class:`~netnoise.results.result.Contribution`)."""
+    return value_text(row.value, row.unit, row.mechanism, row.details)
