@@ -11,7 +11,7 @@ equipment, follow local codes and licensed engineering practice.
 
 from netnoise.engine import dc
 from netnoise.results import figures
-from netnoise.engine.analysis import analyze, output_density_function
+from netnoise.engine.analysis import PreparedAnalysis, analyze, output_density_function, prepare
 from netnoise.circuit import Circuit
 from netnoise.engine.dc import operating_point
 from netnoise.errors import CircuitError, NetlistError, NetnoiseError, UsageError
@@ -27,6 +27,8 @@ __all__ = [
     "dc",
     "figures",
     "analyze",
+    "prepare",
+    "PreparedAnalysis",
     "output_density_function",
     "operating_point",
     "load_netlist",

@@ -30,7 +30,7 @@ from netnoise.results.result import NoiseResult
 from netnoise.circuit.topology import check_topology
 from netnoise.engine.total_variance import EXACT_LIMIT, finite_poles_Hz, infinite_band_totals
 
-__all__ = ["analyze", "output_density_function", "DEFAULT_TEMPERATURE_C", "DEFAULT_POINTS_PER_DECADE"]
+__all__ = ["analyze", "prepare", "PreparedAnalysis", "output_density_function", "DEFAULT_TEMPERATURE_C", "DEFAULT_POINTS_PER_DECADE"]
 
 DEFAULT_TEMPERATURE_C = 27.0  # the trade's customary default, 300.15 K
 DEFAULT_POINTS_PER_DECADE = 20
@@ -111,16 +111,28 @@ def _resolve(circuit, output, reference, input_source, band, points_per_decade, 
 class _Problem:
     """The assembled circuit with its output selector, sources and input."""
 
-    def __init__(self, circuit: ck.Circuit, settings: _Settings, progress: Callable[[int], None] | None = None):
+    def __init__(
+        self, circuit: ck.Circuit, settings: _Settings, progress: Callable[[int], None] | None = None,
+        system: MnaSystem | None = None,
+    ):
         self.progress = progress
-        check_topology(circuit)
-        self.system: MnaSystem = assemble(circuit)
+        self.settings = settings
+        if system is None:
+            check_topology(circuit)
+            system = assemble(circuit)
+        self.system: MnaSystem = system
         self.selector = self.system.node_pair_vector(settings.output, settings.reference)
         self.sources: NoiseSources = collect_noise_sources(self.system, settings.temperature_K)
         self.input_vector = None
         self.input_unit = None
         if settings.input_source is not None:
             self.input_vector, self.input_unit = self.system.excitation_vector(settings.input_source)
+
+    def refilled(self, circuit: ck.Circuit) -> "_Problem":
+        """The same problem for ``circuit``, a copy of this one's circuit with
+        other values: topology, ordering and output kept; G, C and the noise
+        densities stamped anew."""
+        return _Problem(circuit, self.settings, self.progress, self.system.refilled(circuit))
 
     @property
     def has_input(self) -> bool:
@@ -207,8 +219,74 @@ def analyze(
     ``progress``, for a progress display, is called with the number of
     frequencies just solved (grid points first, then the integrator's extra ones).
     """
+    return prepare(
+        circuit, output=output, reference=reference, input_source=input_source, band=band,
+        points_per_decade=points_per_decade, temperature_celsius=temperature_celsius,
+        source_resistor=source_resistor, progress=progress,
+    ).analyze()
+
+
+class PreparedAnalysis:
+    """An analysis set up once -- settings resolved, topology checked,
+    system assembled, sources collected -- to run, and to run again with
+    other values without reading or checking the circuit again.
+
+    >>> prepared = prepare(circuit, output="out", band=(10, 100e3))
+    >>> first = prepared.analyze()
+    >>> second = prepared.with_values({"C1": 22e-12}).analyze()
+    """
+
+    def __init__(self, problem: _Problem, source_resistor: str | None) -> None:
+        self._problem = problem
+        self._source_resistor = source_resistor
+
+    @property
+    def circuit(self) -> ck.Circuit:
+        return self._problem.system.circuit
+
+    @property
+    def system(self) -> MnaSystem:
+        return self._problem.system
+
+    def analyze(self) -> NoiseResult:
+        """The noise result of this circuit with these settings."""
+        return _analyze(self._problem, self._source_resistor)
+
+    def with_circuit(self, circuit: ck.Circuit) -> "PreparedAnalysis":
+        """This analysis for ``circuit``, the same circuit with other values
+        (CircuitError if its structure differs)."""
+        return PreparedAnalysis(self._problem.refilled(circuit), self._source_resistor)
+
+    def with_values(self, values: dict[str, float]) -> "PreparedAnalysis":
+        """This analysis with the primary values of named elements replaced (SI units)."""
+        return self.with_circuit(self.circuit.with_values(values))
+
+    def with_params(self, params: dict[str, float]) -> "PreparedAnalysis":
+        """This analysis with top-level ``.param`` values replaced."""
+        return self.with_circuit(self.circuit.with_params(params))
+
+
+def prepare(
+    circuit: ck.Circuit,
+    *,
+    output: str | None = None,
+    reference: str | None = None,
+    input_source: str | None = None,
+    band: tuple[float, float] | None = None,
+    points_per_decade: float | None = None,
+    temperature_celsius: float | None = None,
+    source_resistor: str | None = None,
+    progress: Callable[[int], None] | None = None,
+) -> PreparedAnalysis:
+    """An analysis of ``circuit`` set up to run (and rerun with other values);
+    the arguments are those of :func:`analyze`."""
     settings = _resolve(circuit, output, reference, input_source, band, points_per_decade, temperature_celsius)
-    problem = _Problem(circuit, settings, progress)
+    return PreparedAnalysis(_Problem(circuit, settings, progress), source_resistor)
+
+
+def _analyze(problem: _Problem, source_resistor: str | None) -> NoiseResult:
+    settings = problem.settings
+    circuit = problem.system.circuit
     notes = list(settings.notes)
     low, high = settings.low, settings.high
     sources = problem.sources

@@ -340,16 +340,7 @@ def _origin(value: Value, scope: _Scope) -> c.ValueOrigin:
     kind = "param" if single and len(names) == 1 else "expression"
     if any(name in scope.overridden for name in names):
         kind = "override"
-    return c.ValueOrigin(kind, _expression_text(value), names, value.loc)
-
-
-def _expression_text(value: Value) -> str:
-    meta = getattr(value.tree, "meta", None)
-    source = value.source
-    if source is None or meta is None or getattr(meta, "empty", True) or meta.line != meta.end_line:
-        return value.text
-    line = source.lines[meta.line - 1] if 0 < meta.line <= len(source.lines) else ""
-    return "{" + line[meta.column - 1 : meta.end_column - 1] + "}"
+    return c.ValueOrigin(kind, value.text, names, value.loc)
 
 
 class _Elaborator:

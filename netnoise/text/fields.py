@@ -112,7 +112,8 @@ def describe(item: Field) -> str:
 class Value:
     """A value field: a plain number (already converted) or an expression.
 
-    ``text`` is the number as written, or ``'{...}'``; ``loc`` is where it
+    ``text`` is the number or the braced expression as written (``'{...}'``
+    when the expression spans lines); ``loc`` is where it
     is (built when asked for, from the word it came from).
     """
 
@@ -150,6 +151,14 @@ class Value:
         return f"Value({self.text!r}, number={self.number!r})"
 
 
+def braced_text(item: Braced) -> str:
+    """The braced expression as written, when it stands on one line."""
+    start, end = item.loc, item.end
+    if start.line != end.line or not start.text:
+        return "{...}"
+    return start.text[start.column - 1 : end.column - 1]
+
+
 IDENTIFIER = re.compile(r"[A-Za-z_][A-Za-z0-9_]*\Z")
 
 
@@ -165,7 +174,7 @@ def as_value(item: Field, what: str) -> Value:
             raise _fail(f"bad {what}: {exc}", item.loc, hint) from None
         return Value(item.text, None, number, word=item)
     if isinstance(item, Braced):
-        return Value("{...}", item.loc, None, item.tree, item.source)
+        return Value(braced_text(item), item.loc, None, item.tree, item.source)
     hint = "write expressions in braces: {...}" if isinstance(item, Quoted) else ""
     raise _fail(f"expected {what} here, not {describe(item)}", item.loc, hint)
 
