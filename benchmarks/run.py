@@ -238,21 +238,16 @@ def exact_cost(sizes) -> list[dict]:
 
 
 def wideband(n_check: int, n_large: int) -> dict:
-    """Beyond EXACT_LIMIT: the quadrature + tail total; its accuracy against the exact method."""
+    """Beyond the exact limit: the quadrature + tail total; its accuracy against the exact method."""
     import netnoise
-    from netnoise.engine import analysis
+    from netnoise.engine.options import SolverOptions
 
     circuit = netnoise.parse_netlist(gen.rc_ladder(n_check, source=False))
-    saved = analysis.EXACT_LIMIT
-    try:
-        analysis.EXACT_LIMIT = 10**9  # the exact method as the reference, whatever its size
-        exact = netnoise.analyze(circuit, output=f"n{n_check}", band=(0, math.inf))
-        analysis.EXACT_LIMIT = 0
-        t = time.perf_counter()
-        approx = netnoise.analyze(circuit, output=f"n{n_check}", band=(0, math.inf))
-        t_small = time.perf_counter() - t
-    finally:
-        analysis.EXACT_LIMIT = saved
+    # the exact method as the reference, whatever its size
+    exact = netnoise.analyze(circuit, output=f"n{n_check}", band=(0, math.inf), options=SolverOptions(exact_limit=10**9))
+    t = time.perf_counter()
+    approx = netnoise.analyze(circuit, output=f"n{n_check}", band=(0, math.inf), options=SolverOptions(exact_limit=0))
+    t_small = time.perf_counter() - t
     big = netnoise.parse_netlist(gen.rc_ladder(n_large, source=False))
     t = time.perf_counter()
     netnoise.analyze(big, output=f"n{n_large}", band=(0, math.inf))

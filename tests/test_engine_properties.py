@@ -12,8 +12,8 @@ from hypothesis import strategies as st
 from scipy import constants
 
 from circuit_builders import C, R, V, circuit
-from netnoise.engine import transfer
 from netnoise.engine.analysis import analyze
+from netnoise.engine.options import SolverOptions
 
 
 @st.composite
@@ -91,8 +91,7 @@ def test_sparse_and_dense_paths_agree(monkeypatch):
     ckt = circuit(*parts)
     kwargs = dict(output="n30", input_source="Vin", band=(1e3, 1e10), points_per_decade=10)
     dense = analyze(ckt, **kwargs)
-    monkeypatch.setattr(transfer, "DENSE_LIMIT", 0)
-    sparse = analyze(ckt, **kwargs)
+    sparse = analyze(ckt, **kwargs, options=SolverOptions(dense_limit=0))
     np.testing.assert_allclose(sparse.source_density, dense.source_density, rtol=1e-9, atol=0)
     np.testing.assert_allclose(sparse.gain, dense.gain, rtol=1e-10)
     assert sparse.total_variance == pytest.approx(dense.total_variance, rel=1e-10)

@@ -12,6 +12,7 @@ import numpy as np
 import pytest
 
 import netnoise
+from netnoise.engine.options import SolverOptions
 from netnoise.engine import transfer
 from netnoise.errors import CircuitError
 from netnoise.engine.mna import assemble
@@ -53,8 +54,7 @@ def _mp_adjoint(system, selector, f):
 
 
 @pytest.fixture(params=["dense", "banded", "sparse"])
-def method(request, monkeypatch):
-    monkeypatch.setattr(transfer, "FORCE_METHOD", request.param)
+def method(request):
     return request.param
 
 
@@ -62,8 +62,9 @@ def method(request, monkeypatch):
 def test_extreme_ladder_matches_extended_precision(method, f):
     system = assemble(netnoise.parse_netlist(EXTREME))
     selector = system.node_pair_vector("n6", "0")
-    z = transfer.adjoint_solutions(system, selector, np.array([f]))[0]
-    assert transfer.solver_for(system).method == method
+    options = SolverOptions(method=method)
+    z = transfer.adjoint_solutions(system, selector, np.array([f]), options)[0]
+    assert transfer.solver_for(system, options).method == method
     ref = _mp_adjoint(system, selector, f)
     # Y is ill-conditioned (2-norm condition 4e9 .. 4e10, numpy.linalg.cond), so the attainable
     # accuracy is about cond·eps ~ 1e-6 of the largest entry; measured: 1e-9 .. 1.5e-7 on the
@@ -77,12 +78,12 @@ def test_extreme_ladder_matches_extended_precision(method, f):
     np.testing.assert_allclose(z, ref, rtol=0, atol=3e-6 * scale)
 
 
-def test_extreme_ladder_totals_are_finite_and_agree_across_paths(monkeypatch):
+def test_extreme_ladder_totals_are_finite_and_agree_across_paths():
     circuit = netnoise.parse_netlist(EXTREME)
     results = {}
     for m in ("dense", "banded", "sparse"):
-        monkeypatch.setattr(transfer, "FORCE_METHOD", m)
-        results[m] = netnoise.analyze(circuit, output="n6", input_source="Vin", band=(1e-3, 1e11), points_per_decade=10)
+        results[m] = netnoise.analyze(circuit, output="n6", input_source="Vin", band=(1e-3, 1e11), points_per_decade=10,
+                                      options=SolverOptions(method=m))
     base = np.asarray(results["dense"].source_variance)
     assert np.all(np.isfinite(base)) and base.sum() > 0
     for m in ("banded", "sparse"):
@@ -102,12 +103,11 @@ Ry y 0 1meg
 
 
 @pytest.mark.parametrize("forced", [None, "banded", "sparse"])
-def test_lossless_resonance_on_a_grid_frequency_is_refused_naming_it(monkeypatch, forced):
-    monkeypatch.setattr(transfer, "FORCE_METHOD", forced)
+def test_lossless_resonance_on_a_grid_frequency_is_refused_naming_it(forced):
     circuit = netnoise.parse_netlist(TANK)
     # 0.1 .. 10 Hz at 20 points/decade: the grid's middle point is 1 Hz (to rounding)
     with pytest.raises(CircuitError) as info:
-        netnoise.analyze(circuit, output="y", band=(0.1, 10.0), points_per_decade=20)
+        netnoise.analyze(circuit, output="y", band=(0.1, 10.0), points_per_decade=20, options=SolverOptions(method=forced))
     message = str(info.value)
     assert "singular" in message and "at 1 Hz" in message
     assert "add a realistic loss" in message
@@ -154,10 +154,9 @@ R4 d 0 1meg
     f = np.logspace(0, 9, 37)
     out = {}
     for m in ("dense", "banded", "sparse"):
-        monkeypatch.setattr(transfer, "FORCE_METHOD", m)
-        out[m] = transfer.adjoint_solutions(system, selector, f)
+        out[m] = transfer.adjoint_solutions(system, selector, f, SolverOptions(method=m))
         if m == "banded":  # C3 and the controlled source widen the band: general zgbsv, not gtsv
-            assert transfer.solver_for(system)._gtsv is None
+            assert transfer.solver_for(system, SolverOptions(method=m))._gtsv is None
     for m in ("banded", "sparse"):
         np.testing.assert_allclose(out[m], out["dense"], rtol=1e-10, atol=1e-14 * np.abs(out["dense"]).max())
 
@@ -169,14 +168,12 @@ def test_tridiagonal_and_general_band_solvers_agree(monkeypatch):
         f"R{i} {'in' if i == 1 else f'n{i - 1}'} n{i} {100 + 7 * i}\nC{i} n{i} 0 {i}p" for i in range(1, 60)
     ]
     f = np.logspace(0, 10, 21)
-    monkeypatch.setattr(transfer, "DENSE_LIMIT", 10)
+    small_dense = SolverOptions(dense_limit=10)
     for extra, tridiagonal in (([], True), (["Cb n10 n12 3p"], False)):
         system = assemble(netnoise.parse_netlist("\n".join(lines + extra + [".end"]) + "\n"))
         selector = system.node_pair_vector("n59", "0")
-        monkeypatch.setattr(transfer, "FORCE_METHOD", None)
-        solver = transfer.solver_for(system)
+        solver = transfer.solver_for(system, small_dense)
         assert solver.method == "banded" and (solver._gtsv is not None) == tridiagonal
-        z = transfer.adjoint_solutions(system, selector, f)
-        monkeypatch.setattr(transfer, "FORCE_METHOD", "dense")
-        ref = transfer.adjoint_solutions(system, selector, f)
+        z = transfer.adjoint_solutions(system, selector, f, small_dense)
+        ref = transfer.adjoint_solutions(system, selector, f, SolverOptions(method="dense"))
         np.testing.assert_allclose(z, ref, rtol=1e-10, atol=1e-13 * np.abs(ref).max())

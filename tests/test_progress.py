@@ -6,6 +6,7 @@ from __future__ import annotations
 import io
 
 import netnoise
+from netnoise.engine.options import SolverOptions
 from netnoise.engine import transfer
 from netnoise.engine.mna import assemble
 from netnoise.outputs.progress import ProgressLine
@@ -66,7 +67,7 @@ def test_analyze_reports_every_frequency_it_solves(monkeypatch):
     assert set(counts) == {1}
     assert len(counts) >= len(result.frequency_Hz)
     # the dense path reports a whole batch at once
-    monkeypatch.setattr(transfer, "FORCE_METHOD", "dense")
     batches: list[int] = []
-    netnoise.analyze(circuit, output="n300", band=(1.0, 1e6), points_per_decade=10, progress=batches.append)
+    netnoise.analyze(circuit, output="n300", band=(1.0, 1e6), points_per_decade=10, progress=batches.append,
+                     options=SolverOptions(method="dense"))
     assert sum(batches) == len(counts)

@@ -28,7 +28,8 @@ from netnoise.engine.noise_sources import NoiseSources, collect_noise_sources
 from netnoise.engine.resources import require_memory
 from netnoise.results.result import NoiseResult
 from netnoise.circuit.topology import check_topology
-from netnoise.engine.total_variance import EXACT_LIMIT, finite_poles_Hz, infinite_band_totals
+from netnoise.engine.options import SolverOptions
+from netnoise.engine.total_variance import finite_poles_Hz, infinite_band_totals
 
 __all__ = ["analyze", "prepare", "PreparedAnalysis", "output_density_function", "DEFAULT_TEMPERATURE_C", "DEFAULT_POINTS_PER_DECADE"]
 
@@ -113,10 +114,11 @@ class _Problem:
 
     def __init__(
         self, circuit: ck.Circuit, settings: _Settings, progress: Callable[[int], None] | None = None,
-        system: MnaSystem | None = None,
+        system: MnaSystem | None = None, options: SolverOptions | None = None,
     ):
         self.progress = progress
         self.settings = settings
+        self.options = options or SolverOptions()
         if system is None:
             check_topology(circuit)
             system = assemble(circuit)
@@ -132,7 +134,7 @@ class _Problem:
         """The same problem for ``circuit``, a copy of this one's circuit with
         other values: topology, ordering and output kept; G, C and the noise
         densities stamped anew."""
-        return _Problem(circuit, self.settings, self.progress, self.system.refilled(circuit))
+        return _Problem(circuit, self.settings, self.progress, self.system.refilled(circuit), self.options)
 
     @property
     def has_input(self) -> bool:
@@ -151,7 +153,7 @@ class _Problem:
         out = np.empty((rows, np.size(frequency_Hz)))  # filled in place: no stacking copy
         _, signal = transfer_power(
             self.system, self.selector, self.sources.injection, self.input_vector, frequency_Hz,
-            power_out=out[:k], progress=self.progress,
+            power_out=out[:k], progress=self.progress, options=self.options,
         )
         power = out[:k]
         if colored.size:
@@ -175,7 +177,7 @@ class _Problem:
         """Magnitudes of the finite poles (Hz): all of them up to EXACT_LIMIT
         unknowns (dense QZ); beyond it, estimates of the lowest and highest
         only (:func:`netnoise.wideband.pole_range_Hz`, sparse, no dense matrix)."""
-        if self.system.size > EXACT_LIMIT:
+        if self.system.size > self.options.exact_limit:
             from netnoise.engine.wideband import pole_range_Hz
 
             cached = self.__dict__.get("_pole_range")
@@ -208,6 +210,7 @@ def analyze(
     temperature_celsius: float | None = None,
     source_resistor: str | None = None,
     progress: Callable[[int], None] | None = None,
+    options: SolverOptions | None = None,
 ) -> NoiseResult:
     """Output noise of ``circuit`` at v(output) - v(reference).
 
@@ -218,11 +221,13 @@ def analyze(
     resistor the noise figure is referred to (its noise taken at T0 = 290 K).
     ``progress``, for a progress display, is called with the number of
     frequencies just solved (grid points first, then the integrator's extra ones).
+    ``options`` (:class:`~netnoise.engine.options.SolverOptions`) chooses the
+    solver path, the dense and exact limits and the integrator's tolerance.
     """
     return prepare(
         circuit, output=output, reference=reference, input_source=input_source, band=band,
         points_per_decade=points_per_decade, temperature_celsius=temperature_celsius,
-        source_resistor=source_resistor, progress=progress,
+        source_resistor=source_resistor, progress=progress, options=options,
     ).analyze()
 
 
@@ -277,11 +282,12 @@ def prepare(
     temperature_celsius: float | None = None,
     source_resistor: str | None = None,
     progress: Callable[[int], None] | None = None,
+    options: SolverOptions | None = None,
 ) -> PreparedAnalysis:
     """An analysis of ``circuit`` set up to run (and rerun with other values);
     the arguments are those of :func:`analyze`."""
     settings = _resolve(circuit, output, reference, input_source, band, points_per_decade, temperature_celsius)
-    return PreparedAnalysis(_Problem(circuit, settings, progress), source_resistor)
+    return PreparedAnalysis(_Problem(circuit, settings, progress, options=options), source_resistor)
 
 
 def _analyze(problem: _Problem, source_resistor: str | None) -> NoiseResult:
@@ -401,7 +407,8 @@ def _infinite_band_totals(problem: _Problem) -> tuple[np.ndarray, np.ndarray | N
     quadrature with an analytic tail (:mod:`netnoise.wideband`)."""
     system = problem.system
     k = len(problem.sources)
-    if system.size > EXACT_LIMIT:
+    exact_limit = problem.options.exact_limit
+    if system.size > exact_limit:
         from netnoise.engine.wideband import wideband_totals
 
         poles = problem.poles_Hz()
@@ -419,7 +426,7 @@ def _infinite_band_totals(problem: _Problem) -> tuple[np.ndarray, np.ndarray | N
             variance = variance.copy()
             variance[unbounded_rows] = np.inf
         method = (
-            f"circuit of {system.size} unknowns, above the {EXACT_LIMIT} of the exact method: the total to "
+            f"circuit of {system.size} unknowns, above the {exact_limit} of the exact method: the total to "
             f"infinite bandwidth is integrated numerically up to {format_quantity(wide.top_Hz, 'Hz')} "
             f"(100x the estimated highest pole) plus an analytic tail ({100 * wide.tail_share:.2g} % of the "
             f"total); estimated relative error {max(wide.rel_error, 1e-2 * wide.tail_share):.1e}"

@@ -7,9 +7,9 @@ gain from *every* noise source (Rohrer, Nagel, Meyer and Weber, IEEE JSSC
 1971).
 
 Three paths with the same result, chosen by size and structure once per
-circuit (:class:`AdjointSolver`, cached per :class:`~netnoise.mna.MnaSystem`):
+circuit (:class:`AdjointSolver`, cached per system and :class:`~netnoise.engine.options.SolverOptions`):
 
-* ``dense``: up to ``DENSE_LIMIT`` unknowns, batched across frequency
+* ``dense``: up to ``SolverOptions.dense_limit`` unknowns, batched across frequency
   (numpy's stacked LU solve), in chunks bounded in memory;
 * ``banded``: a large circuit whose reverse Cuthill–McKee ordering has a
   narrow band (ladders, chains, lines): LAPACK ``zgbsv`` on the band,
@@ -29,7 +29,7 @@ matrix with probability one), and a frequency where it exceeds
 ``1/RCOND_MIN`` is refused as singular with the frequency named: exact and
 near singularity (a lossless resonance on a grid point) alike.
 
-Memory: no dense matrix is formed above ``DENSE_LIMIT`` unknowns; the band
+Memory: no dense matrix is formed above the dense limit; the band
 and the sparse factors are checked against the available memory before they
 are formed (:mod:`netnoise.resources`).
 """
@@ -43,11 +43,11 @@ import numpy as np
 
 from netnoise.errors import CircuitError
 from netnoise.engine.mna import MnaSystem
+from netnoise.engine.options import SolverOptions
 from netnoise.engine.resources import require_memory
 
-__all__ = ["adjoint_solutions", "transfer_power", "AdjointSolver", "solver_for", "DENSE_LIMIT", "RCOND_MIN"]
+__all__ = ["adjoint_solutions", "transfer_power", "AdjointSolver", "solver_for", "RCOND_MIN"]
 
-DENSE_LIMIT = 200  # unknowns; above this the banded or sparse path is used
 RCOND_MIN = 1e-13  # estimated reciprocal condition number (equilibrated) below which a frequency is refused
 # one batch of dense complex matrices: cache-sized (22 unknowns x 1001 frequencies: 18.5 ms in
 # 64 MB batches, 14.8 ms in 4 MB ones), but at least 4 frequencies (190 unknowns: 2 a batch is 20 % slower)
@@ -57,34 +57,38 @@ _BAND_ALWAYS = 16  # kl + ku up to which the banded path is taken without compar
 _PIVOT_THRESHOLD = 0.1  # SuperLU threshold partial pivoting (1.0 = classical partial pivoting)
 _GAIN_CHUNK = 32  # frequencies per block when gathering source gains
 
-FORCE_METHOD: str | None = None  # "dense", "banded" or "sparse" to override the choice (tests)
-
-_SOLVERS: "weakref.WeakKeyDictionary[MnaSystem, AdjointSolver]" = weakref.WeakKeyDictionary()
+_SOLVERS: "weakref.WeakKeyDictionary[MnaSystem, dict[SolverOptions, AdjointSolver]]" = weakref.WeakKeyDictionary()
 
 
-def solver_for(system: MnaSystem) -> "AdjointSolver":
-    """The (cached) solver of ``system``: path, pattern and ordering are
-    decided once per circuit and reused for every later frequency."""
-    solver = _SOLVERS.get(system)
-    if solver is None or solver.dense_limit != DENSE_LIMIT or solver.forced != FORCE_METHOD:
-        solver = AdjointSolver(system)
-        _SOLVERS[system] = solver
+def solver_for(system: MnaSystem, options: SolverOptions | None = None) -> "AdjointSolver":
+    """The (cached) solver of ``system`` under ``options``: path, pattern and
+    ordering are decided once per circuit and reused for every later frequency."""
+    options = options or SolverOptions()
+    by_options = _SOLVERS.setdefault(system, {})
+    solver = by_options.get(options)
+    if solver is None:
+        solver = by_options[options] = AdjointSolver(system, options)
     return solver
 
 
-def adjoint_solutions(system: MnaSystem, selector: np.ndarray, frequency_Hz: np.ndarray) -> np.ndarray:
+def adjoint_solutions(
+    system: MnaSystem, selector: np.ndarray, frequency_Hz: np.ndarray, options: SolverOptions | None = None
+) -> np.ndarray:
     """(F, n) complex ``z(f)`` with ``Y(f)ᵀ z(f) = selector`` at every frequency."""
-    return solver_for(system).solve(selector, np.asarray(frequency_Hz, dtype=float))
+    return solver_for(system, options).solve(selector, np.asarray(frequency_Hz, dtype=float))
 
 
-def transfer_power(system, selector, injection, input_vector, frequency_Hz, power_out=None, progress=None):
+def transfer_power(
+    system, selector, injection, input_vector, frequency_Hz, power_out=None, progress=None,
+    options: SolverOptions | None = None,
+):
     """``(|zᵀB|² (K, F), |zᵀu|² (F,) or None)``: the power transfer from every
     column of the sparse injection matrix ``B`` (n, K) and from the input
     vector ``u``, in blocks of frequencies (the (F, n) solutions are never
     all held at once for a large circuit).  ``power_out``: a (K, F) array to
     fill and return as the first; ``progress``: see :meth:`AdjointSolver.solve`."""
     f = np.asarray(frequency_Hz, dtype=float)
-    solver = solver_for(system)
+    solver = solver_for(system, options)
     bt = injection.T.tocsr()  # (K, n)
     k = bt.shape[0]
     power = power_out
@@ -92,7 +96,7 @@ def transfer_power(system, selector, injection, input_vector, frequency_Hz, powe
         require_memory(f.size * (k * 8 + 8), "the per-source transfer at every frequency")
         power = np.empty((k, f.size))
     signal = np.empty(f.size) if input_vector is not None else None
-    chunk = f.size if system.size <= DENSE_LIMIT else _GAIN_CHUNK
+    chunk = f.size if solver.method == "dense" else _GAIN_CHUNK
     for start in range(0, f.size, chunk):
         stop = min(f.size, start + chunk)
         z = solver.solve(selector, f[start:stop], progress)  # (Fc, n)
@@ -215,14 +219,15 @@ class AdjointSolver:
     module docstring for the paths.  ``method`` is "dense", "banded" or
     "sparse"."""
 
-    def __init__(self, system: MnaSystem):
+    def __init__(self, system: MnaSystem, options: SolverOptions | None = None):
+        options = options or SolverOptions()
         self.n = system.size
-        self.dense_limit = DENSE_LIMIT
-        self.forced = FORCE_METHOD
+        self.options = options
+        forced = options.method
         self._probe = _probe(self.n)
         self._probe_norm = float(np.abs(self._probe).max(initial=0.0))
         self._superlu_order: np.ndarray | None = None
-        if (self.n <= DENSE_LIMIT and FORCE_METHOD is None) or FORCE_METHOD == "dense":
+        if (self.n <= options.dense_limit and forced is None) or forced == "dense":
             self.method = "dense"
             self._gt = system.G.T.toarray()
             self._ct = system.C.T.toarray()
@@ -243,7 +248,7 @@ class AdjointSolver:
         # SuperLU's cost is only known after a factorisation; on MNA patterns its fill is
         # rarely below ~5 entries per unknown and its per-column overhead is ~1000 flops
         narrow = kl + ku <= _BAND_ALWAYS or band_flops <= 1000 * self.n
-        if (narrow and FORCE_METHOD is None) or FORCE_METHOD == "banded":
+        if (narrow and forced is None) or forced == "banded":
             self.method = "banded"
             require_memory(band_bytes, f"the banded LU of {self.n} unknowns (bandwidth {kl}+{ku})")
             self._pattern = banded

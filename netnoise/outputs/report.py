@@ -37,7 +37,7 @@ import numpy as np
 from netnoise.engformat import format_quantity
 from netnoise.outputs.labels import row_value_text, value_text
 from netnoise.errors import CircuitError, UsageError
-from netnoise.results.result import Contribution, NoiseResult
+from netnoise.results.result import NoiseResult
 
 if TYPE_CHECKING:  # pragma: no cover
     from netnoise.engine.dc import OperatingPoint

@@ -1,0 +1,38 @@
+"""How the engine solves: a choice a caller passes, not a module global."""
+
+from __future__ import annotations
+
+from dataclasses import dataclass
+
+from netnoise.engine.total_variance import EXACT_LIMIT
+from netnoise.errors import UsageError
+
+__all__ = ["SolverOptions", "METHODS"]
+
+METHODS = ("dense", "banded", "sparse")
+
+
+@dataclass(frozen=True)
+class SolverOptions:
+    """Solver settings of an analysis.
+
+    ``method``: "dense", "banded" or "sparse" to force a path of the adjoint
+    solver, None to let the circuit's size and structure decide.
+    ``dense_limit``: unknowns up to which the dense batched path is taken.
+    ``exact_limit``: unknowns up to which the total to infinite bandwidth is
+    exact (dense QZ, O(n³)); beyond it, quadrature plus an analytic tail.
+    ``rtol``: the band integrator's relative tolerance on its error estimate.
+    """
+
+    method: str | None = None
+    dense_limit: int = 200
+    exact_limit: int = EXACT_LIMIT
+    rtol: float = 1e-6
+
+    def __post_init__(self) -> None:
+        if self.method is not None and self.method not in METHODS:
+            raise UsageError(f"solver method must be one of {', '.join(METHODS)} or None, not {self.method!r}")
+        if self.dense_limit < 0 or self.exact_limit < 0:
+            raise UsageError("dense_limit and exact_limit must be >= 0")
+        if not 0 < self.rtol < 1:
+            raise UsageError(f"rtol must lie between 0 and 1, not {self.rtol!r}")
