@@ -52,3 +52,37 @@ def test_a_run_without_plot_does_not_import_matplotlib(tmp_path):
     )
     assert "STATUS: 0" in completed.stderr, completed.stderr
     assert "MPL: False" in completed.stderr
+
+
+def test_the_cli_module_imports_neither_the_engine_nor_matplotlib():
+    # cli.py's docstring promises it: both load when a command needs them
+    completed = _run(
+        """
+        import sys
+        import netnoise.cli
+        engine = sorted(n for n in sys.modules if n.startswith(("netnoise.engine", "netnoise.netlist", "scipy", "matplotlib")))
+        print("LOADED:" + ",".join(engine))
+        """
+    )
+    assert completed.returncode == 0, completed.stderr
+    assert completed.stdout.strip() == "LOADED:"
+
+
+def test_the_public_api_loads_on_first_use_and_the_version_comes_from_metadata():
+    import importlib.metadata
+
+    import netnoise
+
+    assert callable(netnoise.analyze) and callable(netnoise.prepare) and netnoise.NoiseResult.__name__ == "NoiseResult"
+    assert set(netnoise.__all__) <= set(dir(netnoise))
+    try:
+        expected = importlib.metadata.version("netnoise")
+    except importlib.metadata.PackageNotFoundError:
+        expected = "0+unknown"
+    assert netnoise.__version__ == expected
+
+
+def test_the_package_is_marked_typed():
+    import netnoise
+
+    assert (pathlib.Path(netnoise.__file__).parent / "py.typed").is_file()

@@ -28,16 +28,14 @@ from netnoise.engine.noise_sources import NoiseSources, collect_noise_sources
 from netnoise.engine.resources import require_memory
 from netnoise.results.result import NoiseResult
 from netnoise.circuit.topology import check_topology
+from netnoise.constants import DEFAULT_TEMPERATURE_C, T0_KELVIN, ZERO_CELSIUS_K, canonical_node
 from netnoise.engine.options import SolverOptions
 from netnoise.engine.total_variance import finite_poles_Hz, infinite_band_totals
 
 __all__ = ["analyze", "prepare", "PreparedAnalysis", "output_density_function", "DEFAULT_TEMPERATURE_C", "DEFAULT_POINTS_PER_DECADE"]
 
-DEFAULT_TEMPERATURE_C = 27.0  # the trade's customary default, 300.15 K
 DEFAULT_POINTS_PER_DECADE = 20
 DEFAULT_FLICKER_LOW_HZ = 0.1  # low band edge when 1/f noise is present and no band is given
-T0_KELVIN = 290.0  # IEEE standard reference temperature for noise figure
-ZERO_CELSIUS_K = 273.15
 
 
 @dataclass(frozen=True)
@@ -65,7 +63,8 @@ def _resolve(circuit, output, reference, input_source, band, points_per_decade, 
         output, reference = card.output_node, reference if reference is not None else card.reference_node
     if reference is None:
         reference = ck.GROUND
-    if ck.name_key(output) == ck.name_key(reference):
+    output, reference = canonical_node(output), canonical_node(reference)  # 'GND', 'gnd', '0' are one node
+    if output == reference:
         raise UsageError(f"output node and reference node are the same ('{output}')")
     if input_source is None and card is not None and card.input_source:
         input_source = card.input_source
@@ -366,8 +365,8 @@ def _analyze(problem: _Problem, source_resistor: str | None) -> NoiseResult:
     return NoiseResult(
         title=circuit.title,
         temperature_K=settings.temperature_K,
-        output_node=ck.name_key(settings.output),
-        reference_node=ck.name_key(settings.reference) if settings.reference not in ("gnd",) else ck.GROUND,
+        output_node=settings.output,
+        reference_node=settings.reference,
         input_source=problem.system.circuit.element(settings.input_source).name if problem.has_input else None,
         input_unit=problem.input_unit,
         band_low_Hz=low,

@@ -60,6 +60,7 @@ from typing import IO, TYPE_CHECKING, Any
 
 import numpy as np
 
+from netnoise.constants import celsius
 from netnoise.errors import CircuitError, UsageError
 from netnoise.outputs.labels import row_value_text
 from netnoise.outputs.report import check_finite, enob_bits
@@ -221,7 +222,7 @@ def result_to_dict(
     data: dict[str, Any] = {
         "title": result.title,
         "temperature_K": float(result.temperature_K),
-        "temperature_C": round(float(result.temperature_K) - 273.15, 9),
+        "temperature_C": round(celsius(float(result.temperature_K)), 9),
         "output": {"node": result.output_node, "ref": result.reference_node},
         "input_source": result.input_source,
         "band_Hz": {

@@ -26,6 +26,7 @@ from typing import TYPE_CHECKING
 
 import numpy as np
 
+from netnoise.constants import celsius
 from netnoise.engformat import format_quantity, si_prefix_scale
 from netnoise.errors import UsageError
 from netnoise.outputs.export import atomic_write
@@ -191,7 +192,7 @@ def _heading(result: NoiseResult) -> str:
     import textwrap
 
     title = result.title.strip() or "noise"
-    heading = f"{title}: output noise at {result.temperature_K - 273.15:.1f} °C"
+    heading = f"{title}: output noise at {celsius(result.temperature_K):.1f} °C"
     return "\n".join(textwrap.wrap(heading, width=80))
 
 

@@ -34,6 +34,7 @@ from typing import TYPE_CHECKING
 
 import numpy as np
 
+from netnoise.constants import T0_KELVIN, celsius
 from netnoise.engformat import format_quantity
 from netnoise.outputs.labels import row_value_text, value_text
 from netnoise.errors import CircuitError, UsageError
@@ -59,7 +60,7 @@ ACCURACY_NOTE_THRESHOLD = 1e-4
 MAX_SPOT_ROWS = 16
 
 #: IEEE standard noise temperature of the source, kelvin (noise figure definition).
-T0_K = 290.0
+T0_K = T0_KELVIN
 
 #: ``group_by`` values: one row per noise source, or merged by element or mechanism.
 GROUPINGS = ("source", "element", "mechanism")
@@ -204,7 +205,7 @@ def _conditions(result: NoiseResult) -> list[str]:
     kelvin = result.temperature_K
     lines = _section("Conditions")
     lines.append(_field("output", _output_text(result)))
-    lines.append(_field("temperature", f"{kelvin - 273.15:.2f} °C  ({kelvin:.2f} K)"))
+    lines.append(_field("temperature", f"{celsius(kelvin):.2f} °C  ({kelvin:.2f} K)"))
     low = _hz(result.band_low_Hz)
     if result.band_is_unbounded:
         band = f"{low} .. ∞, to infinite bandwidth (exact)"
