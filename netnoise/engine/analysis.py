@@ -249,6 +249,11 @@ class PreparedAnalysis:
         return self._problem.system.circuit
 
     @property
+    def problem(self) -> _Problem:
+        """The assembled problem (system, output selector, sources, input), for studies."""
+        return self._problem
+
+    @property
     def system(self) -> MnaSystem:
         return self._problem.system
 
