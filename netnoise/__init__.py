@@ -39,7 +39,31 @@ _LAZY = {
     "Contribution": ("netnoise.results.result", "Contribution"),
 }
 
-__all__ = [*_LAZY, "NetnoiseError", "NetlistError", "UsageError", "CircuitError", "__version__"]
+__all__ = [
+    "dc",
+    "figures",
+    "analyze",
+    "prepare",
+    "PreparedAnalysis",
+    "output_density_function",
+    "operating_point",
+    "load_netlist",
+    "parse_netlist",
+    "format_report",
+    "plot_noise",
+    "save_plot",
+    "write_json",
+    "write_csv",
+    "result_to_dict",
+    "Circuit",
+    "NoiseResult",
+    "Contribution",
+    "NetnoiseError",
+    "NetlistError",
+    "UsageError",
+    "CircuitError",
+    "__version__",
+]
 
 
 def __getattr__(name: str) -> Any:

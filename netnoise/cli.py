@@ -144,7 +144,58 @@ def build_parser() -> argparse.ArgumentParser:
         help="merge the budget's rows by element or by mechanism (default: one row per noise source)",
     )
     out.add_argument("--dc", action="store_true", help="append the DC operating point to the report")
+    _add_speed_options(analyze)
+    analyze.add_argument_group("what to change").add_argument(
+        "--sensitivity",
+        action="store_true",
+        help="rank every value by its effect on the rms noise (and on the speed, with an input source)",
+    )
+    _add_sweep_command(commands)
     return parser
+
+
+def _add_speed_options(command: argparse.ArgumentParser) -> None:
+    speed = command.add_argument_group("speed of the signal path (needs an input source)")
+    speed.add_argument("--response", action="store_true", help="add the bandwidth, rise time and overshoot")
+    speed.add_argument(
+        "--settle",
+        metavar="ACCURACY",
+        help="settling accuracy: a fraction of the step as a percentage (0.01%%) or a converter's "
+        "resolution (16bit: within half an LSB, 2^-17 of the step); implies --response",
+    )
+
+
+def _add_sweep_command(commands) -> None:
+    sweep = commands.add_parser(
+        "sweep",
+        help="vary one or two values and show the noise against the speed",
+        description="Vary element values, .param values or the temperature, and show at each point the total "
+        "noise, the dominant source, the bandwidth and the settling time: the noise-speed trade-off.",
+        epilog=_EPILOG,
+        formatter_class=argparse.RawDescriptionHelpFormatter,
+    )
+    sweep.add_argument("netlist", metavar="NETLIST", help="netlist file to read")
+    sweep.add_argument(
+        "--vary", nargs=3, action="append", required=True, metavar=("NAME", "FROM", "TO"),
+        help="an element, a .param or 'temp' (°C), from FROM to TO (suffixes allowed); give it twice for a grid",
+    )
+    sweep.add_argument("--steps", type=_count(2), default=11, metavar="N", help="points along each --vary (default 11)")
+    sweep.add_argument("--log", action="store_true", help="space the points logarithmically")
+    sweep.add_argument("--target", metavar="RMS", help="find the value that just meets this total rms noise (V)")
+    sweep.add_argument("--target-settle", metavar="TIME", help="find the value that just settles in TIME (s); needs --settle")
+    where = sweep.add_argument_group("what to analyse (as for analyze)")
+    where.add_argument("--out", metavar="NODE", help="output node")
+    where.add_argument("--ref", metavar="NODE", help="reference node of the output (default ground)")
+    where.add_argument("--input", metavar="SOURCE", help="signal input source, for the speed of response")
+    where.add_argument("--band", nargs=2, metavar=("LOW", "HIGH"), help="integration band in Hz, HIGH may be 'inf'")
+    where.add_argument("--points", type=_count(1), metavar="N", help="grid points per decade")
+    where.add_argument("--temp", metavar="CELSIUS", help="analysis temperature in °C")
+    speed = sweep.add_argument_group("speed")
+    speed.add_argument("--settle", metavar="ACCURACY", help="settling accuracy (0.01%%, or 16bit)")
+    out = sweep.add_argument_group("outputs")
+    out.add_argument("--json", metavar="PATH", help="write the sweep as JSON ('-' for standard output)")
+    out.add_argument("--csv", metavar="PATH", help="write the sweep's points as CSV")
+    out.add_argument("--plot", metavar="PATH", help="write the trade-off plot (.png, .svg or .pdf)")
 
 
 # --- option values --------------------------------------------------------
@@ -232,6 +283,26 @@ def parse_adc(triple: Sequence[str] | None) -> tuple[int, float, float] | None:
             f"write {rate_text.strip()[: -len(written)]}meg for mega"
         )
     return bits, full_scale, rate
+
+
+def parse_settle(text: str | None) -> float | None:
+    """``--settle`` as a fraction of the step: '0.01%' -> 1e-4, '16bit' -> 2^-17 (half an LSB)."""
+    if text is None:
+        return None
+    clean = text.strip().lower().replace(" ", "")
+    for suffix in ("bits", "bit", "b"):
+        if clean.endswith(suffix) and clean[: -len(suffix)].isdigit():
+            bits = int(clean[: -len(suffix)])
+            if not 1 <= bits <= 32:
+                raise UsageError(f"--settle: a converter resolution of 1 to 32 bits, not {bits}")
+            return 2.0 ** -(bits + 1)
+    try:
+        value = float(clean[:-1]) / 100.0 if clean.endswith("%") else float(clean)
+    except ValueError:
+        raise UsageError(f"--settle: cannot read '{text}'; write a percentage (0.01%) or a resolution (16bit)") from None
+    if not 0 < value < 1:
+        raise UsageError(f"--settle: the accuracy must lie between 0 and 100 %, got '{text}'")
+    return value
 
 
 def _same_file(a: str, b: str) -> bool:
@@ -329,6 +400,122 @@ def _engine_options(args: argparse.Namespace, band, temperature) -> dict:
     return options
 
 
+def _studies(args: argparse.Namespace, circuit, band, temperature, result) -> dict:
+    """The Response and What-to-change sections, when asked for."""
+    settle = parse_settle(args.settle)
+    wants_response = args.response or settle is not None
+    if not (wants_response or args.sensitivity):
+        return {}
+    if wants_response and result.input_source is None:
+        raise UsageError("--response and --settle need an input source: give --input SOURCE (or name it on .noise)")
+    from netnoise.engine import analysis
+
+    options = _engine_options(args, band, temperature)
+    options.pop("source_resistor", None)
+    prepared = analysis.prepare(circuit, **options)
+    out: dict = {}
+    problem = prepared.problem
+    if wants_response:
+        from netnoise.studies.response import speed_of_response
+
+        out["response"] = speed_of_response(problem.system, problem.selector, problem.input_vector, settle, problem.options)
+    if args.sensitivity:
+        from netnoise.studies.sensitivity import sensitivities
+
+        out["sensitivities"] = sensitivities(prepared, settle=settle)
+    return out
+
+
+def run_sweep(args: argparse.Namespace) -> int:
+    from netnoise.outputs.export import atomic_write
+    from netnoise.outputs.progress import ProgressLine
+    from netnoise.outputs.study_export import sweep_to_csv, sweep_to_json
+    from netnoise.outputs.study_text import sweep_table, target_sentence
+    from netnoise.studies.sweep import Vary, meet_target, sweep
+
+    check_outputs(args)
+    band = parse_band(args.band)
+    temperature = parse_temperature(args.temp)
+    settle = parse_settle(args.settle)
+    if len(args.vary) > 2:
+        raise UsageError("--vary at most twice (a grid of two quantities)")
+    from netnoise.text.values import parse_value
+
+    vary = []
+    for name, start, stop in args.vary:
+        try:
+            low, high = parse_value(start), parse_value(stop)
+        except ValueError as error:
+            raise UsageError(f"--vary {name}: cannot read '{start}' or '{stop}' ({error})") from None
+        vary.append(Vary.span(name, low, high, args.steps, args.log))
+    target = _positive_value("--target", args.target, "a noise rms")[0] if args.target else None
+    deadline = _positive_value("--target-settle", args.target_settle, "a settling time")[0] if args.target_settle else None
+    if target is not None and deadline is not None:
+        raise UsageError("give --target or --target-settle, not both")
+    if deadline is not None and settle is None:
+        raise UsageError("--target-settle needs --settle ACCURACY (the accuracy the settling time is taken to)")
+    circuit = _load(args.netlist)
+    check_outputs_against_includes(args, circuit)
+    from netnoise.engine import analysis
+
+    options = dict(output=args.out, reference=args.ref, input_source=args.input, band=band,
+                   points_per_decade=args.points, temperature_celsius=temperature)
+    prepared = analysis.prepare(circuit, **options)
+    if settle is not None and not prepared.problem.has_input:
+        raise UsageError("--settle needs an input source: give --input SOURCE (or name it on .noise)")
+    progress = ProgressLine(sys.stderr, unit="points")
+    try:
+        result = sweep(prepared, vary, settle=settle, progress=lambda done, total: progress(1, total))
+        answer = None
+        if target is not None or deadline is not None:
+            first = vary[0]
+            answer = meet_target(prepared, first.name, min(first.values), max(first.values),
+                                 noise_rms_V=target, settling_time_s=deadline, settle=settle)
+    finally:
+        progress.clear()
+    units = {v.name: _unit_of(circuit, v.name) for v in vary}
+    lines = [circuit.title or args.netlist] + sweep_table(result, units)
+    if answer is not None:
+        noise = result.total_rms_V
+        falling = noise[-1] < noise[0]  # noise falls as the value rises: the answer is a least value
+        if deadline is not None:
+            settling = result.settling_time_s
+            falling = settling[-1] > settling[0]
+            direction = "at most" if falling else "at least"
+        else:
+            direction = "at least" if falling else "at most"
+        lines += ["", target_sentence(answer, direction, units, settle)]
+    lines += ["", "Results are design estimates."]
+    text = "\n".join(lines) + "\n"
+    json_text = sweep_to_json(result, answer) if args.json is not None else None
+    if args.json == "-":
+        sys.stdout.write(json_text)
+        report_stream = sys.stderr
+    else:
+        report_stream = sys.stdout
+    report_stream.write(text)
+    report_stream.flush()
+    if json_text is not None and args.json != "-":
+        _write("--json", args.json, lambda: atomic_write(args.json, lambda handle: handle.write(json_text)))
+    if args.csv is not None:
+        csv_text = sweep_to_csv(result)
+        _write("--csv", args.csv, lambda: atomic_write(args.csv, lambda handle: handle.write(csv_text)))
+    if args.plot is not None:
+        from netnoise.outputs.plotting import save_figure
+        from netnoise.outputs.study_plots import plot_tradeoff
+
+        drawn = plot_tradeoff(result, units=units, target_rms=target, answer=answer)
+        _write("--plot", args.plot, lambda: save_figure(drawn.figure, args.plot))
+    return 0
+
+
+def _unit_of(circuit, name: str) -> str:
+    try:
+        return circuit.element(name).unit
+    except KeyError:
+        return ""
+
+
 def run_analyze(args: argparse.Namespace) -> int:
     from netnoise.outputs.export import atomic_write, to_csv, to_json
     from netnoise.outputs.report import format_report
@@ -368,6 +555,7 @@ def run_analyze(args: argparse.Namespace) -> int:
         from netnoise.engine.dc import operating_point
 
         extras["operating_point"] = operating_point(circuit)
+    extras.update(_studies(args, circuit, band, temperature, result))
 
     # build every text first: a refusal (a NaN, an infinity) prints and writes nothing
     report = format_report(result, top=None if args.top == 0 else args.top, **extras)
@@ -419,6 +607,8 @@ def main(argv: Sequence[str] | None = None) -> int:
     try:
         if args.command == "analyze":
             return run_analyze(args)
+        if args.command == "sweep":
+            return run_sweep(args)
         raise UsageError(f"unknown command {args.command!r}")  # argparse rejects these first
     except NetnoiseError as error:
         print(f"{ERROR_PREFIX}{error}", file=sys.stderr)

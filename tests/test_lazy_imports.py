@@ -86,3 +86,11 @@ def test_the_package_is_marked_typed():
     import netnoise
 
     assert (pathlib.Path(netnoise.__file__).parent / "py.typed").is_file()
+
+
+def test_every_lazy_name_is_public_and_every_public_name_resolves():
+    import netnoise
+
+    assert set(netnoise._LAZY) <= set(netnoise.__all__)
+    for name in netnoise.__all__:
+        assert getattr(netnoise, name) is not None

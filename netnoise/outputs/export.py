@@ -34,7 +34,8 @@ Keys present only when asked for (:func:`result_to_dict` arguments)::
             "quantisation_rms_V", "ideal_snr_dB", "analog_rms_V", "analog_snr_dB",
             "combined_snr_dB", "enob_bits", "floor_set_by"},   # "analog chain"|"converter"
     "operating_point": {"node_voltages_V": {node: V}, "element_currents_A": {name: A},
-                        "element_voltages_V": {name: V}}
+                        "element_voltages_V": {name: V}},
+    "response": {...}, "sensitivities": [...]   # see netnoise.outputs.study_export
 
 Shares sum to 1 (unless the circuit has no noise at all, when every share is
 0).  JSON may not hold NaN or infinity: a non-finite number anywhere is a
@@ -197,6 +198,8 @@ def result_to_dict(
     signal_at: str = "input",
     adc: AdcComparison | None = None,
     operating_point: OperatingPoint | None = None,
+    response: Any = None,
+    sensitivities: Any = None,
     _check: bool = True,
 ) -> dict[str, Any]:
     """The result as a dict of plain Python values, ready for ``json.dumps``.
@@ -264,6 +267,14 @@ def result_to_dict(
         data["adc"] = _adc(adc)
     if operating_point is not None:
         data["operating_point"] = _operating_point(operating_point)
+    if response is not None:
+        from netnoise.outputs.study_export import response_to_dict
+
+        data["response"] = response_to_dict(response)
+    if sensitivities is not None:
+        from netnoise.outputs.study_export import sensitivities_to_list
+
+        data["sensitivities"] = sensitivities_to_list(sensitivities)
     if _check:
         _check_finite(data, "result")
     return data

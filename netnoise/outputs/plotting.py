@@ -36,7 +36,7 @@ if TYPE_CHECKING:  # pragma: no cover
     from matplotlib.axes import Axes
     from matplotlib.figure import Figure
 
-__all__ = ["plot_noise", "save_plot", "SAVE_FORMATS"]
+__all__ = ["plot_noise", "save_plot", "save_figure", "SAVE_FORMATS"]
 
 #: File extensions :func:`save_plot` writes, with matplotlib's format name.
 SAVE_FORMATS = {".png": "png", ".svg": "svg", ".pdf": "pdf"}
@@ -225,10 +225,19 @@ def save_plot(result: NoiseResult, path: str | os.PathLike, *, top: int = 5) -> 
     if extension not in SAVE_FORMATS:
         known = ", ".join(SAVE_FORMATS)
         raise UsageError(f"cannot write a plot to '{os.fspath(path)}': use a file name ending in {known}")
+    save_figure(plot_noise(result, top=top), path)
+
+
+def save_figure(fig: "Figure", path: str | os.PathLike) -> None:
+    """Write any figure to ``path`` as PNG, SVG or PDF (by its extension),
+    atomically, through the non-interactive Agg canvas."""
+    extension = os.path.splitext(os.fspath(path))[1].lower()
+    if extension not in SAVE_FORMATS:
+        known = ", ".join(SAVE_FORMATS)
+        raise UsageError(f"cannot write a plot to '{os.fspath(path)}': use a file name ending in {known}")
     from matplotlib.backends.backend_agg import FigureCanvasAgg
 
     fmt = SAVE_FORMATS[extension]
-    fig = plot_noise(result, top=top)
     FigureCanvasAgg(fig)
     metadata = {"png": None, "svg": {"Date": None}, "pdf": {"CreationDate": None}}[fmt]
     atomic_write(path, lambda handle: fig.savefig(handle, format=fmt, dpi=150, metadata=metadata), binary=True)

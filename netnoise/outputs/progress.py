@@ -1,4 +1,4 @@
-"""A one-line count of solved frequencies on the terminal, for long runs.
+"""A one-line count of solved frequencies (or sweep points) on the terminal, for long runs.
 
 A 100,000-node network takes a minute or more; without a sign of life a
 user cannot tell a slow run from a stuck one.  :class:`ProgressLine` is
@@ -24,11 +24,13 @@ class ProgressLine:
         self,
         stream: TextIO,
         *,
+        unit: str = "frequencies",
         delay_s: float = 1.0,
         interval_s: float = 0.25,
         clock: Callable[[], float] = time.monotonic,
     ) -> None:
         self.stream = stream
+        self.unit = unit
         self.enabled = bool(getattr(stream, "isatty", lambda: False)())
         self.delay_s = delay_s
         self.interval_s = interval_s
@@ -38,7 +40,8 @@ class ProgressLine:
         self._last = -math.inf
         self._width = 0  # characters now on the line
 
-    def __call__(self, count: int) -> None:
+    def __call__(self, count: int, total: int | None = None) -> None:
+        """``count`` more done; with ``total`` (all there are), the time left is estimated."""
         self.solved += count
         if not self.enabled:
             return
@@ -46,7 +49,12 @@ class ProgressLine:
         if now - self._start < self.delay_s or now - self._last < self.interval_s:
             return
         self._last = now
-        text = f"netnoise: {self.solved} frequencies solved, {now - self._start:.0f} s"
+        elapsed = now - self._start
+        if total:
+            left = elapsed / max(self.solved, 1) * max(total - self.solved, 0)
+            text = f"netnoise: {self.solved} of {total} {self.unit} done, about {left:.0f} s left"
+        else:
+            text = f"netnoise: {self.solved} {self.unit} solved, {elapsed:.0f} s"
         self.stream.write("\r" + text.ljust(self._width))
         self.stream.flush()
         self._width = len(text)

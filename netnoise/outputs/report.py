@@ -30,12 +30,13 @@ from __future__ import annotations
 
 import dataclasses
 import math
-from typing import TYPE_CHECKING
+from typing import Any, TYPE_CHECKING
 
 import numpy as np
 
 from netnoise.constants import T0_KELVIN, celsius
 from netnoise.engformat import format_quantity
+from netnoise.outputs import study_text
 from netnoise.outputs.labels import row_value_text, value_text
 from netnoise.errors import CircuitError, UsageError
 from netnoise.results.result import NoiseResult
@@ -623,6 +624,8 @@ def format_report(
     signal_at: str = "input",
     adc: AdcComparison | None = None,
     operating_point: OperatingPoint | None = None,
+    response: Any = None,
+    sensitivities: Any = None,
 ) -> str:
     """The noise budget of ``result`` as plain text (ends with a newline).
 
@@ -633,7 +636,8 @@ def format_report(
     :func:`netnoise.figures.signal_to_noise`, with ``signal_at`` saying where
     the signal was stated), ``adc`` (from :func:`netnoise.figures.adc_comparison`)
     and ``operating_point`` (from :func:`netnoise.dc.operating_point`) add
-    their sections.  Raises :class:`CircuitError` for a result holding NaN
+    their sections, as do ``response`` (the signal path's speed) and
+    ``sensitivities`` (what to change) from :mod:`netnoise.studies`.  Raises :class:`CircuitError` for a result holding NaN
     or infinite values (nothing that is not finite is ever printed).
     """
     if top is not None and top < 1:
@@ -658,6 +662,10 @@ def format_report(
     lines += _spot_densities(result)
     lines += _budget(result, top, group_by)
     lines += _headline(result, group_by)
+    if response is not None:
+        lines += study_text.response_section(response, result.input_source or "the input", _output_text(result), result.input_unit)
+    if sensitivities is not None:
+        lines += study_text.sensitivity_section(sensitivities, result.temperature_K)
     if operating_point is not None:
         lines += _operating_point(operating_point)
     lines += _notes(result)
