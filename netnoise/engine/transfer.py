@@ -167,6 +167,7 @@ class _Pattern:
         self.g_abs, self.c_abs = np.abs(self.g_data), np.abs(self.c_data)
         by_row = np.argsort(self.rows, kind="stable")
         row_ptr = np.searchsorted(self.rows[by_row], np.arange(n + 1))
+        self.by_row, self.row_ptr = by_row, row_ptr
         self.empty = bool(np.any(np.diff(self.indptr) == 0) or np.any(np.diff(row_ptr) == 0))
         self._row_max = _SegmentMax(by_row, row_ptr)
         self._col_max = _SegmentMax(np.arange(lin.size), self.indptr)
@@ -229,8 +230,7 @@ class AdjointSolver:
         self._superlu_order: np.ndarray | None = None
         if (self.n <= options.dense_limit and forced is None) or forced == "dense":
             self.method = "dense"
-            self._gt = system.G.T.toarray()
-            self._ct = system.C.T.toarray()
+            self._dense_pattern = _Pattern(system.G.T, system.C.T)
             return
         from scipy.sparse.csgraph import reverse_cuthill_mckee
 
@@ -317,23 +317,27 @@ class AdjointSolver:
         out = np.empty((f.size, n), dtype=complex)
         chunk = max(_CHUNK_MIN_FREQUENCIES, _CHUNK_BYTES // (48 * n * n))
         probe = self._probe
-        gt, ct = self._gt, self._ct
-        gabs, cabs = np.abs(gt), np.abs(ct)
-        row_g, row_c = gabs.max(axis=1), cabs.max(axis=1)
+        p = self._dense_pattern
+        if p.empty:
+            raise _singular(float(f[0]))
+        # the equilibration works on the pattern's nonzeros (a few per row), not on n² entries
+        rows, cols = p._rows_ip, p._cols_ip
+        by_row, row_ptr = p.by_row, p.row_ptr
         for start in range(0, f.size, chunk):
             fc = f[start : start + chunk]
             s = 2j * np.pi * fc
             w_abs = np.abs(s)
-            # row scaling from the row maxima of |G| and |s|·|C| (within 2x of the row maximum
-            # of |G + sC|), then column scaling of the row-scaled magnitudes (geequ)
-            dr = _pow2(np.maximum(row_g[None, :], w_abs[:, None] * row_c[None, :]))  # (Fc, n)
-            col = np.maximum(
-                np.max(dr[:, :, None] * gabs[None, :, :], axis=1),
-                w_abs[:, None] * np.max(dr[:, :, None] * cabs[None, :, :], axis=1),
-            )
-            dc = _pow2(col)
-            yt = gt[None, :, :] + s[:, None, None] * ct[None, :, :]
-            yt *= dr[:, :, None] * dc[:, None, :]
+            # row scaling from the row maxima of |G| + |s|·|C| (a bound of |G + sC|, safe against
+            # cancellation), then column scaling of the row-scaled magnitudes (geequ)
+            mag = p.g_abs[None, :] + w_abs[:, None] * p.c_abs[None, :]  # (Fc, nnz)
+            dr = _pow2(np.maximum.reduceat(mag[:, by_row], row_ptr[:-1], axis=1))  # (Fc, n)
+            mag *= dr[:, rows]
+            dc = _pow2(np.maximum.reduceat(mag, p.indptr[:-1], axis=1))  # CSC order: columns
+            data = p.g_data[None, :] + s[:, None] * p.c_data[None, :]
+            data *= dr[:, rows] * dc[:, cols]
+            yt = np.zeros((fc.size, n * n), dtype=complex)
+            yt[:, rows * n + cols] = data
+            yt = yt.reshape(fc.size, n, n)
             rhs = np.empty((fc.size, n, 2), dtype=complex)
             rhs[:, :, 0] = dr * c[None, :]
             rhs[:, :, 1] = probe[None, :]
