@@ -239,18 +239,24 @@ def analyze(
             points_per_decade=settings.points_per_decade, groups=problem.groups(extra_colored=colored),
             linear_below=start if low == 0.0 else None,
         )
-        totals = exact
+        rel_error = 0.0
         if low > 0.0:
-            below = integrate_band(
-                lambda f: problem.densities(f, "white"), 0.0, low, points_per_decade=settings.points_per_decade,
-                groups=problem.groups(), linear_below=_linear_start(poles, low),
+            # [low, inf) integrated itself, never as the exact [0, inf) total minus a numerical [0, low]
+            # (that difference cancels catastrophically for a band far above the poles): the full
+            # densities over [low, top] (`shown`, 1/f parts included), plus the white parts above top,
+            # which fall at least as 1/f² there, integrated in u = 1/f (:func:`_white_tail`).
+            # Above top the 1/f parts are negligible (and unbounded where a path does not roll off).
+            tail, tail_error = _white_tail(problem, top)
+            first_row = k + (int(sources.colored.sum()) if colored else 0)
+            totals = np.concatenate([shown.values[:k], shown.values[first_row:]]) + tail
+            rel_error = shown.rel_error + tail_error
+            method = (
+                f"from {format_quantity(low, 'Hz')} to infinite bandwidth: integrated numerically up to there, "
+                "and above it in the variable 1/f"
             )
-            totals = exact - below.values
+        else:
+            totals = exact
         totals = np.maximum(totals, 0.0)
-        if colored:  # the 1/f parts, integrated numerically over [low, top]; above top they are negligible
-            totals = totals.copy()
-            totals[np.flatnonzero(sources.colored)] += shown.values[k : k + int(sources.colored.sum())]
-        rel_error = shown.rel_error if (low > 0 or colored) else 0.0
         notes.append(
             f"spectrum shown up to {format_quantity(top, 'Hz')} (100x the highest pole); " + method
             + ("; 1/f parts are integrated up to there" if colored else "")
@@ -312,6 +318,31 @@ def _linear_start(poles: np.ndarray | None, high: float) -> float:
     if poles is not None and poles.size:
         return min(high / 10.0, _decade_floor(poles.min() / 100.0))
     return high * 1e-4
+
+
+# Gauss–Legendre nodes for the white noise above `top` in u = 1/f: top is at least 100x the
+# highest pole, so S(1/u)/u² is analytic on [0, 1/top] with its nearest singularity 100 interval
+# lengths away; 16 nodes then reach rounding, and 8 nodes give the error estimate.
+_TAIL_NODES = 16
+
+
+def _white_tail(problem: _Problem, top: float) -> tuple[np.ndarray, float]:
+    """∫_top^∞ of every white row of :meth:`_Problem.densities` (sources, then |H|² of the input),
+    in u = 1/f: ∫_0^{1/top} S(1/u) u⁻² du (no node at u = 0, i.e. no solve at infinite
+    frequency); and the estimated relative error of the largest group total."""
+    rules = []
+    for nodes in (_TAIL_NODES, _TAIL_NODES // 2):
+        x, w = np.polynomial.legendre.leggauss(nodes)
+        u = (x + 1.0) / (2.0 * top)
+        density = problem.densities(1.0 / u, "white")
+        rules.append(density @ (w / (2.0 * top) / u**2))
+    fine, coarse = rules
+    error = 0.0
+    for rows in problem.groups():
+        total = float(np.sum(fine[rows]))
+        if total > 0:
+            error = max(error, float(np.sum(np.abs(fine[rows] - coarse[rows]))) / total)
+    return fine, error
 
 
 def _infinite_band_totals(problem: _Problem) -> tuple[np.ndarray, np.ndarray | None, str]:
