@@ -86,3 +86,128 @@ def test_band_to_infinity_of_a_three_pole_network_matches_quad(low):
     pieces.append(quad(lambda u: float(density(np.array([1.0 / u]))[0]) / u**2, 0.0, 1.0 / top,
                        limit=200, epsabs=0, epsrel=1e-10)[0])
     assert result.total_variance == pytest.approx(sum(pieces), rel=1e-6)
+
+
+# --- 2. underflow and overflow: refused naming the element, never shown as a number ------------
+
+def _analyze_text(text, **kwargs):
+    return netnoise.analyze(netnoise.parse_netlist(text), temperature_celsius=T - 273.15, **kwargs)
+
+
+# (netlist, band, words the message must contain): every value whose noise or its square
+# would leave the doubles is refused by name, whatever the band
+OUT_OF_RANGE = [
+    ("R1 a 0 1e308\nC1 a 0 1n\n", (1.0, 1e3), ["R1", "1e+308 Ω", "1e-60 Ω to 1e+60 Ω"]),
+    ("R1 a 0 1e-300\nR2 a 0 1e300\nC1 a 0 1n\n", (1.0, 1e3), ["R1", "1e-300 Ω"]),
+    ("R1 a 0 1e-300\nR2 a 0 1e300\nC1 a 0 1n\n", (0.0, math.inf), ["R1", "1e-300 Ω"]),
+    ("R1 a 0 1e50\nC1 a 0 1e300\n", (0.0, math.inf), ["C1", "1e+300 F"]),
+    ("R1 a 0 1k\nL1 a 0 1e-200\n", (1.0, 1e3), ["L1", "1e-200 H"]),
+    (".model big opamp (en=1e300)\nR1 in 0 1k\nXu1 in a a big\nR2 a 0 1k\nC1 a 0 1n\n", (1.0, 1e3),
+     ["Xu1", "model big", "en = 1e+300 V/√Hz"]),
+    (".model big opamp (in=1e200)\nR1 in 0 1k\nXu1 in a a big\nR2 a 0 1k\nC1 a 0 1n\n", (1.0, 1e3),
+     ["Xu1", "in = 1e+200 A/√Hz"]),
+    ("V1 in 0 noise=1e200\nR1 in a 1k\nC1 a 0 1n\n", (1.0, 1e3), ["V1", "1e+200 V/√Hz"]),
+    ("V1 in 0 noise=1e-170\nR1 in a 1k\nC1 a 0 1n\n", (1.0, 1e3), ["V1", "1e-170 V/√Hz"]),
+    ("V1 in 0 noise=1n corner=1e300 slope=2\nR1 in a 1k\nC1 a 0 1n\n", (1.0, 1e3), ["V1", "corner"]),
+    ("V1 in 0 DC 1\nR1 in a 1k ni=1e300\nC1 a 0 1n\nR2 a 0 1k\n", (1.0, 1e3), ["R1", "noise index 1e+300 dB"]),
+    ("R1 in 0 1k\nE1 b 0 in 0 1e308\nR2 b a 1k\nC1 a 0 1n\n", (0.0, math.inf), ["E1", "gain 1e+308 V/V"]),
+    ("R1 in 0 1k\nE1 b 0 in 0 1e300\nR2 b a 1k\nC1 a 0 1n\n", (1.0, 1e3), ["E1", "1e+300"]),
+    ("R1 in 0 1k\nG1 a 0 in 0 -1e100\nR2 a 0 1k\nC1 a 0 1n\n", (1.0, 1e3), ["G1", "transconductance"]),
+]
+
+
+@pytest.mark.parametrize("body, band, words", OUT_OF_RANGE)
+def test_values_beyond_the_doubles_are_refused_by_name(body, band, words):
+    with pytest.raises(CircuitError) as info:
+        _analyze_text("t\n" + body + ".end\n", output="a", band=band)
+    for word in words:
+        assert word in str(info.value)
+
+
+@pytest.mark.parametrize("r", [1e-60, 1e-30, 1e30, 1e60])
+def test_the_ends_of_the_resistance_range_are_computed_correctly(r):
+    # kT/C equipartition (any statistical-mechanics text) for R ∥ C at the ends of the range
+    # netnoise accepts; relative tolerance 1e-9
+    c = 1e-9
+    result = _at_T(circuit(R("R1", "a", "0", r), C("C1", "a", "0", c)), output="a", band=(0.0, math.inf))
+    assert result.total_variance == pytest.approx(K_B * T / c, rel=1e-9)
+    # the one-pole spectrum at its corner: 4kTR/2 (Johnson 1928; Nyquist 1928), relative 1e-9
+    fc = 1.0 / (2 * math.pi * r * c)
+    spot = _at_T(circuit(R("R1", "a", "0", r), C("C1", "a", "0", c)), output="a", band=(fc / 10, fc * 10))
+    assert spot.spot_density(fc) ** 2 == pytest.approx(2 * K_B * T * r, rel=1e-6)
+
+
+def test_a_source_that_cannot_reach_the_output_prints_zero_not_a_stand_in():
+    # a noiseless network: the density is exactly 0 and the spot value must say 0, not 1e-150
+    result = _analyze_text("t\nR1 a 0 1k noiseless\nC1 a 0 1n\n.end\n", output="a", band=(1.0, 1e3))
+    assert result.spot_density(10.0) == 0.0 and result.total_rms == 0.0
+
+
+# --- 3. couplings that cannot exist --------------------------------------------------------
+
+COUPLED = "k\nV1 in 0 AC 1\nR1 in a 50\nL1 a 0 1m\nL2 b 0 4m\nR2 b 0 1k\nL3 c 0 9u\nR3 c 0 10\n"
+
+BAD_COUPLINGS = [
+    ("K1 L1 L1 0.5\n", ["K1", "L1", "with itself"]),
+    ("K1 L1 L2 0.5\nK2 L2 L1 0.3\n", ["K1", "K2", "L1", "L2", "one coupling"]),
+    ("K1 L1 L2 0.5\nK2 L1 L2 0.5\n", ["K1", "K2"]),
+    # k12 = k23 = 0.9, k13 = -0.9: det of the coefficient matrix 1 - 3·0.81 - 2·0.729 < 0
+    ("K1 L1 L2 0.9\nK2 L2 L3 0.9\nK3 L1 L3 -0.9\n", ["K1", "K2", "K3", "L1", "L2", "L3", "positive semidefinite"]),
+    # 0.8, 0.8, 0.1: det = 1 - 1.29 + 2·0.064 < 0
+    ("K1 L1 L2 0.8\nK2 L2 L3 0.8\nK3 L1 L3 0.1\n", ["K1, K2, K3", "L1, L2, L3"]),
+]
+
+
+@pytest.mark.parametrize("couplings, words", BAD_COUPLINGS)
+def test_impossible_couplings_are_refused_naming_them(couplings, words):
+    with pytest.raises(CircuitError) as info:
+        _analyze_text(COUPLED + couplings + ".end\n", output="b", band=(1.0, 1e6))
+    for word in words:
+        assert word in str(info.value)
+
+
+@settings(max_examples=60, deadline=None)
+@given(st.lists(st.floats(-1.0, 1.0), min_size=3, max_size=3))
+def test_three_coil_couplings_accepted_exactly_when_the_inductance_matrix_can_exist(k):
+    # reference: numpy.linalg.eigvalsh of the inductance matrix [[L_i, k_ij·√(L_i·L_j)]] built
+    # here (a physical set of coils stores non-negative energy ½ iᵀ L i: L positive semidefinite)
+    from netnoise.circuit.topology import check_couplings
+
+    values = [1e-3, 4e-3, 9e-6]
+    matrix = np.diag(values)
+    for (i, j), kij in zip([(0, 1), (1, 2), (0, 2)], k):
+        matrix[i, j] = matrix[j, i] = kij * math.sqrt(values[i] * values[j])
+    d = 1 / np.sqrt(values)
+    lowest = np.linalg.eigvalsh(d[:, None] * matrix * d[None, :])[0]
+    if abs(lowest) < 1e-9:  # on the boundary either answer is right
+        return
+    text = COUPLED + "".join(f"K{n} {a} {b} {kij!r}\n" for n, ((a, b), kij) in
+                             enumerate(zip([("L1", "L2"), ("L2", "L3"), ("L1", "L3")], k), 1) if kij != 0)
+    ckt = netnoise.parse_netlist(text + ".end\n")
+    if lowest > 0:
+        check_couplings(ckt)
+    else:
+        with pytest.raises(CircuitError):
+            check_couplings(ckt)
+
+
+def test_a_perfect_transformer_is_accepted():
+    # k = 1: the inductance matrix is singular but positive semidefinite (an ideal transformer)
+    from netnoise.circuit.topology import check_couplings
+
+    check_couplings(netnoise.parse_netlist(COUPLED + "K1 L1 L2 1\n.end\n"))
+
+
+# --- 4 (part). negative capacitance and inductance, refused like a negative resistance ---------
+
+@pytest.mark.parametrize("line, words", [
+    ("R2 a 0 -1k\n", ["R2", "negative resistance"]),
+    ("C2 a 0 -1n\n", ["C2", "negative capacitance"]),
+    ("L2 a 0 -1m\n", ["L2", "negative inductance"]),
+])
+def test_negative_r_c_l_are_refused_alike(line, words):
+    with pytest.raises(CircuitError) as info:
+        _analyze_text("t\nR1 a 0 1k\nC1 a 0 1n\n" + line + ".end\n", output="a", band=(1.0, 1e3))
+    for word in words:
+        assert word in str(info.value)
+    assert "active" in str(info.value)
