@@ -39,6 +39,7 @@ from scipy import constants
 from netnoise import circuit as ck
 from netnoise.engformat import format_quantity
 from netnoise.engine.mna import MnaSystem
+from netnoise.errors import CircuitError
 
 __all__ = ["NoiseSource", "NoiseSources", "NoiseContext", "collect_noise_sources", "MECHANISMS", "BOLTZMANN"]
 
@@ -121,6 +122,35 @@ class NoiseContext:
         return float((x[a] if a >= 0 else 0.0) - (x[b] if b >= 0 else 0.0))
 
 
+# V/√Hz or A/√Hz: the amplitude densities netnoise computes with (the noise of a resistor in
+# topology.RESISTANCE_RANGE lies well inside).  The square (the power density) of a value outside
+# underflows to 0 or overflows, and its products with squared transfers leave the doubles.
+AMPLITUDE_RANGE = (1e-60, 1e30)
+
+
+def _power_density(owner: str, what: str, amplitude: float, unit: str, corner_Hz: float = 0.0, slope: float = 1.0):
+    """(white, 1/f part at 1 Hz) power densities of the amplitude density ``amplitude`` with a
+    1/f^slope part below ``corner_Hz``: amplitude² and amplitude²·corner^slope, checked where
+    they are formed; CircuitError naming ``owner`` and the value when they would not be
+    normal floating-point numbers."""
+    low, high = AMPLITUDE_RANGE
+    if not (low <= amplitude <= high):
+        raise CircuitError(
+            f"{owner}: {what} {amplitude:g} {unit} is outside the range netnoise computes correctly "
+            f"({low:g} to {high:g} {unit}): its square, the noise power density, would be shown as 0 or "
+            "overflow. Give a value in the range (leave the noise out for a noiseless part)"
+        )
+    white = amplitude**2
+    if corner_Hz <= 0.0:
+        return white, 0.0
+    if 2.0 * math.log10(amplitude) + slope * math.log10(corner_Hz) > 2.0 * math.log10(high):
+        raise CircuitError(
+            f"{owner}: {what} {amplitude:g} {unit} with a 1/f corner at {corner_Hz:g} Hz gives a density at "
+            f"1 Hz above ({high:g} {unit})², beyond what netnoise computes correctly: lower the corner frequency"
+        )
+    return white, white * corner_Hz**slope
+
+
 def _current_between(system: MnaSystem, nodes) -> tuple[tuple[int, float], ...]:
     rows = []
     for node, sign in zip(nodes, (1.0, -1.0)):
@@ -157,7 +187,17 @@ def excess_sources(ctx: NoiseContext) -> Iterator[NoiseSource]:
             v_dc = ctx.dc_voltage(element.nodes)
             if not injection or v_dc == 0.0:
                 continue
-            per_volt = 10.0 ** (element.noise_index_dB / 20.0) * 1e-6  # V rms per V of DC, per decade
+            # V rms per V of DC, per decade; the exponent checked before it is raised (ni=1e300 overflows)
+            log_noise = element.noise_index_dB / 20.0 - 6.0 + math.log10(abs(v_dc))
+            low, high = AMPLITUDE_RANGE
+            if not (math.log10(low) <= log_noise <= math.log10(high)):
+                raise CircuitError(
+                    f"{element.name}: noise index {element.noise_index_dB:g} dB at {abs(v_dc):g} V of DC gives an "
+                    f"excess noise {'above 1e300' if log_noise > 300 else 'below 1e-300' if log_noise < -300 else f'of {10.0**log_noise:.3g}'} "
+                    "V per decade, outside the range netnoise computes "
+                    f"correctly ({low:g} to {high:g} V): give a noise index in the makers' range (about -50 to +30 dB)"
+                )
+            per_volt = 10.0 ** (element.noise_index_dB / 20.0) * 1e-6
             # voltage density K/f with ∫_f^{10f} K/f df = K·ln 10 = (per_volt·V_dc)²;
             # in parallel as a current: K/R²
             k_voltage = (per_volt * v_dc) ** 2 / math.log(10.0)
@@ -188,9 +228,9 @@ def shot_sources(ctx: NoiseContext) -> Iterator[NoiseSource]:
                 )
 
 
-def _spec_density(spec: ck.NoiseSpec) -> tuple[float, float, float]:
-    white = spec.white**2
-    return white, white * spec.corner_Hz**spec.slope if spec.corner_Hz > 0 else 0.0, spec.slope
+def _spec_density(spec: ck.NoiseSpec, owner: str, unit: str) -> tuple[float, float, float]:
+    white, flicker = _power_density(owner, "noise density", spec.white, unit, spec.corner_Hz, spec.slope)
+    return white, flicker, spec.slope
 
 
 def explicit_sources(ctx: NoiseContext) -> Iterator[NoiseSource]:
@@ -205,7 +245,7 @@ def explicit_sources(ctx: NoiseContext) -> Iterator[NoiseSource]:
         else:
             injection = _current_between(ctx.system, element.nodes)
             unit = "A/√Hz"
-        white, flicker, slope = _spec_density(spec)
+        white, flicker, slope = _spec_density(spec, element.name, unit)
         corner = f", corner {format_quantity(spec.corner_Hz, 'Hz')}" if spec.corner_Hz > 0 else ""
         shot_too = isinstance(element, ck.CurrentSource) and element.shot
         yield NoiseSource(
@@ -228,7 +268,9 @@ def amplifier_sources(ctx: NoiseContext) -> Iterator[NoiseSource]:
             continue
         model = element.model
         if model.voltage_noise > 0:
-            white = model.voltage_noise**2
+            white, flicker = _power_density(
+                f"{element.name} (model {model.name})", "en =", model.voltage_noise, "V/√Hz", model.voltage_noise_corner_Hz
+            )
             p1 = system.internal_index[f"{ck.name_key(element.name)}#p1"]
             yield NoiseSource(
                 name=f"{element.name} (voltage)",
@@ -237,10 +279,12 @@ def amplifier_sources(ctx: NoiseContext) -> Iterator[NoiseSource]:
                 value=f"{model.name}: {format_quantity(model.voltage_noise, 'V/√Hz')}",
                 injection=((p1, system.amplifier_input_transconductance(element)),),
                 white_density=white,
-                flicker_at_1Hz=white * model.voltage_noise_corner_Hz,
+                flicker_at_1Hz=flicker,
             )
         if model.current_noise > 0:
-            white = model.current_noise**2
+            white, flicker = _power_density(
+                f"{element.name} (model {model.name})", "in =", model.current_noise, "A/√Hz", model.current_noise_corner_Hz
+            )
             for pin, label in zip(element.nodes[:2], ("in+", "in-")):
                 injection = _current_between(system, (pin, ck.GROUND))
                 if injection:
@@ -251,7 +295,7 @@ def amplifier_sources(ctx: NoiseContext) -> Iterator[NoiseSource]:
                         value=f"{model.name}: {format_quantity(model.current_noise, 'A/√Hz')}",
                         injection=injection,
                         white_density=white,
-                        flicker_at_1Hz=white * model.current_noise_corner_Hz,
+                        flicker_at_1Hz=flicker,
                     )
 
 
