@@ -27,7 +27,7 @@ from netnoise.engine.mna import MnaSystem, assemble
 from netnoise.engine.noise_sources import NoiseSources, collect_noise_sources
 from netnoise.engine.resources import require_memory
 from netnoise.results.result import NoiseResult
-from netnoise.circuit.topology import check_topology
+from netnoise.circuit.topology import check_couplings, check_element_values, check_topology
 from netnoise.engine.total_variance import EXACT_LIMIT, finite_poles_Hz, infinite_band_totals
 
 __all__ = ["analyze", "output_density_function", "DEFAULT_TEMPERATURE_C", "DEFAULT_POINTS_PER_DECADE"]
@@ -114,6 +114,8 @@ class _Problem:
     def __init__(self, circuit: ck.Circuit, settings: _Settings, progress: Callable[[int], None] | None = None):
         self.progress = progress
         check_topology(circuit)
+        check_element_values(circuit)
+        check_couplings(circuit)
         self.system: MnaSystem = assemble(circuit)
         self.selector = self.system.node_pair_vector(settings.output, settings.reference)
         self.sources: NoiseSources = collect_noise_sources(self.system, settings.temperature_K)
@@ -137,17 +139,34 @@ class _Problem:
         rows = k + colored.size + self.has_input
         require_memory(rows * np.size(frequency_Hz) * 8, "the per-source transfer at every frequency")
         out = np.empty((rows, np.size(frequency_Hz)))  # filled in place: no stacking copy
-        _, signal = transfer_power(
-            self.system, self.selector, self.sources.injection, self.input_vector, frequency_Hz,
-            power_out=out[:k], progress=self.progress,
-        )
-        power = out[:k]
-        if colored.size:
-            out[k : k + colored.size] = power[colored] * self.sources.density(frequency_Hz, "colored")[colored]
-        power *= self.sources.density(frequency_Hz, part)
-        if signal is not None:
-            out[-1] = signal
+        with np.errstate(over="ignore", invalid="ignore"):  # an overflow here is refused just below, by name
+            _, signal = transfer_power(
+                self.system, self.selector, self.sources.injection, self.input_vector, frequency_Hz,
+                power_out=out[:k], progress=self.progress,
+            )
+            power = out[:k]
+            if colored.size:
+                out[k : k + colored.size] = power[colored] * self.sources.density(frequency_Hz, "colored")[colored]
+            power *= self.sources.density(frequency_Hz, part)
+            if signal is not None:
+                out[-1] = signal
+        if not np.isfinite(out).all():
+            self._refuse_overflow(out[:k], signal)
         return out
+
+    def _refuse_overflow(self, power: np.ndarray, signal: np.ndarray | None) -> None:
+        """CircuitError naming the sources (or the signal path) whose output density overflowed:
+        a squared transfer times a source density beyond the largest double (~1.8e308)."""
+        bad = np.flatnonzero(~np.isfinite(power).all(axis=1))
+        names = [f"{self.sources.sources[i].name} ({self.sources.sources[i].value})" for i in bad]
+        what = ", ".join(names[:5]) + (f" and {len(names) - 5} more" if len(names) > 5 else "")
+        if not what:
+            what = "the signal input" if signal is not None and not np.isfinite(signal).all() else "a source"
+        raise CircuitError(
+            f"the output noise density of {what} overflows (above ~1e308 V²/Hz): a transfer to the output is "
+            f"too large to square (largest element values: {_extreme_values(self.system.circuit)}). "
+            "Check the gains and element values"
+        )
 
     def groups(self, extra_colored: bool = False) -> list[slice]:
         """Row ranges judged together by the integrator, matching :meth:`densities`."""
@@ -284,6 +303,7 @@ def analyze(
         if gain_integral is None:
             notes.append("the signal path has no roll-off: its noise bandwidth is unbounded")
     _refuse_non_finite(source_variance, source_density)
+    _refuse_underflow(problem, source_variance)
     figure = _noise_figure(problem, source_resistor, source_variance, source_density) if source_resistor else None
     return NoiseResult(
         title=circuit.title,
@@ -394,6 +414,39 @@ def _infinite_band_totals(problem: _Problem) -> tuple[np.ndarray, np.ndarray | N
             "that limits the real circuit's bandwidth"
         )
     return variance, poles, method
+
+
+def _extreme_values(circuit: ck.Circuit, most: int = 3) -> str:
+    """The elements whose values lie furthest from 1 in decades, e.g. "E1 = 1e+45, R2 = 1e-40",
+    to name in a message about overflow or underflow."""
+    values = []
+    for element in circuit.elements:
+        for attribute in ("resistance", "capacitance", "inductance", "gain", "transconductance", "transresistance"):
+            value = getattr(element, attribute, None)
+            if isinstance(value, float) and value != 0.0 and math.isfinite(value):
+                values.append((abs(math.log10(abs(value))), f"{element.name} = {value:g}"))
+    values.sort(key=lambda pair: -pair[0])
+    return ", ".join(text for _, text in values[:most]) or "none"
+
+
+# below the smallest normal double a value has lost digits (subnormal) or is 0 by underflow
+_SMALLEST_NORMAL = float(np.finfo(float).tiny)
+
+
+def _refuse_underflow(problem: _Problem, variance: np.ndarray) -> None:
+    """CircuitError naming the sources whose noise underflowed: a source density, or a positive
+    band total at the output, below the smallest normal double (2.2e-308).  (Densities on the
+    grid may underflow where a source is filtered away, e.g. far up a ladder: that is no error.)"""
+    white = np.asarray(problem.sources.white_density)
+    small = ((variance > 0) & (variance < _SMALLEST_NORMAL)) | ((white > 0) & (white < _SMALLEST_NORMAL))
+    if small.any():
+        names = [problem.sources.sources[i].name for i in np.flatnonzero(small)]
+        raise CircuitError(
+            f"the output noise of {', '.join(names[:5])}{' and more' if len(names) > 5 else ''} underflows: it is "
+            f"below {_SMALLEST_NORMAL:.3g} (V²/Hz or V²), the smallest number computed with full precision, so it "
+            f"would be shown as 0 or with wrong digits (most extreme values: {_extreme_values(problem.system.circuit)}). "
+            "Bring the element values closer to those of the real parts"
+        )
 
 
 def _refuse_non_finite(variance: np.ndarray, density: np.ndarray) -> None:

@@ -56,7 +56,14 @@ class _Scaled:
 def _scale(G: np.ndarray, C: np.ndarray, c: np.ndarray, B: np.ndarray) -> _Scaled:
     norm_g = np.abs(G).sum(axis=0).max() if G.size else 0.0
     norm_c = np.abs(C).sum(axis=0).max() if C.size else 0.0
-    s0 = norm_g / norm_c if norm_c > 0 and norm_g > 0 else 1.0
+    with np.errstate(over="ignore"):
+        s0 = norm_g / norm_c if norm_c > 0 and norm_g > 0 else 1.0
+    if not (math.isfinite(s0) and s0 > 0.0):  # overflow or underflow of the time scale: refused, not NaN
+        raise CircuitError(
+            f"the circuit's time scale ‖G‖/‖C‖ ({norm_g:.3g} / {norm_c:.3g}) lies beyond the range of "
+            "floating-point numbers, so its noise to infinite bandwidth cannot be computed: check for extreme "
+            "element values (gains, capacitances, inductances)"
+        )
     m = np.abs(G) + s0 * np.abs(C)
     dr = np.ones(G.shape[0])
     dc = np.ones(G.shape[0])
