@@ -298,7 +298,7 @@ def analyze(
     gain = gain_integral = gain_peak = None
     if problem.has_input:
         gain = np.sqrt(shown.grid_density[gain_row])
-        gain_peak = math.sqrt(shown.sample_max[gain_row])  # every sample of `shown` lies in the band
+        gain_peak = math.sqrt(_gain_peak_power(problem, shown, gain_row, low, high, settings.points_per_decade))
         gain_integral = float(totals[-1]) if math.isfinite(totals[-1]) else None
         if gain_integral is None:
             notes.append("the signal path has no roll-off: its noise bandwidth is unbounded")
@@ -331,6 +331,46 @@ def analyze(
         integration_rel_error=rel_error,
         notes=tuple(notes),
     )
+
+
+# Brent's bounded search stops within this distance in ln f of the peak: the peak value is then
+# within ~(this · Q)² relative of the true maximum (|H|² is quadratic in ln f at its top, with
+# curvature ~Q²), i.e. rounding for any Q up to 1e3
+_PEAK_XATOL = 1e-9
+
+
+def _gain_peak_power(problem: _Problem, shown, row: int, low: float, high: float, points_per_decade: float) -> float:
+    """The largest |H|² of the signal path in the band: the largest sample of the integrator
+    (grid, refinements, 0 Hz), refined by Brent's bounded search in ln f (scipy) between its
+    neighbours, which lie within one grid step on either side (a sample is never further than
+    that from the next one): a peak between grid points is found, not its nearest sample."""
+    best = float(shown.sample_max[row])
+    at = float(shown.sample_argmax_Hz[row]) if shown.sample_argmax_Hz is not None else float("nan")
+    if not (at > 0.0 and math.isfinite(at)):  # at 0 Hz, or not known: the band edge is the peak
+        return best
+    from scipy.optimize import minimize_scalar
+
+    step = 10.0 ** (1.0 / points_per_decade)
+    lo, hi = math.log(max(at / step, low if low > 0 else at / step)), math.log(min(at * step, high))
+    if not hi > lo:
+        return best
+
+    def negative_power(u: float) -> float:
+        _, signal = _transfer_signal(problem, np.array([math.exp(u)]))
+        return -float(signal[0])
+
+    found = minimize_scalar(negative_power, bounds=(lo, hi), method="bounded", options={"xatol": _PEAK_XATOL})
+    return max(best, -float(found.fun))
+
+
+def _transfer_signal(problem: _Problem, frequency_Hz: np.ndarray):
+    """|H|² of the signal path alone (no noise sources) at ``frequency_Hz``."""
+    import scipy.sparse as sp
+
+    from netnoise.engine.transfer import transfer_power
+
+    none = sp.csc_matrix((problem.system.size, 0))
+    return transfer_power(problem.system, problem.selector, none, problem.input_vector, frequency_Hz)
 
 
 def _linear_start(poles: np.ndarray | None, high: float) -> float:
