@@ -211,3 +211,96 @@ def test_negative_r_c_l_are_refused_alike(line, words):
     for word in words:
         assert word in str(info.value)
     assert "active" in str(info.value)
+
+
+# --- 6. the gain peak between grid points, and the noise bandwidth that depends on it ------------
+
+def _second_order_low_pass(q, f0=5e3, l_value=1e-3):
+    """V1 – R – L – out, C from out to ground: H = 1/(1 − ω²LC + jωRC), Q = √(L/C)/R."""
+    c_value = 1.0 / ((2 * math.pi * f0) ** 2 * l_value)
+    r_value = math.sqrt(l_value / c_value) / q
+    return circuit(V("V1", "in", "0"), R("R1", "in", "m", r_value), L("L1", "m", "out", l_value),
+                   C("C1", "out", "0", c_value))
+
+
+@pytest.mark.parametrize("points", [1, 2, 3, 7])
+def test_peak_of_a_q2_low_pass_on_a_coarse_grid(points):
+    q = 2.0
+    result = _at_T(_second_order_low_pass(q), output="out", input_source="V1", band=(10.0, 1e6), points_per_decade=points)
+    # the standard second-order result: |H|max = Q/√(1 − 1/(4Q²)); relative tolerance 1e-6
+    assert result.gain_at_max == pytest.approx(q / math.sqrt(1 - 1 / (4 * q * q)), rel=1e-6)
+
+
+@settings(max_examples=25, deadline=None, suppress_health_check=[HealthCheck.too_slow])
+@given(st.floats(0.75, 100.0), st.floats(1.0, 4.0), st.floats(1e2, 1e7))
+def test_peak_and_noise_bandwidth_of_any_second_order_low_pass(q, points, f0):
+    result = _at_T(_second_order_low_pass(q, f0=f0), output="out", input_source="V1", band=(0.0, math.inf),
+                   points_per_decade=points)
+    peak = q / math.sqrt(1 - 1 / (4 * q * q))  # standard second-order result, relative 1e-6
+    assert result.gain_at_max == pytest.approx(peak, rel=1e-6)
+    # ∫0^∞ |H|² df = Q·f0·π/2 for H = 1/(1 − (f/f0)² + j f/(Q f0)) (the standard integral of a
+    # second-order low-pass, e.g. by residues); ENBW = that / peak², relative 1e-6
+    assert result.enbw_Hz == pytest.approx(q * f0 * math.pi / 2 / peak**2, rel=1e-6)
+
+
+# --- 5. the exact infinite-band total: finite noise is not declared unbounded -------------------
+
+# an improved current pump (Howland type: one amplifier, negative feedback through R3/R4, positive
+# feedback from the load node through R2) driving a parallel RC load; invented values, with a
+# fast, high-gain amplifier model.  The decoupling of its pencil is ill-separated, which made the
+# rounding in the output vector look like a direct path from R3 to the output.
+PUMP = """improved current pump into R || C
+.model fast opamp (aol=2.18e8 gbw=396k cin=1p)
+Vin in 0 AC 1
+R1 in p 3.37k
+R2 p x 100u
+Rs o x 2864.09
+R3 0 m 364
+R4 m o 309.356
+Xu1 p m o fast
+RL x 0 364
+CL x 0 1.14p
+"""
+
+
+def _quad_to_infinity(density, top_decade=12):
+    """scipy.integrate.quad of ``density`` from 0 to infinity: decade pieces up to 10^top_decade Hz,
+    then the rest in u = 1/f (∫_F^∞ S df = ∫_0^{1/F} S(1/u)/u² du)."""
+    edges = [0.0] + [10.0**k for k in range(0, top_decade + 1)]
+    pieces = [quad(lambda f: float(density(np.array([f]))[0]), a, b, limit=200, epsabs=0, epsrel=1e-10)[0]
+              for a, b in zip(edges[:-1], edges[1:])]
+    pieces.append(quad(lambda u: float(density(np.array([1.0 / u]))[0]) / u**2, 0.0, 1.0 / edges[-1],
+                       limit=200, epsabs=0, epsrel=1e-10)[0])
+    return sum(pieces)
+
+
+def test_current_pump_into_rc_has_a_finite_total_matching_quad():
+    ckt = netnoise.parse_netlist(PUMP + ".end\n")
+    result = _at_T(ckt, output="x", band=(0.0, math.inf))
+    density = output_density_function(ckt, output="x", temperature_celsius=T - 273.15)
+    # reference: scipy.integrate.quad of the output density; relative tolerance 1e-6
+    assert result.total_variance == pytest.approx(_quad_to_infinity(density), rel=1e-6)
+
+
+@settings(max_examples=30, deadline=None, suppress_health_check=[HealthCheck.too_slow])
+@given(st.floats(1e5, 1e9), st.floats(1e5, 1e7), st.floats(1e2, 1e5), st.floats(1e-13, 1e-9))
+def test_current_pumps_into_rc_are_never_declared_unbounded(aol, gbw, rl, cl):
+    # every source reaches x only through CL: the total to infinite bandwidth is finite
+    text = PUMP.replace("aol=2.18e8 gbw=396k", f"aol={aol!r} gbw={gbw!r}")
+    text = text.replace("RL x 0 364", f"RL x 0 {rl!r}").replace("CL x 0 1.14p", f"CL x 0 {cl!r}")
+    result = _at_T(netnoise.parse_netlist(text + ".end\n"), output="x", band=(0.0, math.inf))
+    assert math.isfinite(result.total_variance) and result.total_variance > 0
+
+
+@pytest.mark.parametrize("extra, named", [
+    ("Ry x y 1k\n", ["Ry"]),
+    ("Ry x y 1k\nRz y 0 2k\n", ["Ry", "Rz"]),
+])
+def test_unbounded_names_exactly_the_sources_that_reach_the_output_unfiltered(extra, named):
+    # output y behind resistors with no capacitance at y: their white noise is unfiltered
+    # (4kTR flat to any frequency); every other source is filtered by CL
+    with pytest.raises(CircuitError) as info:
+        _at_T(netnoise.parse_netlist(PUMP + extra + ".end\n"), output="y", band=(0.0, math.inf))
+    message = str(info.value)
+    listed = message.split("the white noise of ")[1].split(" reaches")[0]
+    assert sorted(listed.split(", ")) == sorted(named)
