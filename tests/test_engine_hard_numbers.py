@@ -304,3 +304,35 @@ def test_unbounded_names_exactly_the_sources_that_reach_the_output_unfiltered(ex
     message = str(info.value)
     listed = message.split("the white noise of ")[1].split(" reaches")[0]
     assert sorted(listed.split(", ")) == sorted(named)
+
+
+# --- 4. unstable circuits are refused, with the pole and its growth rate ---------------------
+
+@pytest.mark.parametrize("band", [(1.0, 1e6), (1e3, 2e3), (0.0, math.inf), (10.0, math.inf)])
+@pytest.mark.parametrize("r, c", [(1e3, 1e-9), (47e3, 2.2e-6)])
+def test_negative_net_conductance_is_refused_with_its_pole(band, r, c):
+    # G1 draws -2/R from node a: the node's net conductance is -1/R, so its one pole is at
+    # p = +1/(RC) (first-order RC node, common practice): frequency 1/(2πRC), growth rate 1/(RC)
+    text = f"t\nR1 a 0 {r!r}\nC1 a 0 {c!r}\nG1 a 0 a 0 {-2 / r!r}\n.end\n"
+    with pytest.raises(CircuitError) as info:
+        _analyze_text(text, output="a", band=band)
+    message = str(info.value)
+    # printed to 4 significant digits: equal to the closed form to 5e-4 relative
+    assert f"{1 / (2 * math.pi * r * c):.4g} Hz" in message
+    assert f"{1 / (r * c):.4g} /s" in message
+    assert "right half-plane" in message and "G1" in message
+
+
+def test_positive_feedback_around_an_amplifier_is_refused_naming_it():
+    # feedback to the non-inverting input: the loop gain is positive and above 1
+    text = ".model a1 opamp (aol=1e5 gbw=1meg)\nR1 o p 10k\nR2 p 0 10k\nC1 p 0 1n\nXu1 p 0 o a1\n"
+    with pytest.raises(CircuitError) as info:
+        _analyze_text("t\n" + text + ".end\n", output="o", band=(1.0, 1e5))
+    assert "right half-plane" in str(info.value) and "Xu1" in str(info.value)
+
+
+def test_the_same_amplifier_with_negative_feedback_is_accepted():
+    # the mirror image (feedback to the inverting input) is stable: analysed, not refused
+    text = ".model a1 opamp (aol=1e5 gbw=1meg)\nR1 o m 10k\nR2 m 0 10k\nC1 m 0 1n\nXu1 0 m o a1\n"
+    result = _analyze_text("t\n" + text + ".end\n", output="o", band=(1.0, 1e5))
+    assert result.total_variance > 0

@@ -28,7 +28,9 @@ from netnoise.engine.noise_sources import NoiseSources, collect_noise_sources
 from netnoise.engine.resources import require_memory
 from netnoise.results.result import NoiseResult
 from netnoise.circuit.topology import check_couplings, check_element_values, check_topology
-from netnoise.engine.total_variance import EXACT_LIMIT, finite_poles_Hz, infinite_band_totals
+from netnoise.engine.total_variance import (
+    EXACT_LIMIT, UnstableCircuit, finite_scaled_eigenvalues, infinite_band_totals, unstable_pole,
+)
 
 __all__ = ["analyze", "output_density_function", "DEFAULT_TEMPERATURE_C", "DEFAULT_POINTS_PER_DECADE"]
 
@@ -189,7 +191,49 @@ class _Problem:
             if cached is None:
                 cached = self.__dict__["_pole_range"] = pole_range_Hz(self.system.G, self.system.C)
             return None if cached is None else np.array(cached)
-        return finite_poles_Hz(self.system.G.toarray(), self.system.C.toarray())
+        lam, s0 = self.scaled_eigenvalues()
+        return np.abs(lam) * s0 / (2 * math.pi)
+
+    def scaled_eigenvalues(self) -> tuple[np.ndarray, float]:
+        """The finite generalized eigenvalues of (−G, C), scaled, and their time scale s0
+        (poles p = λ·s0 rad/s); dense QZ, for circuits up to EXACT_LIMIT unknowns; cached."""
+        cached = self.__dict__.get("_eigenvalues")
+        if cached is None:
+            cached = self.__dict__["_eigenvalues"] = finite_scaled_eigenvalues(
+                self.system.G.toarray(), self.system.C.toarray()
+            )
+        return cached
+
+    def refuse_unstable(self, found: UnstableCircuit) -> None:
+        """Raise ``found`` again with the elements that can supply gain named (the loop that
+        makes a pole grow runs through one of them: the passive ones are positive)."""
+        active = [
+            e.name for e in self.system.circuit.elements
+            if isinstance(e, (ck.VoltageControlledVoltageSource, ck.VoltageControlledCurrentSource,
+                              ck.CurrentControlledCurrentSource, ck.CurrentControlledVoltageSource, ck.OpAmp))
+        ]
+        who = (
+            f"; the loop runs through one of the elements that can supply gain: {', '.join(active[:8])}"
+            + (f" and {len(active) - 8} more" if len(active) > 8 else "")
+            + " (check the feedback signs and gains)"
+            if active else ""
+        )
+        raise CircuitError(str(found) + who) from None
+
+    def check_stable(self, notes: list[str]) -> None:
+        """Refuse a circuit with a pole right of the imaginary axis (positive feedback): its noise
+        grows without limit, so no band total of it means anything.  Checked with the dense QZ
+        up to EXACT_LIMIT unknowns; beyond, said in the notes that it was not checked."""
+        if self.system.size > EXACT_LIMIT:
+            notes.append(
+                f"stability not checked: {self.system.size} unknowns, above the {EXACT_LIMIT} of the dense pole "
+                "computation (a circuit with positive feedback would give meaningless totals)"
+            )
+            return
+        lam, s0 = self.scaled_eigenvalues()
+        found = unstable_pole(lam, s0, lossless_too=False)
+        if found is not None:
+            self.refuse_unstable(found)
 
 
 def _decade_floor(x: float) -> float:
@@ -248,6 +292,8 @@ def analyze(
             "(1/f noise integrated from 0 Hz is unbounded)"
         )
     if math.isinf(high):
+        if problem.system.size > EXACT_LIMIT:  # the exact method below checks the smaller ones
+            problem.check_stable(notes)
         exact, poles, method = _infinite_band_totals(problem)  # white parts, from 0 Hz to infinity
         poles = _positive(poles)
         top = _decade_ceil(poles.max() * 100) if poles.size else 1e9
@@ -282,6 +328,7 @@ def analyze(
         )
         gain_row = k + (int(sources.colored.sum()) if colored else 0)
     else:
+        problem.check_stable(notes)
         poles = _positive(problem.poles_Hz()) if low == 0.0 else None
         shown = integrate_band(
             problem.densities, low, high, points_per_decade=settings.points_per_decade,
@@ -441,7 +488,12 @@ def _infinite_band_totals(problem: _Problem) -> tuple[np.ndarray, np.ndarray | N
         if problem.has_input:
             columns = np.hstack([columns, problem.input_vector[:, None]])
             density = np.append(density, 1.0)
-        exact = infinite_band_totals(system.G.toarray(), system.C.toarray(), problem.selector, columns, density)
+        try:
+            exact = infinite_band_totals(system.G.toarray(), system.C.toarray(), problem.selector, columns, density)
+        except UnstableCircuit as found:
+            if found.lossless:
+                raise
+            problem.refuse_unstable(found)
         variance, poles = exact.variance, exact.poles_Hz
         method = "the total is exact to infinite bandwidth" + (" for white noise" if problem.sources.colored.any() else "")
     unbounded = [problem.sources.sources[i].name for i in np.flatnonzero(np.isinf(variance[:k]))]
