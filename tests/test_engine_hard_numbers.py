@@ -336,3 +336,39 @@ def test_the_same_amplifier_with_negative_feedback_is_accepted():
     text = ".model a1 opamp (aol=1e5 gbw=1meg)\nR1 o m 10k\nR2 m 0 10k\nC1 m 0 1n\nXu1 0 m o a1\n"
     result = _analyze_text("t\n" + text + ".end\n", output="o", band=(1.0, 1e5))
     assert result.total_variance > 0
+
+
+# --- 2 (continued). the whole accepted range, and what must not be refused ------------------
+
+@settings(max_examples=40, deadline=None)
+@given(st.floats(-60.0, 60.0), st.floats(-15.0, 3.0))
+def test_any_accepted_resistance_gives_kt_over_c(log_r, log_c):
+    # kT/C equipartition (any statistical-mechanics text), relative tolerance 1e-9, for R ∥ C with
+    # R anywhere in the accepted range: no underflow, no overflow, no warning
+    r, c = 10.0**log_r, 10.0**log_c
+    result = _at_T(circuit(R("R1", "a", "0", r), C("C1", "a", "0", c)), output="a", band=(0.0, math.inf))
+    assert result.total_variance == pytest.approx(K_B * T / c, rel=1e-9)
+
+
+def test_a_source_filtered_below_the_doubles_is_no_error():
+    # 40 RC sections, band far above their corners: the first resistors' shares underflow (their
+    # transfer falls as f^-40), which is right: the total is carried by the last sections.
+    # Reference: scipy.integrate.quad of the output density over the band, relative 1e-6
+    parts = [V("V1", "n0", "0")]
+    for i in range(1, 41):
+        parts += [R(f"R{i}", f"n{i - 1}", f"n{i}", 1e3), C(f"C{i}", f"n{i}", "0", 1e-9)]
+    ckt = circuit(*parts)
+    result = _at_T(ckt, output="n40", band=(1e10, 1e11))
+    assert result.source_variance[0] < 1e-300  # R1: filtered away, not refused
+    density = output_density_function(ckt, output="n40", temperature_celsius=T - 273.15)
+    reference = quad(lambda f: float(density(np.array([f]))[0]), 1e10, 1e11, epsabs=0, epsrel=1e-10, limit=200)[0]
+    assert result.total_variance == pytest.approx(reference, rel=1e-6)
+
+
+def test_a_time_scale_beyond_the_doubles_is_refused_by_the_exact_method():
+    # the exact method's own check (below the element checks): ‖G‖/‖C‖ = 1e300 / 1e-300 overflows
+    from netnoise.engine.total_variance import infinite_band_totals
+
+    with pytest.raises(CircuitError) as info:
+        infinite_band_totals(np.array([[1e300]]), np.array([[1e-300]]), np.array([1.0]), np.array([[1.0]]), np.array([1.0]))
+    assert "time scale" in str(info.value)

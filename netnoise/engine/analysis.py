@@ -323,7 +323,8 @@ def analyze(
             totals = exact
         totals = np.maximum(totals, 0.0)
         notes.append(
-            f"spectrum shown up to {format_quantity(top, 'Hz')} (100x the highest pole); " + method
+            f"spectrum shown up to {format_quantity(top, 'Hz')} "
+            + ("(100x the highest pole); " if low * 1e3 < top else "(3 decades above the band's low edge); ") + method
             + ("; 1/f parts are integrated up to there" if colored else "")
         )
         gain_row = k + (int(sources.colored.sum()) if colored else 0)
@@ -526,11 +527,15 @@ _SMALLEST_NORMAL = float(np.finfo(float).tiny)
 
 
 def _refuse_underflow(problem: _Problem, variance: np.ndarray) -> None:
-    """CircuitError naming the sources whose noise underflowed: a source density, or a positive
-    band total at the output, below the smallest normal double (2.2e-308).  (Densities on the
-    grid may underflow where a source is filtered away, e.g. far up a ladder: that is no error.)"""
+    """CircuitError naming the sources whose noise underflowed: a source density below the
+    smallest normal double (2.2e-308), or every source when the positive total at the output is.
+    (One source's share may underflow where it is filtered away, e.g. far up a ladder while its
+    neighbours carry the total: that is no error, its share is rightly negligible.)"""
     white = np.asarray(problem.sources.white_density)
-    small = ((variance > 0) & (variance < _SMALLEST_NORMAL)) | ((white > 0) & (white < _SMALLEST_NORMAL))
+    small = (white > 0) & (white < _SMALLEST_NORMAL)
+    total = float(variance.sum())
+    if 0.0 < total < _SMALLEST_NORMAL:
+        small |= variance > 0
     if small.any():
         names = [problem.sources.sources[i].name for i in np.flatnonzero(small)]
         raise CircuitError(

@@ -66,8 +66,9 @@ class NoiseResult:
         below it) up to each grid frequency, V².
     gain : (F,) |H(f)| from the input source to the output (V/V or V/A), or None.
     gain_squared_integral : ∫|H|² df over the band (V²·Hz/V² or V²·Hz/A²), or None.
-    gain_peak : the largest |H| the engine found anywhere in the band (it
-        samples more finely than the grid, and at 0 Hz), or None.
+    gain_peak : the largest |H| in the band: the largest of every sample the
+        engine took (grid, refinements, 0 Hz), refined between its neighbours by
+        a search in log frequency, so a peak between grid points is found; or None.
     integration_rel_error : the integrator's estimate of its relative error.
     notes : remarks for the user (defaults chosen, warnings), in order.
     source_elements : (K,) the element each source belongs to (an amplifier
