@@ -174,7 +174,10 @@ def _flat_at_high_frequency(sc: _Scaled, alpha, beta, columns: np.ndarray) -> np
     w1 = _CONFIRM_FACTOR * top if top > 0 else 1.0
     gains = []
     for w in (w1, 100.0 * w1):
-        z = np.linalg.solve((-sc.a + 1j * w * sc.e).T, sc.c.astype(complex))
+        try:
+            z = np.linalg.solve((-sc.a + 1j * w * sc.e).T, sc.c.astype(complex))
+        except np.linalg.LinAlgError:  # singular there: no confirmation, the decoupled verdict stands
+            return np.ones(columns.size, dtype=bool)
         gains.append(np.abs(z @ sc.b[:, columns]))
     low, high = gains
     return (low > 0) & (high >= 0.1 * low)
