@@ -7,8 +7,12 @@ in the result's notes), assembles the MNA system, collects the noise
 sources, and integrates the output density over the band:
 
 * finite band: adaptive integration on the reported grid (:mod:`netnoise.integrate`);
-* band to infinity: the exact state-space total (:mod:`netnoise.total_variance`),
-  minus the numerically integrated stretch below the band's low edge.
+* band from 0 Hz to infinity: the exact state-space total (:mod:`netnoise.total_variance`);
+* band from low > 0 to infinity: integrated itself, adaptively up to 100x the highest pole and
+  in u = 1/f above (never as the exact total minus the stretch below low, which cancels).
+
+Before any of it, values the doubles cannot carry, impossible couplings and unstable circuits
+are refused by name (:mod:`netnoise.circuit.topology`, :func:`_Problem.check_stable`).
 """
 
 from __future__ import annotations
