@@ -211,11 +211,7 @@ class _Problem:
     def refuse_unstable(self, found: UnstableCircuit) -> None:
         """Raise ``found`` again with the elements that can supply gain named (the loop that
         makes a pole grow runs through one of them: the passive ones are positive)."""
-        active = [
-            e.name for e in self.system.circuit.elements
-            if isinstance(e, (ck.VoltageControlledVoltageSource, ck.VoltageControlledCurrentSource,
-                              ck.CurrentControlledCurrentSource, ck.CurrentControlledVoltageSource, ck.OpAmp))
-        ]
+        active = self.active_elements()
         who = (
             f"; the loop runs through one of the elements that can supply gain: {', '.join(active[:8])}"
             + (f" and {len(active) - 8} more" if len(active) > 8 else "")
@@ -224,10 +220,22 @@ class _Problem:
         )
         raise CircuitError(str(found) + who) from None
 
+    def active_elements(self) -> list[str]:
+        """Names of the elements that can supply gain: controlled sources and amplifiers."""
+        return [
+            e.name for e in self.system.circuit.elements
+            if isinstance(e, (ck.VoltageControlledVoltageSource, ck.VoltageControlledCurrentSource,
+                              ck.CurrentControlledCurrentSource, ck.CurrentControlledVoltageSource, ck.OpAmp))
+        ]
+
     def check_stable(self, notes: list[str]) -> None:
         """Refuse a circuit with a pole right of the imaginary axis (positive feedback): its noise
         grows without limit, so no band total of it means anything.  Checked with the dense QZ
-        up to EXACT_LIMIT unknowns; beyond, said in the notes that it was not checked."""
+        up to EXACT_LIMIT unknowns; beyond, said in the notes that it was not checked.  A network
+        of positive R, C, L and realisable couplings alone (values checked before) is passive: its
+        stored energy can only decay, so it needs no check (and large ladders no QZ)."""
+        if not self.active_elements():
+            return
         if self.system.size > EXACT_LIMIT:
             notes.append(
                 f"stability not checked: {self.system.size} unknowns, above the {EXACT_LIMIT} of the dense pole "
@@ -385,34 +393,63 @@ def analyze(
     )
 
 
-# Brent's bounded search stops within this distance in ln f of the peak: the peak value is then
+# the peak search stops within this distance in ln f of the peak: the peak value is then
 # within ~(this · Q)² relative of the true maximum (|H|² is quadratic in ln f at its top, with
 # curvature ~Q²), i.e. rounding for any Q up to 1e3
 _PEAK_XATOL = 1e-9
+_PEAK_MAX_STEPS = 80  # solves at most (golden steps alone would need ~45)
 
 
 def _gain_peak_power(problem: _Problem, shown, row: int, low: float, high: float, points_per_decade: float) -> float:
     """The largest |H|² of the signal path in the band: the largest sample of the integrator
-    (grid, refinements, 0 Hz), refined by Brent's bounded search in ln f (scipy) between its
+    (grid, refinements, 0 Hz), refined by a parabolic search in ln f between its
     neighbours, which lie within one grid step on either side (a sample is never further than
     that from the next one): a peak between grid points is found, not its nearest sample."""
     best = float(shown.sample_max[row])
     at = float(shown.sample_argmax_Hz[row]) if shown.sample_argmax_Hz is not None else float("nan")
     if not (at > 0.0 and math.isfinite(at)):  # at 0 Hz, or not known: the band edge is the peak
         return best
-    from scipy.optimize import minimize_scalar
-
     step = 10.0 ** (1.0 / points_per_decade)
     lo, hi = math.log(max(at / step, low if low > 0 else at / step)), math.log(min(at * step, high))
     if not hi > lo:
         return best
 
-    def negative_power(u: float) -> float:
+    def power(u: float) -> float:
         _, signal = _transfer_signal(problem, np.array([math.exp(u)]))
-        return -float(signal[0])
+        return float(signal[0])
 
-    found = minimize_scalar(negative_power, bounds=(lo, hi), method="bounded", options={"xatol": _PEAK_XATOL})
-    return max(best, -float(found.fun))
+    # successive parabolic interpolation in ln f (|H|² is a parabola at its top), each step kept
+    # inside the bracket and falling back on a golden-section step (Kiefer 1953) when the vertex
+    # lands outside it or too near the best point; ~10 solves, and no scipy.optimize import
+    golden = (3.0 - math.sqrt(5.0)) / 2.0
+    a, b, c = lo, math.log(at), hi
+    pa, pb, pc = power(a), best, power(c)
+    found = max(pa, pb, pc)
+    if not a < b < c:
+        b = a + golden * (c - a)
+        pb = power(b)
+    for _ in range(_PEAK_MAX_STEPS):
+        if c - a <= _PEAK_XATOL:
+            break
+        den = (b - a) * (pb - pc) - (b - c) * (pb - pa)
+        x = b - 0.5 * ((b - a) ** 2 * (pb - pc) - (b - c) ** 2 * (pb - pa)) / den if den != 0.0 else math.nan
+        if not (a < x < c) or abs(x - b) < 0.5 * _PEAK_XATOL:
+            x = b + golden * (c - b) if c - b > b - a else b - golden * (b - a)
+        px = power(x)
+        found = max(found, px)
+        if abs(x - b) < _PEAK_XATOL:  # converged: the parabola's vertex no longer moves
+            break
+        if px >= pb:
+            if x < b:
+                c, pc = b, pb
+            else:
+                a, pa = b, pb
+            b, pb = x, px
+        elif x < b:
+            a, pa = x, px
+        else:
+            c, pc = x, px
+    return max(best, found)
 
 
 def _transfer_signal(problem: _Problem, frequency_Hz: np.ndarray):
