@@ -372,3 +372,20 @@ def test_a_time_scale_beyond_the_doubles_is_refused_by_the_exact_method():
     with pytest.raises(CircuitError) as info:
         infinite_band_totals(np.array([[1e300]]), np.array([[1e-300]]), np.array([1.0]), np.array([[1.0]]), np.array([1.0]))
     assert "time scale" in str(info.value)
+
+
+@settings(max_examples=40, deadline=None)
+@given(st.floats(1e2, 1e6), st.floats(1e-12, 1e-6), st.floats(-3.0, 3.0).filter(lambda x: abs(x + 1.0) > 1e-3))
+def test_a_node_with_a_controlled_conductance_is_refused_exactly_when_it_grows(r, c, share):
+    # G1 adds the conductance share/R at node a: net g = (1 + share)/R.  Negative: one pole at
+    # p = -g/C > 0, refused with its frequency |g|/(2πC).  Positive: the noise 4kT/R into g ∥ C
+    # integrates to (4kT/R)/(4gC) (the arctan integral of a one-pole spectrum), relative 1e-8
+    g = (1.0 + share) / r
+    text = f"t\nR1 a 0 {r!r}\nC1 a 0 {c!r}\nG1 a 0 a 0 {share / r!r}\n.end\n"
+    if g < 0:
+        with pytest.raises(CircuitError) as info:
+            _analyze_text(text, output="a", band=(1.0, 1e3))
+        assert f"{-g / (2 * math.pi * c):.4g} Hz" in str(info.value)  # printed to 4 digits
+    else:
+        result = _analyze_text(text, output="a", band=(0.0, math.inf))
+        assert result.total_variance == pytest.approx(4 * K_B * T / r / (4 * g * c), rel=1e-8)
