@@ -6,29 +6,14 @@ float, which part has no ground, rather than "singular matrix".
 
 from __future__ import annotations
 
+
 import numpy as np
 
 from netnoise import circuit as ck
+from netnoise.circuit.disjoint import DisjointSets
 from netnoise.errors import CircuitError
 
-__all__ = ["check_topology"]
-
-class _DisjointSets:
-    def __init__(self):
-        self.parent: dict[str, str] = {}
-
-    def find(self, x: str) -> str:
-        self.parent.setdefault(x, x)
-        while self.parent[x] != x:
-            self.parent[x] = self.parent[self.parent[x]]
-            x = self.parent[x]
-        return x
-
-    def union(self, a: str, b: str) -> bool:
-        """Join the sets of a and b; False if they were joined already."""
-        ra, rb = self.find(a), self.find(b)
-        self.parent[ra] = rb
-        return ra != rb
+__all__ = ["check_topology", "check_element_values"]
 
 
 def check_topology(circuit: ck.Circuit) -> None:
@@ -87,7 +72,7 @@ def _cut_off_from_ground(nodes: tuple[str, ...], edges: list[tuple[str, str]]) -
 
 
 def _check_voltage_loops(circuit: ck.Circuit) -> None:
-    loops = _DisjointSets()
+    loops = DisjointSets()
     members: list[tuple[str, str]] = []  # (element name, one of its nodes)
     for element in circuit.elements:
         for a, b in element.voltage_defined():
@@ -99,3 +84,14 @@ def _check_voltage_loops(circuit: ck.Circuit) -> None:
                     f"({', '.join(names[:8])}): at DC the loop's voltages over-determine each "
                     "other. Add the series resistance the real parts have"
                 )
+
+
+def check_element_values(circuit: ck.Circuit) -> None:
+    """Raise CircuitError for values the engine cannot compute with correctly, or that no real
+    part can have: each kind checks its own (``Element.check_values``) and, where members
+    depend on each other (couplings of inductors), all of them together (``check_all``)."""
+    by_kind: dict[type, list] = {}
+    for element in circuit.elements:
+        by_kind.setdefault(type(element), []).append(element)
+    for kind, members in by_kind.items():
+        kind.check_all(members, circuit)

@@ -7,8 +7,12 @@ in the result's notes), assembles the MNA system, collects the noise
 sources, and integrates the output density over the band:
 
 * finite band: adaptive integration on the reported grid (:mod:`netnoise.integrate`);
-* band to infinity: the exact state-space total (:mod:`netnoise.total_variance`),
-  minus the numerically integrated stretch below the band's low edge.
+* band from 0 Hz to infinity: the exact state-space total (:mod:`netnoise.total_variance`);
+* band from low > 0 to infinity: integrated itself, adaptively up to 100x the highest pole and
+  in u = 1/f above (never as the exact total minus the stretch below low, which cancels).
+
+Before any of it, values the doubles cannot carry, impossible couplings and unstable circuits
+are refused by name (:mod:`netnoise.circuit.topology`, :func:`_Problem.check_stable`).
 """
 
 from __future__ import annotations
@@ -27,10 +31,12 @@ from netnoise.engine.mna import MnaSystem, assemble
 from netnoise.engine.noise_sources import NoiseSources, collect_noise_sources
 from netnoise.engine.resources import require_memory
 from netnoise.results.result import NoiseResult
-from netnoise.circuit.topology import check_topology
+from netnoise.circuit.topology import check_element_values, check_topology
 from netnoise.constants import DEFAULT_TEMPERATURE_C, T0_KELVIN, ZERO_CELSIUS_K, canonical_node
 from netnoise.engine.options import SolverOptions
-from netnoise.engine.total_variance import finite_poles_Hz, infinite_band_totals
+from netnoise.engine.total_variance import (
+    UnstableCircuit, finite_scaled_eigenvalues, infinite_band_totals, unstable_pole,
+)
 
 __all__ = ["analyze", "prepare", "PreparedAnalysis", "output_density_function", "DEFAULT_TEMPERATURE_C", "DEFAULT_POINTS_PER_DECADE"]
 
@@ -120,6 +126,8 @@ class _Problem:
         self.options = options or SolverOptions()
         if system is None:
             check_topology(circuit)
+        check_element_values(circuit)  # values can change on a refill: checked every time
+        if system is None:
             system = assemble(circuit)
         self.system: MnaSystem = system
         self.selector = self.system.node_pair_vector(settings.output, settings.reference)
@@ -150,17 +158,34 @@ class _Problem:
         rows = k + colored.size + self.has_input
         require_memory(rows * np.size(frequency_Hz) * 8, "the per-source transfer at every frequency")
         out = np.empty((rows, np.size(frequency_Hz)))  # filled in place: no stacking copy
-        _, signal = transfer_power(
-            self.system, self.selector, self.sources.injection, self.input_vector, frequency_Hz,
-            power_out=out[:k], progress=self.progress, options=self.options,
-        )
-        power = out[:k]
-        if colored.size:
-            out[k : k + colored.size] = power[colored] * self.sources.density(frequency_Hz, "colored")[colored]
-        power *= self.sources.density(frequency_Hz, part)
-        if signal is not None:
-            out[-1] = signal
+        with np.errstate(over="ignore", invalid="ignore"):  # an overflow here is refused just below, by name
+            _, signal = transfer_power(
+                self.system, self.selector, self.sources.injection, self.input_vector, frequency_Hz,
+                power_out=out[:k], progress=self.progress, options=self.options,
+            )
+            power = out[:k]
+            if colored.size:
+                out[k : k + colored.size] = power[colored] * self.sources.density(frequency_Hz, "colored")[colored]
+            power *= self.sources.density(frequency_Hz, part)
+            if signal is not None:
+                out[-1] = signal
+        if not np.isfinite(out).all():
+            self._refuse_overflow(out[:k], signal)
         return out
+
+    def _refuse_overflow(self, power: np.ndarray, signal: np.ndarray | None) -> None:
+        """CircuitError naming the sources (or the signal path) whose output density overflowed:
+        a squared transfer times a source density beyond the largest double (~1.8e308)."""
+        bad = np.flatnonzero(~np.isfinite(power).all(axis=1))
+        names = [f"{self.sources.sources[i].name} ({self.sources.sources[i].value})" for i in bad]
+        what = ", ".join(names[:5]) + (f" and {len(names) - 5} more" if len(names) > 5 else "")
+        if not what:
+            what = "the signal input" if signal is not None and not np.isfinite(signal).all() else "a source"
+        raise CircuitError(
+            f"the output noise density of {what} overflows (above ~1e308 V²/Hz): a transfer to the output is "
+            f"too large to square (largest element values: {_extreme_values(self.system.circuit)}). "
+            "Check the gains and element values"
+        )
 
     def groups(self, extra_colored: bool = False) -> list[slice]:
         """Row ranges judged together by the integrator, matching :meth:`densities`."""
@@ -173,7 +198,7 @@ class _Problem:
         return out + ([slice(k, k + 1)] if self.has_input else [])
 
     def poles_Hz(self) -> np.ndarray | None:
-        """Magnitudes of the finite poles (Hz): all of them up to EXACT_LIMIT
+        """Magnitudes of the finite poles (Hz): all of them up to the exact limit of
         unknowns (dense QZ); beyond it, estimates of the lowest and highest
         only (:func:`netnoise.wideband.pole_range_Hz`, sparse, no dense matrix)."""
         if self.system.size > self.options.exact_limit:
@@ -183,7 +208,53 @@ class _Problem:
             if cached is None:
                 cached = self.__dict__["_pole_range"] = pole_range_Hz(self.system.G, self.system.C)
             return None if cached is None else np.array(cached)
-        return finite_poles_Hz(self.system.G.toarray(), self.system.C.toarray())
+        lam, s0 = self.scaled_eigenvalues()
+        return np.abs(lam) * s0 / (2 * math.pi)
+
+    def scaled_eigenvalues(self) -> tuple[np.ndarray, float]:
+        """The finite generalized eigenvalues of (−G, C), scaled, and their time scale s0
+        (poles p = λ·s0 rad/s); dense QZ, for circuits up to the exact limit of unknowns; cached."""
+        cached = self.__dict__.get("_eigenvalues")
+        if cached is None:
+            cached = self.__dict__["_eigenvalues"] = finite_scaled_eigenvalues(
+                self.system.G.toarray(), self.system.C.toarray()
+            )
+        return cached
+
+    def refuse_unstable(self, found: UnstableCircuit) -> None:
+        """Raise ``found`` again with the elements that can supply gain named (the loop that
+        makes a pole grow runs through one of them: the passive ones are positive)."""
+        active = self.active_elements()
+        who = (
+            f"; the loop runs through one of the elements that can supply gain: {', '.join(active[:8])}"
+            + (f" and {len(active) - 8} more" if len(active) > 8 else "")
+            + " (check the feedback signs and gains)"
+            if active else ""
+        )
+        raise CircuitError(str(found) + who) from None
+
+    def active_elements(self) -> list[str]:
+        """Names of the elements that can supply gain: controlled sources and amplifiers."""
+        return [e.name for e in self.system.circuit.elements if e.supplies_gain]
+
+    def check_stable(self, notes: list[str]) -> None:
+        """Refuse a circuit with a pole right of the imaginary axis (positive feedback): its noise
+        grows without limit, so no band total of it means anything.  Checked with the dense QZ
+        up to the exact limit of unknowns; beyond, said in the notes that it was not checked.  A network
+        of positive R, C, L and realisable couplings alone (values checked before) is passive: its
+        stored energy can only decay, so it needs no check (and large ladders no QZ)."""
+        if not self.active_elements():
+            return
+        if self.system.size > self.options.exact_limit:
+            notes.append(
+                f"stability not checked: {self.system.size} unknowns, above the {self.options.exact_limit} of the dense pole "
+                "computation (a circuit with positive feedback would give meaningless totals)"
+            )
+            return
+        lam, s0 = self.scaled_eigenvalues()
+        found = unstable_pole(lam, s0, lossless_too=False)
+        if found is not None:
+            self.refuse_unstable(found)
 
 
 def _decade_floor(x: float) -> float:
@@ -317,6 +388,8 @@ def _analyze(problem: _Problem, source_resistor: str | None) -> NoiseResult:
             "(1/f noise integrated from 0 Hz is unbounded)"
         )
     if math.isinf(high):
+        if problem.system.size > problem.options.exact_limit:  # the exact method below checks the smaller ones
+            problem.check_stable(notes)
         exact, poles, method = _infinite_band_totals(problem)  # white parts, from 0 Hz to infinity
         poles = _positive(poles)
         top = _decade_ceil(poles.max() * 100) if poles.size else 1e9
@@ -325,30 +398,39 @@ def _analyze(problem: _Problem, source_resistor: str | None) -> NoiseResult:
         shown = integrate_band(
             lambda f: problem.densities(f, "full", extra_colored=colored), low, top,
             points_per_decade=settings.points_per_decade, groups=problem.groups(extra_colored=colored),
-            linear_below=start if low == 0.0 else None,
+            linear_below=start if low == 0.0 else None, rtol=problem.options.rtol,
         )
-        totals = exact
+        rel_error = 0.0
         if low > 0.0:
-            below = integrate_band(
-                lambda f: problem.densities(f, "white"), 0.0, low, points_per_decade=settings.points_per_decade,
-                groups=problem.groups(), linear_below=_linear_start(poles, low),
+            # [low, inf) integrated itself, never as the exact [0, inf) total minus a numerical [0, low]
+            # (that difference cancels catastrophically for a band far above the poles): the full
+            # densities over [low, top] (`shown`, 1/f parts included), plus the white parts above top,
+            # which fall at least as 1/f² there, integrated in u = 1/f (:func:`_white_tail`).
+            # Above top the 1/f parts are negligible (and unbounded where a path does not roll off).
+            tail, tail_error = _white_tail(problem, top)
+            first_row = k + (int(sources.colored.sum()) if colored else 0)
+            totals = np.concatenate([shown.values[:k], shown.values[first_row:]]) + tail
+            rel_error = shown.rel_error + tail_error
+            method = (
+                f"from {format_quantity(low, 'Hz')} to infinite bandwidth: integrated numerically up to there, "
+                "and above it in the variable 1/f"
             )
-            totals = exact - below.values
+        else:
+            totals = exact
         totals = np.maximum(totals, 0.0)
-        if colored:  # the 1/f parts, integrated numerically over [low, top]; above top they are negligible
-            totals = totals.copy()
-            totals[np.flatnonzero(sources.colored)] += shown.values[k : k + int(sources.colored.sum())]
-        rel_error = shown.rel_error if (low > 0 or colored) else 0.0
         notes.append(
-            f"spectrum shown up to {format_quantity(top, 'Hz')} (100x the highest pole); " + method
+            f"spectrum shown up to {format_quantity(top, 'Hz')} "
+            + ("(100x the highest pole); " if low * 1e3 < top else "(3 decades above the band's low edge); ") + method
             + ("; 1/f parts are integrated up to there" if colored else "")
         )
         gain_row = k + (int(sources.colored.sum()) if colored else 0)
     else:
+        problem.check_stable(notes)
         poles = _positive(problem.poles_Hz()) if low == 0.0 else None
         shown = integrate_band(
             problem.densities, low, high, points_per_decade=settings.points_per_decade,
             groups=problem.groups(), linear_below=_linear_start(poles, high) if low == 0.0 else None,
+            rtol=problem.options.rtol,
         )
         totals = shown.values
         rel_error = shown.rel_error
@@ -361,11 +443,12 @@ def _analyze(problem: _Problem, source_resistor: str | None) -> NoiseResult:
     gain = gain_integral = gain_peak = None
     if problem.has_input:
         gain = np.sqrt(shown.grid_density[gain_row])
-        gain_peak = math.sqrt(shown.sample_max[gain_row])  # every sample of `shown` lies in the band
+        gain_peak = math.sqrt(_gain_peak_power(problem, shown, gain_row, low, high, settings.points_per_decade))
         gain_integral = float(totals[-1]) if math.isfinite(totals[-1]) else None
         if gain_integral is None:
             notes.append("the signal path has no roll-off: its noise bandwidth is unbounded")
     _refuse_non_finite(source_variance, source_density)
+    _refuse_underflow(problem, source_variance)
     figure = _noise_figure(problem, source_resistor, source_variance, source_density) if source_resistor else None
     return NoiseResult(
         title=circuit.title,
@@ -397,6 +480,75 @@ def _analyze(problem: _Problem, source_resistor: str | None) -> NoiseResult:
     )
 
 
+# the peak search stops within this distance in ln f of the peak: the peak value is then
+# within ~(this · Q)² relative of the true maximum (|H|² is quadratic in ln f at its top, with
+# curvature ~Q²), i.e. rounding for any Q up to 1e3
+_PEAK_XATOL = 1e-9
+_PEAK_MAX_STEPS = 80  # solves at most (golden steps alone would need ~45)
+
+
+def _gain_peak_power(problem: _Problem, shown, row: int, low: float, high: float, points_per_decade: float) -> float:
+    """The largest |H|² of the signal path in the band: the largest sample of the integrator
+    (grid, refinements, 0 Hz), refined by a parabolic search in ln f between its
+    neighbours, which lie within one grid step on either side (a sample is never further than
+    that from the next one): a peak between grid points is found, not its nearest sample."""
+    best = float(shown.sample_max[row])
+    at = float(shown.sample_argmax_Hz[row]) if shown.sample_argmax_Hz is not None else float("nan")
+    if not (at > 0.0 and math.isfinite(at)):  # at 0 Hz, or not known: the band edge is the peak
+        return best
+    step = 10.0 ** (1.0 / points_per_decade)
+    lo, hi = math.log(max(at / step, low if low > 0 else at / step)), math.log(min(at * step, high))
+    if not hi > lo:
+        return best
+
+    def power(u: float) -> float:
+        _, signal = _transfer_signal(problem, np.array([math.exp(u)]))
+        return float(signal[0])
+
+    # successive parabolic interpolation in ln f (|H|² is a parabola at its top), each step kept
+    # inside the bracket and falling back on a golden-section step (Kiefer 1953) when the vertex
+    # lands outside it or too near the best point; ~10 solves, and no scipy.optimize import
+    golden = (3.0 - math.sqrt(5.0)) / 2.0
+    a, b, c = lo, math.log(at), hi
+    pa, pb, pc = power(a), best, power(c)
+    found = max(pa, pb, pc)
+    if not a < b < c:
+        b = a + golden * (c - a)
+        pb = power(b)
+    for _ in range(_PEAK_MAX_STEPS):
+        if c - a <= _PEAK_XATOL:
+            break
+        den = (b - a) * (pb - pc) - (b - c) * (pb - pa)
+        x = b - 0.5 * ((b - a) ** 2 * (pb - pc) - (b - c) ** 2 * (pb - pa)) / den if den != 0.0 else math.nan
+        if not (a < x < c) or abs(x - b) < 0.5 * _PEAK_XATOL:
+            x = b + golden * (c - b) if c - b > b - a else b - golden * (b - a)
+        px = power(x)
+        found = max(found, px)
+        if abs(x - b) < _PEAK_XATOL:  # converged: the parabola's vertex no longer moves
+            break
+        if px >= pb:
+            if x < b:
+                c, pc = b, pb
+            else:
+                a, pa = b, pb
+            b, pb = x, px
+        elif x < b:
+            a, pa = x, px
+        else:
+            c, pc = x, px
+    return max(best, found)
+
+
+def _transfer_signal(problem: _Problem, frequency_Hz: np.ndarray):
+    """|H|² of the signal path alone (no noise sources) at ``frequency_Hz``."""
+    import scipy.sparse as sp
+
+    from netnoise.engine.transfer import transfer_power
+
+    none = sp.csc_matrix((problem.system.size, 0))
+    return transfer_power(problem.system, problem.selector, none, problem.input_vector, frequency_Hz)
+
+
 def _linear_start(poles: np.ndarray | None, high: float) -> float:
     """Where the log grid starts for a band from 0 Hz: well below the lowest pole."""
     if poles is not None and poles.size:
@@ -404,10 +556,35 @@ def _linear_start(poles: np.ndarray | None, high: float) -> float:
     return high * 1e-4
 
 
+# Gauss–Legendre nodes for the white noise above `top` in u = 1/f: top is at least 100x the
+# highest pole, so S(1/u)/u² is analytic on [0, 1/top] with its nearest singularity 100 interval
+# lengths away; 16 nodes then reach rounding, and 8 nodes give the error estimate.
+_TAIL_NODES = 16
+
+
+def _white_tail(problem: _Problem, top: float) -> tuple[np.ndarray, float]:
+    """∫_top^∞ of every white row of :meth:`_Problem.densities` (sources, then |H|² of the input),
+    in u = 1/f: ∫_0^{1/top} S(1/u) u⁻² du (no node at u = 0, i.e. no solve at infinite
+    frequency); and the estimated relative error of the largest group total."""
+    rules = []
+    for nodes in (_TAIL_NODES, _TAIL_NODES // 2):
+        x, w = np.polynomial.legendre.leggauss(nodes)
+        u = (x + 1.0) / (2.0 * top)
+        density = problem.densities(1.0 / u, "white")
+        rules.append(density @ (w / (2.0 * top) / u**2))
+    fine, coarse = rules
+    error = 0.0
+    for rows in problem.groups():
+        total = float(np.sum(fine[rows]))
+        if total > 0:
+            error = max(error, float(np.sum(np.abs(fine[rows] - coarse[rows]))) / total)
+    return fine, error
+
+
 def _infinite_band_totals(problem: _Problem) -> tuple[np.ndarray, np.ndarray | None, str]:
     """Every source's white-noise variance (and ∫|H|² of the input) from 0 Hz
     to infinity, the circuit's finite pole magnitudes (Hz), and a note saying
-    how the total was found: exact up to EXACT_LIMIT unknowns, else by
+    how the total was found: exact up to the exact limit of unknowns, else by
     quadrature with an analytic tail (:mod:`netnoise.wideband`)."""
     system = problem.system
     k = len(problem.sources)
@@ -441,7 +618,12 @@ def _infinite_band_totals(problem: _Problem) -> tuple[np.ndarray, np.ndarray | N
         if problem.has_input:
             columns = np.hstack([columns, problem.input_vector[:, None]])
             density = np.append(density, 1.0)
-        exact = infinite_band_totals(system.G.toarray(), system.C.toarray(), problem.selector, columns, density)
+        try:
+            exact = infinite_band_totals(system.G.toarray(), system.C.toarray(), problem.selector, columns, density)
+        except UnstableCircuit as found:
+            if found.lossless:
+                raise
+            problem.refuse_unstable(found)
         variance, poles = exact.variance, exact.poles_Hz
         method = "the total is exact to infinite bandwidth" + (" for white noise" if problem.sources.colored.any() else "")
     unbounded = [problem.sources.sources[i].name for i in np.flatnonzero(np.isinf(variance[:k]))]
@@ -454,6 +636,42 @@ def _infinite_band_totals(problem: _Problem) -> tuple[np.ndarray, np.ndarray | N
             "that limits the real circuit's bandwidth"
         )
     return variance, poles, method
+
+
+def _extreme_values(circuit: ck.Circuit, most: int = 3) -> str:
+    """The elements whose values lie furthest from 1 in decades, e.g. "E1 = 1e+45, R2 = 1e-40",
+    to name in a message about overflow or underflow."""
+    values = []
+    for element in circuit.elements:
+        value = element.primary_value
+        if value is not None and value != 0.0 and math.isfinite(value):
+            values.append((abs(math.log10(abs(value))), f"{element.name} = {value:g}"))
+    values.sort(key=lambda pair: -pair[0])
+    return ", ".join(text for _, text in values[:most]) or "none"
+
+
+# below the smallest normal double a value has lost digits (subnormal) or is 0 by underflow
+_SMALLEST_NORMAL = float(np.finfo(float).tiny)
+
+
+def _refuse_underflow(problem: _Problem, variance: np.ndarray) -> None:
+    """CircuitError naming the sources whose noise underflowed: a source density below the
+    smallest normal double (2.2e-308), or every source when the positive total at the output is.
+    (One source's share may underflow where it is filtered away, e.g. far up a ladder while its
+    neighbours carry the total: that is no error, its share is rightly negligible.)"""
+    white = np.asarray(problem.sources.white_density)
+    small = (white > 0) & (white < _SMALLEST_NORMAL)
+    total = float(variance.sum())
+    if 0.0 < total < _SMALLEST_NORMAL:
+        small |= variance > 0
+    if small.any():
+        names = [problem.sources.sources[i].name for i in np.flatnonzero(small)]
+        raise CircuitError(
+            f"the output noise of {', '.join(names[:5])}{' and more' if len(names) > 5 else ''} underflows: it is "
+            f"below {_SMALLEST_NORMAL:.3g} (V²/Hz or V²), the smallest number computed with full precision, so it "
+            f"would be shown as 0 or with wrong digits (most extreme values: {_extreme_values(problem.system.circuit)}). "
+            "Bring the element values closer to those of the real parts"
+        )
 
 
 def _refuse_non_finite(variance: np.ndarray, density: np.ndarray) -> None:

@@ -16,7 +16,7 @@ import scipy.sparse.linalg as spla
 from netnoise import circuit as ck
 from netnoise.errors import CircuitError
 from netnoise.engine.mna import MnaSystem, assemble
-from netnoise.circuit.topology import check_topology
+from netnoise.circuit.topology import check_element_values, check_topology
 
 __all__ = ["OperatingPoint", "operating_point", "solve_operating_point"]
 
@@ -60,6 +60,7 @@ def solve_operating_point(system: MnaSystem) -> np.ndarray:
 def operating_point(circuit: ck.Circuit) -> OperatingPoint:
     """The DC operating point of ``circuit``."""
     check_topology(circuit)
+    check_element_values(circuit)
     system = assemble(circuit)
     x = solve_operating_point(system)
 

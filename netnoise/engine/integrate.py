@@ -36,7 +36,8 @@ class BandIntegral:
     ``grid_density`` (R, P) the densities there; ``grid_cumulative``
     (n_groups, P) each group's summed integral from the band's low edge up to
     each grid point; ``sample_max`` (R,) the largest density of each row at
-    any frequency evaluated (grid, refinements and 0 Hz); ``rel_error`` the
+    any frequency evaluated (grid, refinements and 0 Hz) and ``sample_argmax_Hz`` (R,)
+    where it was found; ``rel_error`` the
     largest estimated relative error of a group total; ``evaluations`` how
     many frequencies were evaluated.
     """
@@ -48,6 +49,7 @@ class BandIntegral:
     grid_cumulative: np.ndarray
     rel_error: float
     evaluations: int
+    sample_argmax_Hz: np.ndarray | None = None  # (R,) the frequency of each row's sample_max
 
 
 def log_grid_intervals(low: float, high: float, points_per_decade: float) -> int:
@@ -65,6 +67,7 @@ class _Samples:
         self.log: list[np.ndarray] = []
         self.g: list[np.ndarray] = []
         self.density_max: np.ndarray | None = None  # (R,) the largest density of each row so far
+        self.density_argmax: np.ndarray | None = None  # (R,) the frequency (Hz) where it was found
         self.count = 0
 
     def add(self, u: np.ndarray, is_log: np.ndarray) -> np.ndarray:
@@ -72,7 +75,13 @@ class _Samples:
         f = np.where(is_log, np.exp(np.where(is_log, u, 0.0)), u)
         density = np.asarray(self._evaluate(f), dtype=float)
         peak = density.max(axis=1, initial=-np.inf)
-        self.density_max = peak if self.density_max is None else np.maximum(self.density_max, peak)
+        where = f[np.argmax(density, axis=1)] if density.shape[1] else np.full(density.shape[0], np.nan)
+        if self.density_max is None:
+            self.density_max, self.density_argmax = peak, where
+        else:
+            higher = peak > self.density_max
+            self.density_argmax = np.where(higher, where, self.density_argmax)
+            self.density_max = np.maximum(self.density_max, peak)
         weight = np.where(is_log, f, 1.0)
         if density.flags.writeable and density.base is None:  # the evaluator's own new array
             density *= weight  # (R, M) rows can be large: no second copy
@@ -186,6 +195,7 @@ def integrate_band(
         grid_cumulative=cumulative[:, grid_ids],
         rel_error=max(group_error, default=0.0),
         evaluations=samples.count,
+        sample_argmax_Hz=samples.density_argmax,
     )
 
 

@@ -29,10 +29,17 @@ import numpy as np
 
 from netnoise.errors import CircuitError
 
-__all__ = ["InfiniteBandTotals", "infinite_band_totals", "EXACT_LIMIT", "finite_poles_Hz"]
+__all__ = [
+    "InfiniteBandTotals", "infinite_band_totals", "EXACT_LIMIT", "finite_poles_Hz", "finite_scaled_eigenvalues",
+    "unstable_pole", "UnstableCircuit",
+]
 
 EXACT_LIMIT = 600  # unknowns; dense QZ costs O(n³): ~1.3 s at 500, ~1 min at 1500 (benchmarks/)
-_INFINITE_RATIO = 1e11  # |alpha/beta| beyond this (after scaling) is an infinite eigenvalue
+# |alpha/beta| beyond this (after scaling) is an infinite eigenvalue.  The rounding of a true
+# infinite eigenvalue leaves |beta| ~ eps·‖E‖, |alpha/beta| ≳ 1e15; a finite pole 1e11 above the
+# time scale s0 is real (an improved current pump with a 100 µΩ resistor between two pF nodes has
+# poles from 50 kHz to 1.75e16 Hz), so the line is drawn 100x below the rounding level
+_INFINITE_RATIO = 1e13
 
 
 @dataclass(frozen=True, eq=False)
@@ -56,7 +63,14 @@ class _Scaled:
 def _scale(G: np.ndarray, C: np.ndarray, c: np.ndarray, B: np.ndarray) -> _Scaled:
     norm_g = np.abs(G).sum(axis=0).max() if G.size else 0.0
     norm_c = np.abs(C).sum(axis=0).max() if C.size else 0.0
-    s0 = norm_g / norm_c if norm_c > 0 and norm_g > 0 else 1.0
+    with np.errstate(over="ignore"):
+        s0 = norm_g / norm_c if norm_c > 0 and norm_g > 0 else 1.0
+    if not (math.isfinite(s0) and s0 > 0.0):  # overflow or underflow of the time scale: refused, not NaN
+        raise CircuitError(
+            f"the circuit's time scale ‖G‖/‖C‖ ({norm_g:.3g} / {norm_c:.3g}) lies beyond the range of "
+            "floating-point numbers, so its noise to infinite bandwidth cannot be computed: check for extreme "
+            "element values (gains, capacitances, inductances)"
+        )
     m = np.abs(G) + s0 * np.abs(C)
     dr = np.ones(G.shape[0])
     dc = np.ones(G.shape[0])
@@ -117,8 +131,16 @@ def infinite_band_totals(
         r, l_neg = r / scale, l_neg / scale
         b1 = b1 - l_neg @ b2
         c2 = c2 + r.T @ c1
+        # c2 carries the decoupling's rounding, amplified by R (an ill-separated pencil: R large)
+        c_scale = np.linalg.norm(sc.c) + np.linalg.norm(r, 2) * np.linalg.norm(c1)
+    else:
+        c_scale = np.linalg.norm(sc.c)
     sk = np.asarray(density, float)
-    unbounded = _direct_paths(aa[nf:, nf:], ee[nf:, nf:], c2, b2, np.linalg.norm(sc.c)) & (sk > 0)
+    # the threshold is scaled by each source's whole column, not by its part in the infinite block
+    # (which is itself rounding for a source that reaches only the dynamic part)
+    unbounded = _direct_paths(aa[nf:, nf:], ee[nf:, nf:], c2, b2, c_scale, np.linalg.norm(sc.b, axis=0)) & (sk > 0)
+    if unbounded.any():  # confirmed on the transfer itself, far above the poles
+        unbounded[unbounded] = _flat_at_high_frequency(sc, alpha, beta, np.flatnonzero(unbounded))
 
     variance = np.zeros(B.shape[1])
     poles = np.zeros(0)
@@ -137,9 +159,34 @@ def infinite_band_totals(
     return InfiniteBandTotals(variance=variance, poles_Hz=poles)
 
 
-def _direct_paths(a22, e22, c2, b2, c_norm) -> np.ndarray:
+# far above the highest finite pole (this factor), a transfer that rolls off falls at least 100x over
+# two decades; one that reaches the output unfiltered stays flat (or rises): the confirmation of
+# the decoupled test in :func:`_flat_at_high_frequency`
+_CONFIRM_FACTOR = 1e4
+
+
+def _flat_at_high_frequency(sc: _Scaled, alpha, beta, columns: np.ndarray) -> np.ndarray:
+    """(len(columns),) True where |H_k| does not roll off: solved directly (equilibrated, dense)
+    at ω1 = 1e4 × the highest finite pole and ω2 = 100·ω1 in scaled frequency; a direct path
+    keeps |H(ω2)| ≥ 0.1·|H(ω1)|, a filtered one has |H(ω2)| ≲ 0.01·|H(ω1)|."""
+    finite = _finite_first(alpha, beta)
+    top = float(np.max(np.abs(alpha[finite] / beta[finite]), initial=0.0))
+    w1 = _CONFIRM_FACTOR * top if top > 0 else 1.0
+    gains = []
+    for w in (w1, 100.0 * w1):
+        try:
+            z = np.linalg.solve((-sc.a + 1j * w * sc.e).T, sc.c.astype(complex))
+        except np.linalg.LinAlgError:  # singular there: no confirmation, the decoupled verdict stands
+            return np.ones(columns.size, dtype=bool)
+        gains.append(np.abs(z @ sc.b[:, columns]))
+    low, high = gains
+    return (low > 0) & (high >= 0.1 * low)
+
+
+def _direct_paths(a22, e22, c2, b2, c_norm, b_norm) -> np.ndarray:
     """(K,) True where the infinite block's transfer -Σ s^k c2ᵀ N^k A22⁻¹ b_k
-    does not vanish, i.e. white input reaches the output unfiltered."""
+    does not vanish, i.e. white input reaches the output unfiltered.  ``c_norm``: the size of
+    the output vector (with what the decoupling added), ``b_norm`` (K,) of each whole input column."""
     m = a22.shape[0]
     if m == 0:
         return np.zeros(b2.shape[1], dtype=bool)
@@ -153,22 +200,76 @@ def _direct_paths(a22, e22, c2, b2, c_norm) -> np.ndarray:
         coefficient = nil.T @ coefficient
         if not np.any(np.abs(coefficient) > 1e-14 * np.abs(row).max(initial=1e-300)):
             break
-    threshold = 1e-9 * c_norm * a22_inv_norm * np.linalg.norm(b2, axis=0)
+    threshold = 1e-9 * c_norm * a22_inv_norm * b_norm
     return reach > threshold
 
 
-def _refuse_unstable(lam: np.ndarray, s0: float) -> None:
-    scale = np.abs(lam).max(initial=0.0)
-    bad = lam.real >= -1e-13 * max(scale, 1e-300)
+class UnstableCircuit(CircuitError):
+    """A pole on or right of the imaginary axis.  ``pole_Hz``: the pole p/2π (complex, Hz);
+    ``growth_per_s``: Re(p) in 1/s; ``lossless``: on the axis (to rounding) rather than right of it."""
+
+    def __init__(self, message: str, pole_Hz: complex, growth_per_s: float, lossless: bool):
+        super().__init__(message)
+        self.pole_Hz = pole_Hz
+        self.growth_per_s = growth_per_s
+        self.lossless = lossless
+
+
+# a pole counts as right of the axis when Re p exceeds this share of |p| plus the rounding of the
+# eigenvalues (QZ is backward stable: errors ~ eps times the largest eigenvalue after scaling,
+# with _ROUNDING_MARGIN for moderate ill-conditioning); a stiff circuit's slow poles (1.75 kHz
+# beside 1.75e16 Hz) are then judged on their own size, not the largest one's
+_UNSTABLE_SHARE = 1e-9
+_LOSSLESS_SHARE = 1e-13
+_ROUNDING_MARGIN = 64.0
+
+
+def unstable_pole(lam: np.ndarray, s0: float, lossless_too: bool = True) -> UnstableCircuit | None:
+    """The worst pole of scaled eigenvalues ``lam`` (p = lam·s0 rad/s) right of the imaginary
+    axis, or on it (to rounding) when ``lossless_too``; None when every pole is stable."""
+    lam = np.asarray(lam, dtype=complex)
+    if lam.size == 0:
+        return None
+    rounding = _ROUNDING_MARGIN * np.finfo(float).eps * float(np.abs(lam).max())
+    size = np.abs(lam)
+    right = lam.real > _UNSTABLE_SHARE * size + rounding
+    on_axis = (lam.real >= -(_LOSSLESS_SHARE * size + rounding)) & ~right
+    bad = right | (on_axis if lossless_too else False)
     if not np.any(bad):
-        return
+        return None
     worst = lam[bad][np.argmax(lam[bad].real)]
-    f = abs(worst) * s0 / (2 * math.pi)
-    if worst.real > 1e-6 * max(scale, 1e-300):
-        kind = "the circuit is unstable (a pole in the right half-plane)"
+    lossless = not right[bad][np.argmax(lam[bad].real)]
+    pole_Hz = complex(worst) * s0 / (2 * math.pi)
+    growth = float(worst.real) * s0
+    f = abs(pole_Hz)
+    if lossless:
+        message = (
+            f"the circuit has a lossless mode (a pole on the imaginary axis) near {f:.4g} Hz, so its noise to "
+            "infinite bandwidth is not defined; add the loss the real circuit has, or integrate over a finite band"
+        )
     else:
-        kind = "the circuit has a lossless mode (a pole on the imaginary axis)"
-    raise CircuitError(
-        f"{kind} near {f:.4g} Hz, so its noise to infinite bandwidth is not defined; "
-        "add the loss the real circuit has, or integrate over a finite band"
-    )
+        message = (
+            f"the circuit is unstable: it has a pole in the right half-plane at {f:.4g} Hz growing at "
+            f"{growth:.4g} /s (its response multiplies by e every {1 / growth:.3g} s), so it has no steady noise "
+            "to analyse"
+        )
+    return UnstableCircuit(message, pole_Hz, growth, lossless)
+
+
+def finite_scaled_eigenvalues(G: np.ndarray, C: np.ndarray) -> tuple[np.ndarray, float]:
+    """The finite generalized eigenvalues of (−G, C) after scaling, and the time scale s0: the
+    poles are p = λ·s0 rad/s."""
+    import scipy.linalg as la
+
+    n = G.shape[0]
+    sc = _scale(G, C, np.zeros(n), np.zeros((n, 0)))
+    w = la.eigvals(sc.a, sc.e, homogeneous_eigvals=True)
+    alpha, beta = w[0], w[1]
+    finite = _finite_first(alpha, beta)
+    return alpha[finite] / beta[finite], sc.s0
+
+
+def _refuse_unstable(lam: np.ndarray, s0: float) -> None:
+    found = unstable_pole(lam, s0)
+    if found is not None:
+        raise found

@@ -25,6 +25,7 @@ from dataclasses import dataclass, field
 from typing import Mapping
 
 from netnoise.constants import BOLTZMANN, ELEMENTARY_CHARGE
+from netnoise.errors import CircuitError
 
 __all__ = [
     "THERMAL",
@@ -38,7 +39,9 @@ __all__ = [
     "thermal_current_density",
     "shot_current_density",
     "excess_current_flicker",
-    "spectrum_levels",
+    "power_density",
+    "check_excess_level",
+    "AMPLITUDE_RANGE",
 ]
 
 THERMAL = "thermal"
@@ -100,8 +103,43 @@ def excess_current_flicker(noise_index_dB: float, dc_voltage: float, resistance:
     return (per_volt * dc_voltage) ** 2 / math.log(10.0) / resistance**2
 
 
-def spectrum_levels(white: float, corner_Hz: float, slope: float) -> tuple[float, float]:
-    """(white level, 1/f level at 1 Hz) of a density given as an amplitude ``white``
-    with a 1/f^slope part below ``corner_Hz``: S = white² · (1 + (corner/f)^slope)."""
-    level = white**2
-    return level, level * corner_Hz**slope if corner_Hz > 0 else 0.0
+# V/√Hz or A/√Hz: the amplitude densities netnoise computes with (the noise of a resistor in
+# circuit.limits.RESISTANCE_RANGE lies well inside).  The square (the power density) of a value outside
+# underflows to 0 or overflows, and its products with squared transfers leave the doubles.
+AMPLITUDE_RANGE = (1e-60, 1e30)
+
+
+def power_density(owner: str, what: str, amplitude: float, unit: str, corner_Hz: float = 0.0, slope: float = 1.0):
+    """(white level, 1/f level at 1 Hz) of an amplitude density ``amplitude`` with a 1/f^slope
+    part below ``corner_Hz`` -- S = amplitude²·(1 + (corner/f)^slope) -- checked where they are
+    formed; CircuitError naming ``owner`` and the value when they would not be normal numbers."""
+    low, high = AMPLITUDE_RANGE
+    if not (low <= amplitude <= high):
+        raise CircuitError(
+            f"{owner}: {what} {amplitude:g} {unit} is outside the range netnoise computes correctly "
+            f"({low:g} to {high:g} {unit}): its square, the noise power density, would be shown as 0 or "
+            "overflow. Give a value in the range (leave the noise out for a noiseless part)"
+        )
+    white = amplitude**2
+    if corner_Hz <= 0.0:
+        return white, 0.0
+    if 2.0 * math.log10(amplitude) + slope * math.log10(corner_Hz) > 2.0 * math.log10(high):
+        raise CircuitError(
+            f"{owner}: {what} {amplitude:g} {unit} with a 1/f corner at {corner_Hz:g} Hz gives a density at "
+            f"1 Hz above ({high:g} {unit})², beyond what netnoise computes correctly: lower the corner frequency"
+        )
+    return white, white * corner_Hz**slope
+
+
+def check_excess_level(owner: str, noise_index_dB: float, dc_voltage: float) -> None:
+    """Refuse a noise index whose excess noise at ``dc_voltage`` leaves the range computed
+    correctly (the exponent is checked before it is raised: ni=1e300 overflows)."""
+    log_noise = noise_index_dB / 20.0 - 6.0 + math.log10(abs(dc_voltage))  # V rms per decade
+    low, high = AMPLITUDE_RANGE
+    if not (math.log10(low) <= log_noise <= math.log10(high)):
+        size = "above 1e300" if log_noise > 300 else "below 1e-300" if log_noise < -300 else f"of {10.0**log_noise:.3g}"
+        raise CircuitError(
+            f"{owner}: noise index {noise_index_dB:g} dB at {abs(dc_voltage):g} V of DC gives an excess noise {size} "
+            f"V per decade, outside the range netnoise computes correctly ({low:g} to {high:g} V): give a noise "
+            "index in the makers' range (about -50 to +30 dB)"
+        )

@@ -87,8 +87,9 @@ class NoiseResult:
         below it) up to each grid frequency, V².
     gain : (F,) |H(f)| from the input source to the output (V/V or V/A), or None.
     gain_squared_integral : ∫|H|² df over the band (V²·Hz/V² or V²·Hz/A²), or None.
-    gain_peak : the largest |H| the engine found anywhere in the band (it
-        samples more finely than the grid, and at 0 Hz), or None.
+    gain_peak : the largest |H| in the band: the largest of every sample the
+        engine took (grid, refinements, 0 Hz), refined between its neighbours by
+        a search in log frequency, so a peak between grid points is found; or None.
     integration_rel_error : the integrator's estimate of its relative error.
     notes : remarks for the user (defaults chosen, warnings), in order.
     source_elements : (K,) the element each source belongs to (an amplifier
@@ -299,10 +300,11 @@ class NoiseResult:
         f = self.frequency_Hz
         if not (f[0] <= frequency_Hz <= f[-1]):
             raise ValueError(f"{frequency_Hz} Hz is outside the analysed grid {f[0]:g}..{f[-1]:g} Hz")
-        positive = f > 0
         d = self.output_density
-        return float(
-            math.sqrt(
-                math.exp(np.interp(math.log(frequency_Hz), np.log(f[positive]), np.log(np.maximum(d[positive], 1e-300))))
-            )
-        )
+        i = int(np.clip(np.searchsorted(f, frequency_Hz), 1, f.size - 1)) if f.size > 1 else 0
+        pair = f[max(i - 1, 0) : i + 1], d[max(i - 1, 0) : i + 1]
+        if f.size > 1 and np.all(pair[0] > 0) and np.all(pair[1] > 0):  # log-log between two positive samples
+            return float(math.sqrt(math.exp(np.interp(math.log(frequency_Hz), np.log(pair[0]), np.log(pair[1])))))
+        # a zero density (no source reaches the output there) is interpolated linearly, never
+        # replaced by a small stand-in value that would be printed as the circuit's
+        return float(math.sqrt(max(float(np.interp(frequency_Hz, f, d)), 0.0)))

@@ -24,7 +24,7 @@ from typing import Any, ClassVar, Iterator
 from netnoise.circuit.elements.base import Element
 from netnoise.constants import GROUND
 from netnoise.errors import SourceLocation
-from netnoise.noise.mechanisms import AMPLIFIER_CURRENT, AMPLIFIER_VOLTAGE, NoiseSource
+from netnoise.noise.mechanisms import AMPLIFIER_CURRENT, AMPLIFIER_VOLTAGE, NoiseSource, power_density
 from netnoise.text.fields import Assignment, shown
 from netnoise.text.source import fail
 
@@ -101,6 +101,7 @@ class OpAmp(Element):
     form: ClassVar[str] = "Xname in+ in- out opamp_model [param=value ...]"
     branch_count: ClassVar[int] = 1
     statement_value: ClassVar[str | None] = None
+    supplies_gain: ClassVar[bool] = True
 
     @classmethod
     def build_instance(cls, statement: Any, ctx: Any, model_name: str, values: dict[str, tuple[float, Any]]) -> "OpAmp":
@@ -119,6 +120,17 @@ class OpAmp(Element):
         model = OpAmpModel(name=model_name, **fields)
         nodes = (ctx.node(statement.nodes[0]), ctx.node(statement.nodes[1]), ctx.node(statement.nodes[2]))
         return cls(name, nodes, model, ctx.loc)
+
+    def check_values(self) -> None:
+        from netnoise.circuit.limits import GAIN_LIMIT
+        from netnoise.errors import CircuitError
+
+        if not abs(self.model.open_loop_gain) <= GAIN_LIMIT:
+            raise CircuitError(
+                f"{self.name}: open-loop gain aol = {self.model.open_loop_gain:g} (model "
+                f"{self.model.name}) is above {GAIN_LIMIT:g}, beyond what netnoise computes correctly "
+                "(the squared transfers would overflow): a gain of 1e6 to 1e9 models an ideal amplifier"
+            )
 
     # ---- structure and topology
     def terminals(self) -> tuple[str, ...]:
@@ -175,24 +187,25 @@ class OpAmp(Element):
     # ---- noise
     def noise_sources(self, n) -> Iterator[NoiseSource]:
         model = self.model
+        owner = f"{self.name} (model {model.name})"
         if model.voltage_noise > 0:
-            white = model.voltage_noise**2
+            white, flicker = power_density(owner, "en =", model.voltage_noise, "V/√Hz", model.voltage_noise_corner_Hz)
             yield NoiseSource(
                 name=f"{self.name} (voltage)", element=self.name, mechanism=AMPLIFIER_VOLTAGE,
                 value=model.voltage_noise, unit="V/√Hz",
                 injection=((n.internal(self, "p1"), self.input_transconductance),),
-                white_density=white, flicker_at_1Hz=white * model.voltage_noise_corner_Hz,
+                white_density=white, flicker_at_1Hz=flicker,
                 details={"model": model.name},
             )
         if model.current_noise > 0:
-            white = model.current_noise**2
+            white, flicker = power_density(owner, "in =", model.current_noise, "A/√Hz", model.current_noise_corner_Hz)
             for pin, label in zip(self.nodes[:2], ("in+", "in-")):
                 injection = n.current_between(pin, GROUND)
                 if injection:
                     yield NoiseSource(
                         name=f"{self.name} ({label})", element=self.name, mechanism=AMPLIFIER_CURRENT,
                         value=model.current_noise, unit="A/√Hz", injection=injection,
-                        white_density=white, flicker_at_1Hz=white * model.current_noise_corner_Hz,
+                        white_density=white, flicker_at_1Hz=flicker,
                         details={"model": model.name},
                     )
 

@@ -15,6 +15,8 @@ module of :mod:`netnoise.circuit.elements`, listed once in
   and its DC right-hand side (``stamp_dc(s, b)``);
 * its DC current and voltage from a solution (``dc_current(v)``, ``dc_voltage(v)``);
 * its noise sources (``noise_sources(n)``);
+* the values it can compute with (``check_values``, or ``check_all`` for
+  checks across its members);
 * its values that can change (``value_field``, ``with_value``).
 
 The engine asks only these; it never asks which class an element is.
@@ -100,6 +102,7 @@ class Element:
     value_field: ClassVar[str | None] = None  # the primary value, as `with_values` changes it
     statement_value: ClassVar[str | None] = "value"  # the statement field that gives it
     can_drive: ClassVar[bool] = False  # an independent source: can be the analysis input
+    supplies_gain: ClassVar[bool] = False  # can supply power (controlled sources, amplifiers): loops may be unstable
     unit: ClassVar[str] = ""
     branch_count: ClassVar[int] = 0
     is_linear: ClassVar[bool] = True
@@ -132,6 +135,16 @@ class Element:
 
     def voltage_defined(self) -> tuple[tuple[str, str], ...]:
         return ()
+
+    # ---- values the engine can compute with
+    def check_values(self) -> None:
+        """Raise CircuitError for a value the engine cannot compute with correctly."""
+
+    @classmethod
+    def check_all(cls, elements: "Iterable[Element]", circuit: Any) -> None:
+        """Checks of all the elements of this kind together (``circuit`` for their neighbours)."""
+        for element in elements:
+            element.check_values()
 
     # ---- stamps
     def stamp(self, s: Stamper) -> None:
@@ -218,6 +231,39 @@ def current_into(s: Any, b: "np.ndarray", nodes: tuple[str, str], amount: float)
         b[first] -= amount
     if second >= 0:
         b[second] += amount
+
+
+def refuse_negative_reactance(element: Element, what: str, unit: str, value: float) -> None:
+    """Negative C or L: refused like a negative R; out of :data:`VALUE_RANGE`: refused by name."""
+    from netnoise.circuit.limits import VALUE_RANGE
+    from netnoise.errors import CircuitError
+
+    if value < 0.0:
+        raise CircuitError(
+            f"{element.name}: negative {what} ({value:g} {unit}). Like a negative resistance it "
+            "is an active element (it needs a source of power and can make the circuit unstable); netnoise "
+            "takes passive, positive values: model active behaviour with a controlled source"
+        )
+    if value > 0.0 and not VALUE_RANGE[0] <= value <= VALUE_RANGE[1]:
+        raise CircuitError(
+            f"{element.name}: {what} {value:g} {unit} is outside the range netnoise computes "
+            f"correctly ({VALUE_RANGE[0]:g} {unit} to {VALUE_RANGE[1]:g} {unit}): the circuit's time constants "
+            "and the noise they shape would leave the range of floating-point numbers and be shown as 0. "
+            "Use a value in the range (or leave the part out)"
+        )
+
+
+def refuse_huge_gain(element: Element, what: str, unit: str, value: float) -> None:
+    """A gain beyond :data:`GAIN_LIMIT` overflows the matrix norms and squared transfers."""
+    from netnoise.circuit.limits import GAIN_LIMIT
+    from netnoise.errors import CircuitError
+
+    if not abs(value) <= GAIN_LIMIT:
+        raise CircuitError(
+            f"{element.name}: {what} {value:g} {unit} is beyond ±{GAIN_LIMIT:g}, "
+            "the range netnoise computes correctly (the matrix norms and squared transfers would "
+            "overflow): a gain of 1e6 to 1e9 models an ideal amplifier"
+        )
 
 
 def branch_kcl(s: Stamper, a: int, b: int, k: int) -> None:

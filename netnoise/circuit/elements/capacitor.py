@@ -10,7 +10,7 @@ from typing import ClassVar
 
 import numpy as np
 
-from netnoise.circuit.elements.base import BuildContext, Passive, TwoTerminal, value_nodes
+from netnoise.circuit.elements.base import BuildContext, Passive, TwoTerminal, value_nodes, refuse_negative_reactance
 from netnoise.text.fields import LineReader
 
 __all__ = ["Capacitor"]
@@ -26,6 +26,9 @@ class Capacitor(TwoTerminal):
     form: ClassVar[str] = "Cname node1 node2 value"
     value_field: ClassVar[str] = "capacitance"
     unit: ClassVar[str] = "F"
+
+    def check_values(self) -> None:
+        refuse_negative_reactance(self, "capacitance", "F", self.capacitance)
 
     @classmethod
     def parse(cls, line: LineReader) -> Passive:

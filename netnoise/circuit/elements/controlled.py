@@ -15,7 +15,7 @@ from __future__ import annotations
 from dataclasses import dataclass, field
 from typing import Any, ClassVar
 
-from netnoise.circuit.elements.base import BuildContext, TwoTerminal, branch_kcl, value_nodes
+from netnoise.circuit.elements.base import BuildContext, TwoTerminal, branch_kcl, refuse_huge_gain, value_nodes
 from netnoise.constants import GROUND
 from netnoise.errors import SourceLocation
 from netnoise.text.fields import LineReader, Value, Word
@@ -58,6 +58,7 @@ class CurrentControlled:
 
 class _VoltageControlledForm:
     gain_word: ClassVar[str]
+    supplies_gain: ClassVar[bool] = True
 
     @classmethod
     def parse(cls, line: LineReader) -> VoltageControlled:
@@ -75,6 +76,7 @@ class _VoltageControlledForm:
 
 class _CurrentControlledForm:
     gain_word: ClassVar[str]
+    supplies_gain: ClassVar[bool] = True
 
     @classmethod
     def parse(cls, line: LineReader) -> CurrentControlled:
@@ -122,6 +124,9 @@ class VoltageControlledVoltageSource(_VoltageControlledForm, TwoTerminal):
     value_field: ClassVar[str] = "gain"
     branch_count: ClassVar[int] = 1
 
+    def check_values(self) -> None:
+        refuse_huge_gain(self, "gain", "V/V", self.gain)
+
     def terminals(self) -> tuple[str, ...]:
         return (*self.nodes, *self.control_nodes)
 
@@ -157,6 +162,9 @@ class VoltageControlledCurrentSource(_VoltageControlledForm, TwoTerminal):
     value_field: ClassVar[str] = "transconductance"
     unit: ClassVar[str] = "S"
 
+    def check_values(self) -> None:
+        refuse_huge_gain(self, "transconductance", "S", self.transconductance)
+
     def terminals(self) -> tuple[str, ...]:
         return (*self.nodes, *self.control_nodes)
 
@@ -188,6 +196,9 @@ class CurrentControlledCurrentSource(_CurrentControlledForm, TwoTerminal):
     statement_value: ClassVar[str | None] = "gain"
     value_field: ClassVar[str] = "gain"
 
+    def check_values(self) -> None:
+        refuse_huge_gain(self, "gain", "A/A", self.gain)
+
     def stamp(self, s) -> None:
         a, b = (s.node(x) for x in self.nodes)
         kc = self.controlling_branch(s)
@@ -212,6 +223,9 @@ class CurrentControlledVoltageSource(_CurrentControlledForm, TwoTerminal):
     value_field: ClassVar[str] = "transresistance"
     unit: ClassVar[str] = "Ω"
     branch_count: ClassVar[int] = 1
+
+    def check_values(self) -> None:
+        refuse_huge_gain(self, "transresistance", "Ω", self.transresistance)
 
     def dc_paths(self) -> tuple[tuple[str, str], ...]:
         return (self.nodes,)

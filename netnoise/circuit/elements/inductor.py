@@ -10,7 +10,7 @@ from __future__ import annotations
 from dataclasses import dataclass
 from typing import ClassVar
 
-from netnoise.circuit.elements.base import BuildContext, Passive, TwoTerminal, branch_kcl, value_nodes
+from netnoise.circuit.elements.base import BuildContext, Passive, TwoTerminal, branch_kcl, value_nodes, refuse_negative_reactance
 from netnoise.text.fields import LineReader
 
 __all__ = ["Inductor"]
@@ -27,6 +27,9 @@ class Inductor(TwoTerminal):
     value_field: ClassVar[str] = "inductance"
     unit: ClassVar[str] = "H"
     branch_count: ClassVar[int] = 1
+
+    def check_values(self) -> None:
+        refuse_negative_reactance(self, "inductance", "H", self.inductance)
 
     @classmethod
     def parse(cls, line: LineReader) -> Passive:

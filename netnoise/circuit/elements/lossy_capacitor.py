@@ -16,7 +16,7 @@ from __future__ import annotations
 from dataclasses import dataclass, field
 from typing import Any, ClassVar, Iterator
 
-from netnoise.circuit.elements.base import BuildContext, TwoTerminal, value_nodes
+from netnoise.circuit.elements.base import BuildContext, TwoTerminal, value_nodes, refuse_negative_reactance
 from netnoise.errors import SourceLocation
 from netnoise.noise.mechanisms import THERMAL, NoiseSource, thermal_current_density
 from netnoise.text.fields import Keyed, LineReader, Value, Word
@@ -48,6 +48,9 @@ class LossyCapacitor(TwoTerminal):
     form: ClassVar[str] = "Cname node1 node2 value esr=OHMS"
     value_field: ClassVar[str] = "capacitance"
     unit: ClassVar[str] = "F"
+
+    def check_values(self) -> None:
+        refuse_negative_reactance(self, "capacitance", "F", self.capacitance)
 
     @classmethod
     def parse(cls, line: LineReader) -> LossyCapacitorLine:

@@ -9,11 +9,22 @@ from __future__ import annotations
 from dataclasses import dataclass
 from typing import ClassVar, Iterator
 
+import math
+
 import numpy as np
 
 from netnoise.circuit.elements.base import BuildContext, NoiseView, Passive, SolutionView, TwoTerminal, value_nodes
+from netnoise.circuit.limits import RESISTANCE_RANGE
 from netnoise.constants import ABSOLUTE_ZERO_C, ZERO_CELSIUS_K
-from netnoise.noise.mechanisms import EXCESS, THERMAL, NoiseSource, excess_current_flicker, thermal_current_density
+from netnoise.errors import CircuitError
+from netnoise.noise.mechanisms import (
+    EXCESS,
+    THERMAL,
+    NoiseSource,
+    check_excess_level,
+    excess_current_flicker,
+    thermal_current_density,
+)
 from netnoise.text.fields import Keyed, LineReader, Word, describe
 from netnoise.text.source import fail
 from netnoise.text.values import milli_slip_notice
@@ -111,6 +122,17 @@ class Resistor(TwoTerminal):
     def dc_paths(self) -> tuple[tuple[str, str], ...]:
         return (self.nodes,)
 
+    def check_values(self) -> None:
+        low, high = RESISTANCE_RANGE
+        r = self.resistance
+        if math.isfinite(r) and r > 0.0 and not (low <= r <= high):
+            raise CircuitError(
+                f"{self.name}: resistance {r:g} Ω is outside the range netnoise computes correctly "
+                f"({low:g} Ω to {high:g} Ω): its noise 4kT/R and the products it enters would leave the "
+                "range of floating-point numbers and be shown as 0 or infinity. Use a value in the "
+                "range (a wire: merge the nodes; an open circuit: remove the resistor)"
+            )
+
     def check(self, s) -> None:
         r = self.resistance
         if not np.isfinite(r):
@@ -163,6 +185,7 @@ class Resistor(TwoTerminal):
         v_dc = n.dc_voltage(*self.nodes)
         if v_dc == 0.0:
             return
+        check_excess_level(self.name, self.noise_index_dB, v_dc)
         yield NoiseSource(
             name=f"{self.name} (excess)", element=self.name, mechanism=EXCESS, value=self.resistance, unit="Ω",
             injection=injection, white_density=0.0,

@@ -17,7 +17,7 @@ from typing import Any, ClassVar, Iterator
 
 from netnoise.circuit.elements.base import BuildContext, TwoTerminal, branch_kcl, current_into, value_nodes
 from netnoise.errors import SourceLocation
-from netnoise.noise.mechanisms import SHOT, SOURCE, NoiseSource, shot_current_density, spectrum_levels
+from netnoise.noise.mechanisms import SHOT, SOURCE, NoiseSource, power_density, shot_current_density
 from netnoise.text.fields import Call, Keyed, LineReader, Value, Word, is_value
 from netnoise.text.source import fail
 
@@ -175,7 +175,7 @@ def _explicit_source(element, n, injection, shot_too: bool) -> Iterator[NoiseSou
     spec = element.noise
     if spec is None or spec.white <= 0.0:
         return
-    white, flicker = spectrum_levels(spec.white, spec.corner_Hz, spec.slope)
+    white, flicker = power_density(element.name, "noise density", spec.white, element.density_unit, spec.corner_Hz, spec.slope)
     yield NoiseSource(
         name=f"{element.name} (noise)" if shot_too else element.name,
         element=element.name, mechanism=SOURCE, value=spec.white, unit=element.density_unit,
