@@ -50,6 +50,15 @@ ERROR_PREFIX = f"{PROG}: error: "
 DEFAULT_TOP = 15
 _INFINITY_WORDS = {"inf", "infinity", "+inf", "∞"}
 
+# what the command line adds to the notes of a result, by note code (netnoise.results.notes)
+ADVICE = {
+    "band-default": "choose one with --band LOW HIGH",
+    "temperature-default": "set it with --temp CELSIUS",
+    "integration-accuracy": "raise --points",
+    "flicker-band-start": "choose the low edge with --band LOW HIGH",
+    "sweep-linear": "set the density with --points",
+}
+
 _EPILOG = """\
 output streams:
   The text report is printed to standard output.  With --json - the JSON
@@ -558,7 +567,7 @@ def run_analyze(args: argparse.Namespace) -> int:
     extras.update(_studies(args, circuit, band, temperature, result))
 
     # build every text first: a refusal (a NaN, an infinity) prints and writes nothing
-    report = format_report(result, top=None if args.top == 0 else args.top, **extras)
+    report = format_report(result, top=None if args.top == 0 else args.top, advice=ADVICE, **extras)
     json_text = to_json(result, **extras) if args.json is not None else None
     csv_text = to_csv(result) if args.csv is not None else None
 

@@ -30,6 +30,7 @@ from netnoise.engine.integrate import integrate_band
 from netnoise.engine.mna import MnaSystem, assemble
 from netnoise.engine.noise_sources import NoiseSources, collect_noise_sources
 from netnoise.engine.resources import require_memory
+from netnoise.results.notes import Note
 from netnoise.results.result import NoiseResult
 from netnoise.circuit.topology import check_element_values, check_topology
 from netnoise.constants import DEFAULT_TEMPERATURE_C, T0_KELVIN, ZERO_CELSIUS_K, canonical_node
@@ -53,12 +54,12 @@ class _Settings:
     high: float
     points_per_decade: float
     temperature_K: float
-    notes: tuple[str, ...]
+    notes: tuple[Note, ...]
     band_defaulted: bool = False
 
 
 def _resolve(circuit, output, reference, input_source, band, points_per_decade, temperature_celsius) -> _Settings:
-    notes = list(circuit.notices)
+    notes = [Note("netlist", text) for text in circuit.notices]
     card = circuit.noise_card
     if output is None:
         if card is None:
@@ -82,7 +83,8 @@ def _resolve(circuit, output, reference, input_source, band, points_per_decade, 
             band = (sweep.start, sweep.stop)
         else:
             band = (0.0, math.inf)
-            notes.append("no band given: integrating from 0 Hz to infinite bandwidth (exact)")
+            notes.append(Note("band-default", "no band given: integrating from 0 Hz to infinite bandwidth (exact)",
+                              {"low_Hz": 0.0, "high_Hz": math.inf}))
     low, high = (float(x) for x in band)
     if math.isnan(low) or math.isnan(high) or low < 0 or math.isinf(low):
         raise UsageError(f"band low edge must be a finite frequency >= 0 Hz, got {low:g}")
@@ -97,7 +99,8 @@ def _resolve(circuit, output, reference, input_source, band, points_per_decade, 
         else:
             points_per_decade = DEFAULT_POINTS_PER_DECADE
             if sweep is not None:
-                notes.append(f"linear sweep on the noise card: reported on a log grid of {points_per_decade} points/decade")
+                notes.append(Note("sweep-linear", f"linear sweep on the noise card: reported on a log grid of "
+                                  f"{points_per_decade} points/decade", {"points_per_decade": points_per_decade}))
     if not (points_per_decade >= 1):
         raise UsageError(f"points per decade must be at least 1, got {points_per_decade}")
 
@@ -105,7 +108,8 @@ def _resolve(circuit, output, reference, input_source, band, points_per_decade, 
         temperature_celsius = circuit.temperature_celsius
     if temperature_celsius is None:
         temperature_celsius = DEFAULT_TEMPERATURE_C
-        notes.append(f"temperature not given: {DEFAULT_TEMPERATURE_C:g} °C (300.15 K), the customary default")
+        notes.append(Note("temperature-default", f"temperature not given: {DEFAULT_TEMPERATURE_C:g} °C (300.15 K), "
+                          "the customary default", {"temperature_K": DEFAULT_TEMPERATURE_C + ZERO_CELSIUS_K}))
     temperature_K = float(temperature_celsius) + ZERO_CELSIUS_K
     if not temperature_K > 0 or not math.isfinite(temperature_K):
         raise UsageError(f"temperature {temperature_celsius:g} °C is below absolute zero (-273.15 °C)")
@@ -237,7 +241,7 @@ class _Problem:
         """Names of the elements that can supply gain: controlled sources and amplifiers."""
         return [e.name for e in self.system.circuit.elements if e.supplies_gain]
 
-    def check_stable(self, notes: list[str]) -> None:
+    def check_stable(self, notes: list[Note]) -> None:
         """Refuse a circuit with a pole right of the imaginary axis (positive feedback): its noise
         grows without limit, so no band total of it means anything.  Checked with the dense QZ
         up to the exact limit of unknowns; beyond, said in the notes that it was not checked.  A network
@@ -246,10 +250,12 @@ class _Problem:
         if not self.active_elements():
             return
         if self.system.size > self.options.exact_limit:
-            notes.append(
+            notes.append(Note(
+                "stability-unchecked",
                 f"stability not checked: {self.system.size} unknowns, above the {self.options.exact_limit} of the dense pole "
-                "computation (a circuit with positive feedback would give meaningless totals)"
-            )
+                "computation (a circuit with positive feedback would give meaningless totals)",
+                {"unknowns": self.system.size, "exact_limit": self.options.exact_limit},
+            ))
             return
         lam, s0 = self.scaled_eigenvalues()
         found = unstable_pole(lam, s0, lossless_too=False)
@@ -383,10 +389,12 @@ def _analyze(problem: _Problem, source_resistor: str | None) -> NoiseResult:
                 "e.g. --band 0.1 HIGH"
             )
         low = DEFAULT_FLICKER_LOW_HZ
-        notes.append(
+        notes.append(Note(
+            "flicker-band-start",
             f"1/f noise present: the default band starts at {DEFAULT_FLICKER_LOW_HZ:g} Hz "
-            "(1/f noise integrated from 0 Hz is unbounded)"
-        )
+            "(1/f noise integrated from 0 Hz is unbounded)",
+            {"low_Hz": DEFAULT_FLICKER_LOW_HZ},
+        ))
     if math.isinf(high):
         if problem.system.size > problem.options.exact_limit:  # the exact method below checks the smaller ones
             problem.check_stable(notes)
@@ -418,11 +426,13 @@ def _analyze(problem: _Problem, source_resistor: str | None) -> NoiseResult:
         else:
             totals = exact
         totals = np.maximum(totals, 0.0)
-        notes.append(
+        notes.append(Note(
+            "spectrum-range",
             f"spectrum shown up to {format_quantity(top, 'Hz')} "
             + ("(100x the highest pole); " if low * 1e3 < top else "(3 decades above the band's low edge); ") + method
-            + ("; 1/f parts are integrated up to there" if colored else "")
-        )
+            + ("; 1/f parts are integrated up to there" if colored else ""),
+            {"top_Hz": top},
+        ))
         gain_row = k + (int(sources.colored.sum()) if colored else 0)
     else:
         problem.check_stable(notes)
@@ -436,7 +446,8 @@ def _analyze(problem: _Problem, source_resistor: str | None) -> NoiseResult:
         rel_error = shown.rel_error
         gain_row = k
     if rel_error > 1e-4:
-        notes.append(f"band integral converged only to about {rel_error:.1e} relative; raise --points")
+        notes.append(Note("integration-accuracy", f"band integral converged only to about {rel_error:.1e} relative; "
+                          "a denser grid (more points per decade) tightens it", {"rel_error": rel_error}))
 
     source_variance = totals[:k]
     source_density = shown.grid_density[:k]
@@ -446,7 +457,7 @@ def _analyze(problem: _Problem, source_resistor: str | None) -> NoiseResult:
         gain_peak = math.sqrt(_gain_peak_power(problem, shown, gain_row, low, high, settings.points_per_decade))
         gain_integral = float(totals[-1]) if math.isfinite(totals[-1]) else None
         if gain_integral is None:
-            notes.append("the signal path has no roll-off: its noise bandwidth is unbounded")
+            notes.append(Note("signal-unbounded", "the signal path has no roll-off: its noise bandwidth is unbounded"))
     _refuse_non_finite(source_variance, source_density)
     _refuse_underflow(problem, source_variance)
     figure = _noise_figure(problem, source_resistor, source_variance, source_density) if source_resistor else None

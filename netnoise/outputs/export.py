@@ -18,7 +18,7 @@ JSON shape (fixed keys; more may be added, none removed)::
      "spectrum": {"frequency_Hz", "output_density_V_per_rtHz",
                   "cumulative_rms_V",
                   "input_referred_density_per_rtHz"},  # last one only with an input source
-     "notes": [...], "integration_rel_error",
+     "notes": [{"code", "text", "data"}, ...], "integration_rel_error",
      "noise_figure_dB": float|null,            # null without a source resistor
      "noise_figure_spectrum_dB": [float|null]|null,   # null entry: no signal gain there
      "source_resistor": str|null}
@@ -115,6 +115,11 @@ def _floats(array: np.ndarray) -> list[float]:
 def _amplitude(power_density: np.ndarray) -> np.ndarray:
     """√ of a power density, tiny negative round-off clipped to zero."""
     return np.sqrt(np.maximum(np.asarray(power_density, dtype=float), 0.0))
+
+
+def _note_data(data) -> dict[str, Any]:
+    """A note's data for JSON: numbers as they are, an infinity as null."""
+    return {k: (None if isinstance(v, float) and not math.isfinite(v) else v) for k, v in data.items()}
 
 
 def _optional(value: float | None) -> float | None:
@@ -252,7 +257,7 @@ def result_to_dict(
             for c in result.contributions
         ],
         "spectrum": spectrum,
-        "notes": list(result.notes),
+        "notes": [{"code": n.code, "text": n.text, "data": _note_data(n.data)} for n in result.notes],
         "integration_rel_error": float(result.integration_rel_error),
         "noise_figure_dB": _optional(result.noise_figure_dB),
         "noise_figure_spectrum_dB": _noise_figure_spectrum(result),

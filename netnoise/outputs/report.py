@@ -30,7 +30,7 @@ from __future__ import annotations
 
 import dataclasses
 import math
-from typing import Any, TYPE_CHECKING
+from typing import TYPE_CHECKING, Any, Mapping
 
 import numpy as np
 
@@ -601,8 +601,11 @@ def _operating_point(op: OperatingPoint) -> list[str]:
     return lines
 
 
-def _notes(result: NoiseResult) -> list[str]:
-    notes = list(result.notes)
+def _notes(result: NoiseResult, advice: Mapping[str, str] | None = None) -> list[str]:
+    """The Notes section; ``advice`` adds a sentence to the notes of the codes it names
+    (the command line says which of its options would change them)."""
+    advice = advice or {}
+    notes = [note.text + (f" ({advice[note.code]})" if note.code in advice else "") for note in result.notes]
     if result.integration_rel_error > ACCURACY_NOTE_THRESHOLD:
         notes.append(
             f"Band integral accurate to about {100.0 * result.integration_rel_error:.2g} % "
@@ -626,6 +629,7 @@ def format_report(
     operating_point: OperatingPoint | None = None,
     response: Any = None,
     sensitivities: Any = None,
+    advice: Mapping[str, str] | None = None,
 ) -> str:
     """The noise budget of ``result`` as plain text (ends with a newline).
 
@@ -637,7 +641,9 @@ def format_report(
     the signal was stated), ``adc`` (from :func:`netnoise.figures.adc_comparison`)
     and ``operating_point`` (from :func:`netnoise.dc.operating_point`) add
     their sections, as do ``response`` (the signal path's speed) and
-    ``sensitivities`` (what to change) from :mod:`netnoise.studies`.  Raises :class:`CircuitError` for a result holding NaN
+    ``sensitivities`` (what to change) from :mod:`netnoise.studies`.
+    ``advice`` maps note codes to a hint added to those notes (the command
+    line's options).  Raises :class:`CircuitError` for a result holding NaN
     or infinite values (nothing that is not finite is ever printed).
     """
     if top is not None and top < 1:
@@ -668,6 +674,6 @@ def format_report(
         lines += study_text.sensitivity_section(sensitivities, result.temperature_K)
     if operating_point is not None:
         lines += _operating_point(operating_point)
-    lines += _notes(result)
+    lines += _notes(result, advice)
     lines += ["", CAUTION]
     return "\n".join(lines) + "\n"

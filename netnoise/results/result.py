@@ -20,6 +20,8 @@ from typing import Mapping
 
 import numpy as np
 
+from netnoise.results.notes import Note, as_note
+
 __all__ = ["Contribution", "NoiseResult"]
 
 
@@ -91,7 +93,8 @@ class NoiseResult:
         engine took (grid, refinements, 0 Hz), refined between its neighbours by
         a search in log frequency, so a peak between grid points is found; or None.
     integration_rel_error : the integrator's estimate of its relative error.
-    notes : remarks for the user (defaults chosen, warnings), in order.
+    notes : :class:`~netnoise.results.notes.Note` remarks (a code, its data and a
+        sentence: defaults chosen, warnings), in order; plain strings are taken as notes.
     source_elements : (K,) the element each source belongs to (an amplifier
         has several sources); empty means the same as ``source_names``.
     source_units : (K,) the unit of each ``source_values`` entry; empty: none.
@@ -121,7 +124,7 @@ class NoiseResult:
     gain_squared_integral: float | None = None
     gain_peak: float | None = None
     integration_rel_error: float = 0.0
-    notes: tuple[str, ...] = field(default=())
+    notes: tuple[Note, ...] = field(default=())
     source_elements: tuple[str, ...] = ()
     source_resistor: str | None = None
     noise_figure_spectrum_dB: np.ndarray | None = None
@@ -143,7 +146,7 @@ class NoiseResult:
         k = len(self.source_names)
         set_(self, "source_units", tuple(self.source_units) or ("",) * k)
         set_(self, "source_details", tuple(self.source_details) or ({},) * k)
-        set_(self, "notes", tuple(self.notes))
+        set_(self, "notes", tuple(as_note(n) for n in self.notes))
         set_(self, "source_elements", tuple(self.source_elements) or tuple(self.source_names))
         if self.noise_figure_spectrum_dB is not None:
             set_(self, "noise_figure_spectrum_dB", _frozen(self.noise_figure_spectrum_dB))
