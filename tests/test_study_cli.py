@@ -90,3 +90,22 @@ def test_sweep_refuses_what_it_cannot_vary(capsys):
     assert "cannot vary 'Rnone'" in capsys.readouterr().err
     assert main(["sweep", str(TRACK_HOLD), "--vary", "Chold", "1p", "2p", "--target-settle", "1n"]) == 2
     assert "needs --settle" in capsys.readouterr().err
+
+
+def test_the_trade_off_plot_draws_what_the_sweep_found():
+    # checked by its data, not its pixels
+    import netnoise
+    from netnoise.outputs.study_plots import plot_tradeoff
+    from netnoise.studies.sweep import Vary, sweep
+
+    prepared = netnoise.prepare(netnoise.load_netlist(TRACK_HOLD), band=(0.0, math.inf))
+    one = sweep(prepared, [Vary.span("Chold", 1e-12, 4e-12, 3)], settle=2.0**-17)
+    drawn = plot_tradeoff(one, units={"Chold": "F"})
+    x, y = drawn.lines[0].get_data()
+    assert list(x) == pytest.approx(list(one.settling_time_s), rel=1e-12)
+    assert drawn.axes[0].get_ylabel() == "total output noise (µV rms)"
+    assert list(y) == pytest.approx(list(one.total_rms_V * 1e6), rel=1e-12)
+    grid = sweep(prepared, [Vary("Chold", (1e-12, 2e-12)), Vary("temp", (0.0, 50.0))], speed=False)
+    drawn = plot_tradeoff(grid, units={"Chold": "F"})
+    labels = [line.get_label() for line in drawn.axes[1].get_lines()]
+    assert labels == ["temp = 0 °C", "temp = 50 °C"]

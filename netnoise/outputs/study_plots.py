@@ -56,20 +56,35 @@ def plot_tradeoff(
     speed = settling if speed_is_settling else result.bandwidth_Hz
     name0 = result.vary[0].name
     lines = []
-    if np.all(np.isfinite(speed)):
-        line, = axes[0].plot(speed, noise / scale, "o-", color=LINE_COLOUR)
+    values = np.array([p.values[0] for p in result.points])
+    # one curve per value of the second quantity (a grid), else one curve
+    if len(result.vary) == 2:
+        second = result.vary[1]
+        curves = [(f"{second.name} = {_label(second.name, v, units)}",
+                   np.array([p.values[1] == v for p in result.points])) for v in second.values]
+    else:
+        curves = [(None, np.ones(len(result.points), dtype=bool))]
+    colours = [LINE_COLOUR, "#6b5b95", "#c99a2e", "#3f6fa6", "#5b8c3a", "#a05a8c"]
+    drawn_speed = bool(np.all(np.isfinite(speed)))
+    for index, (label, mask) in enumerate(curves):
+        colour = colours[index % len(colours)]
+        if drawn_speed:
+            line, = axes[0].plot(speed[mask], noise[mask] / scale, "o-", color=colour, label=label)
+            lines.append(line)
+            if index == 0:
+                for x, y, v in zip(speed[mask], noise[mask] / scale, values[mask]):
+                    axes[0].annotate(_label(name0, v, units), (x, y), textcoords="offset points", xytext=(4, 4), fontsize=8)
+        line, = axes[1].plot(values[mask], noise[mask] / scale, "o-", color=colour, label=label)
         lines.append(line)
-        for x, y, p in zip(speed, noise / scale, result.points):
-            axes[0].annotate(_label(name0, p.values[0], units), (x, y), textcoords="offset points", xytext=(4, 4), fontsize=8)
+    if drawn_speed:
         axes[0].set_xscale("log")
         axes[0].set_xlabel("settling time (s)" if speed_is_settling else "bandwidth (Hz)")
     else:
         axes[0].text(0.5, 0.5, "no input source: speed not defined", ha="center", transform=axes[0].transAxes)
     axes[0].set_ylabel(f"total output noise ({prefix}V rms)")
     axes[0].set_title("noise against speed")
-    values = np.array([p.values[0] for p in result.points])
-    line, = axes[1].plot(values, noise / scale, "o-", color=LINE_COLOUR)
-    lines.append(line)
+    if len(curves) > 1:
+        axes[1].legend(loc="best", fontsize=8)
     if values.min() > 0 and values.max() / values.min() > 20:
         axes[1].set_xscale("log")
     axes[1].set_xlabel(f"{name0} ({'°C' if name0.lower() == 'temp' else units.get(name0, '')})")
@@ -82,7 +97,7 @@ def plot_tradeoff(
         point = answer.point
         label = f"{answer.name} = {_label(answer.name, answer.value, units)}"
         x = point.settling_time_s if speed_is_settling else point.bandwidth_Hz
-        if x is not None and np.all(np.isfinite(speed)):
+        if x is not None and drawn_speed:
             lines.append(axes[0].plot([x], [point.total_rms_V / scale], "D", color=TARGET_COLOUR, label=label)[0])
         lines.append(axes[1].plot([answer.value], [point.total_rms_V / scale], "D", color=TARGET_COLOUR, label=label)[0])
         axes[1].legend(loc="best", fontsize=8)
