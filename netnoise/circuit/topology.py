@@ -28,8 +28,8 @@ def check_topology(circuit: ck.Circuit) -> None:
             "no element connects to ground (node 0); every circuit needs a reference node: "
             "connect the circuit's common to node 0 (or 'gnd')"
         )
-    every_terminal = []
-    dc_paths = []
+    every_terminal: list[tuple[str, str]] = []
+    dc_paths: list[tuple[str, str]] = []
     for element in circuit.elements:
         terminals = element.terminals()
         every_terminal.extend((terminals[0], node) for node in terminals[1:])
@@ -94,4 +94,4 @@ def check_element_values(circuit: ck.Circuit) -> None:
     for element in circuit.elements:
         by_kind.setdefault(type(element), []).append(element)
     for kind, members in by_kind.items():
-        kind.check_all(members, circuit)
+        kind.check_all(members, circuit)  # type: ignore[attr-defined]

@@ -466,7 +466,7 @@ def _analyze(problem: _Problem, source_resistor: str | None) -> NoiseResult:
         temperature_K=settings.temperature_K,
         output_node=settings.output,
         reference_node=settings.reference,
-        input_source=problem.system.circuit.element(settings.input_source).name if problem.has_input else None,
+        input_source=problem.system.circuit.element(settings.input_source).name if settings.input_source and problem.has_input else None,
         input_unit=problem.input_unit,
         band_low_Hz=low,
         band_high_Hz=high,
@@ -626,7 +626,7 @@ def _infinite_band_totals(problem: _Problem) -> tuple[np.ndarray, np.ndarray | N
     else:
         columns = problem.sources.injection.toarray()
         density = np.asarray(problem.sources.white_density)
-        if problem.has_input:
+        if problem.input_vector is not None:
             columns = np.hstack([columns, problem.input_vector[:, None]])
             density = np.append(density, 1.0)
         try:
@@ -732,7 +732,7 @@ def _noise_figure(problem: _Problem, name: str, variance: np.ndarray, density: n
             "(marked noiseless, or not connected to the signal path)"
         )
     i = found[0]
-    to_t0 = T0_KELVIN / sources[i].temperature_K
+    to_t0 = T0_KELVIN / (sources[i].temperature_K or T0_KELVIN)
     source_power = variance[i] * to_t0
     total = float(variance.sum()) - variance[i] + source_power
     source_density = density[i] * to_t0

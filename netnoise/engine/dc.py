@@ -72,7 +72,7 @@ def operating_point(circuit: ck.Circuit) -> OperatingPoint:
         if current is None:
             continue
         currents[element.name] = current
-        voltages[element.name] = element.dc_voltage(view)
+        voltages[element.name] = element.dc_voltage(view) or 0.0
     nodes = {node: view.v(node) for node in system.node_index}
     return OperatingPoint(node_voltages=nodes, element_currents=currents, element_voltages=voltages)
 

@@ -76,7 +76,7 @@ class _Samples:
         density = np.asarray(self._evaluate(f), dtype=float)
         peak = density.max(axis=1, initial=-np.inf)
         where = f[np.argmax(density, axis=1)] if density.shape[1] else np.full(density.shape[0], np.nan)
-        if self.density_max is None:
+        if self.density_max is None or self.density_argmax is None:
             self.density_max, self.density_argmax = peak, where
         else:
             higher = peak > self.density_max
@@ -189,7 +189,7 @@ def integrate_band(
     grid = slice(int(grid_ids[0]), int(grid_ids[-1]) + 1)  # laid out in one call: consecutive ids
     return BandIntegral(
         values=values,
-        sample_max=samples.density_max,
+        sample_max=samples.density_max if samples.density_max is not None else np.zeros(0),
         grid_Hz=f_grid,
         grid_density=g[:, grid] / f_grid[None, :],
         grid_cumulative=cumulative[:, grid_ids],

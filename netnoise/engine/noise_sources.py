@@ -116,7 +116,7 @@ def collect_noise_sources(
             return solve_operating_point(system)
 
     ctx = NoiseContext(system=system, temperature_K=temperature_K, dc_solution=_once(dc_solution))
-    found = [s for element in system.circuit.elements for s in element.noise_sources(ctx)]
+    found = [s for element in system.circuit.elements for s in element.noise_sources(ctx)]  # type: ignore[arg-type]
     found.sort(key=lambda s: ROW_ORDER[s.mechanism])  # stable: netlist order within a mechanism
     sources = tuple(found)
     rows, cols, vals = [], [], []

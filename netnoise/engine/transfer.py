@@ -330,14 +330,14 @@ class AdjointSolver:
             # row scaling from the row maxima of |G| + |s|·|C| (a bound of |G + sC|, safe against
             # cancellation), then column scaling of the row-scaled magnitudes (geequ)
             mag = p.g_abs[None, :] + w_abs[:, None] * p.c_abs[None, :]  # (Fc, nnz)
-            dr = _pow2(np.maximum.reduceat(mag[:, by_row], row_ptr[:-1], axis=1))  # (Fc, n)
+            dr = _pow2(np.maximum.reduceat(mag[:, by_row], row_ptr[:-1].astype(np.intp), axis=1))  # (Fc, n)
             mag *= dr[:, rows]
-            dc = _pow2(np.maximum.reduceat(mag, p.indptr[:-1], axis=1))  # CSC order: columns
+            dc = _pow2(np.maximum.reduceat(mag, p.indptr[:-1].astype(np.intp), axis=1))  # CSC order: columns
             data = p.g_data[None, :] + s[:, None] * p.c_data[None, :]
             data *= dr[:, rows] * dc[:, cols]
-            yt = np.zeros((fc.size, n * n), dtype=complex)
-            yt[:, rows * n + cols] = data
-            yt = yt.reshape(fc.size, n, n)
+            flat = np.zeros((fc.size, n * n), dtype=complex)
+            flat[:, rows * n + cols] = data
+            yt = flat.reshape(fc.size, n, n)
             rhs = np.empty((fc.size, n, 2), dtype=complex)
             rhs[:, :, 0] = dr * c[None, :]
             rhs[:, :, 1] = probe[None, :]
@@ -426,7 +426,7 @@ class AdjointSolver:
             require_memory(3 * 20 * (lu.L.nnz + lu.U.nnz), "the sparse LU factors")
             self._superlu_order = np.argsort(lu.perm_c)
             self._pattern = _Pattern(self._system.G.T, self._system.C.T, self._superlu_order)
-            self._system = None
+            self._system = None  # type: ignore[assignment]  # not needed once the ordering is known
         rhs = np.stack([dr * (c if order is None else c[order]), self._probe], axis=1)
         rn = float(np.abs(rhs[:, 0]).max())
         w = lu.solve(rhs)

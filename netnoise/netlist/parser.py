@@ -54,7 +54,7 @@ _UNSUPPORTED = {
 
 def _element(tree: Tree, fields: FieldReader) -> Statement:
     """An element line with keyed, called, braced or quoted fields."""
-    name_word = fields.word(tree.children[0])
+    name_word = fields.word(tree.children[0])  # type: ignore[arg-type]
     _check_letter(name_word)
     return _element_statement(name_word, fields.fields(tree.children[1:]))
 
@@ -68,7 +68,7 @@ def _plain_element(token: Token, fields: FieldReader) -> Statement:
         what = "value of " + name
         return Passive(letter, name, (items[0], items[1]), as_value(items[2], what), name_word.loc, kind=_PLAIN[letter])
     _check_letter(name_word)
-    return _element_statement(name_word, items)
+    return _element_statement(name_word, list[Field](items))
 
 
 _PLAIN = {letter: kinds_for(letter)[0] for letter in "RCL"}

@@ -516,7 +516,9 @@ def _budget(result: NoiseResult, top: int | None, group_by: str = "source") -> l
         lines.append("  (no noise sources)")
         return lines
     numbers = lambda c: (format_quantity(c.rms_V, "V"), _percent(c.share), _percent(c.cumulative_share), _bar(c.share))  # noqa: E731
-    if group_by == "mechanism":  # a mechanism row is named by its mechanism (its ``element`` field)
+    header: tuple[str, ...]
+    cells: list[tuple[str, ...]]
+    if group_by == "mechanism":  # a mechanism row is named by its mechanism
         header = ("#", "mechanism", "sources", "rms at output", "share", "cumul.", "")
         cells = [(rank, c.label, c.value, *numbers(c)) for rank, c in rows]
         right = {0, 3, 4, 5}

@@ -63,18 +63,18 @@ def plot_tradeoff(
         curves = [(f"{second.name} = {_label(second.name, v, units)}",
                    np.array([p.values[1] == v for p in result.points])) for v in second.values]
     else:
-        curves = [(None, np.ones(len(result.points), dtype=bool))]
+        curves = [("", np.ones(len(result.points), dtype=bool))]
     colours = [LINE_COLOUR, "#6b5b95", "#c99a2e", "#3f6fa6", "#5b8c3a", "#a05a8c"]
     drawn_speed = bool(np.all(np.isfinite(speed)))
     for index, (label, mask) in enumerate(curves):
         colour = colours[index % len(colours)]
         if drawn_speed:
-            line, = axes[0].plot(speed[mask], noise[mask] / scale, "o-", color=colour, label=label)
+            line, = axes[0].plot(speed[mask], noise[mask] / scale, "o-", color=colour, label=label or None)
             lines.append(line)
             if index == 0:
                 for x, y, v in zip(speed[mask], noise[mask] / scale, values[mask]):
                     axes[0].annotate(_label(name0, v, units), (x, y), textcoords="offset points", xytext=(4, 4), fontsize=8)
-        line, = axes[1].plot(values[mask], noise[mask] / scale, "o-", color=colour, label=label)
+        line, = axes[1].plot(values[mask], noise[mask] / scale, "o-", color=colour, label=label or None)
         lines.append(line)
     if drawn_speed:
         axes[0].set_xscale("log")

@@ -139,7 +139,7 @@ def _time_grid(fast: float, slow: float) -> list[tuple[float, int]]:
     return segments
 
 
-def _reduced(system: MnaSystem, c: np.ndarray, b: np.ndarray):
+def _reduced(system: MnaSystem, c: np.ndarray, b: np.ndarray) -> tuple[np.ndarray, np.ndarray, np.ndarray, float] | None:
     """(M, N, P, D): the ordinary system x1' = M x1 + N u, y = P x1 + D u, or None above index 1."""
     import scipy.linalg as la
 
@@ -180,7 +180,8 @@ def step_response(
     dc = complex(transfers(system, output, excitation, [0.0], options)[0, 0, 0]).real
     reduced = _reduced(system, output, excitation) if system.size <= options.exact_limit else None
     if reduced is not None:
-        return _exact(*reduced, dc)
+        m, n, p, d = reduced
+        return _exact(m, n, p, d, dc)
     return _stepped(system, output, excitation, dc)
 
 
@@ -212,12 +213,12 @@ def _exact(m, n, p, d, dc: float) -> StepResponse:
     poles = _poles(m)
     _check_settles(poles)
     if not poles.size:  # no dynamics: the output follows the input at once
-        t = np.array([0.0, 1.0])
-        return StepResponse(t, np.array([d, d]), d, "exact")
+        return StepResponse(np.array([0.0, 1.0]), np.array([d, d]), d, "exact")
     rates = np.abs(poles.real)
     fast, slow = 1.0 / np.abs(poles).max(), 1.0 / rates.min()
     r = m.shape[0]
-    times, values = [0.0], [d]  # at t = 0+ the states are still 0: the direct part only
+    times: list[float] = [0.0]
+    values: list[float] = [float(d)]  # at t = 0+ the states are still 0: the direct part only
     x = np.zeros(r)
     t = 0.0
     for h, count in _time_grid(fast, slow):

@@ -71,9 +71,9 @@ def _stamp_entries(element: Element, stamps: _Stamps):
 
 def _derivative_stamps(elements: list[Element], stamps: _Stamps, n: int):
     """Stacked p·∂G/∂p and p·∂C/∂p of every element: (rows, cols, values, element index) each."""
-    parts = {"G": [], "C": []}
+    parts: dict[str, list[tuple[np.ndarray, np.ndarray, np.ndarray, np.ndarray]]] = {"G": [], "C": []}
     for index, element in enumerate(elements):
-        p = element.primary_value
+        p = float(element.primary_value or 0.0)
         up, down = element.with_value(p * (1 + _STEP)), element.with_value(p * (1 - _STEP))
         for (matrix, plus), (_, minus) in zip(zip("GC", _stamp_entries(up, stamps)), zip("GC", _stamp_entries(down, stamps))):
             diff = (sp.coo_matrix((plus[2], (plus[0], plus[1])), shape=(n, n))
@@ -94,8 +94,8 @@ def _density_derivatives(prepared: PreparedAnalysis, elements: list[Element]):
     circuit = base.circuit
     t = problem.settings.temperature_K
     for index, element in enumerate(elements):
-        p = element.primary_value
-        levels = []
+        p = float(element.primary_value or 0.0)
+        levels: list[tuple[np.ndarray, np.ndarray]] = []
         for factor in (1 + _STEP, 1 - _STEP):
             changed = base.refilled(circuit.with_values({element.name: p * factor}))
             sources = collect_noise_sources(changed, t)
@@ -190,18 +190,18 @@ def sensitivities(prepared: PreparedAnalysis, settle: float | None = None, speed
     if total <= 0:
         return ()
     problem = prepared.problem
-    has_input = problem.has_input and speed
-    base = speed_of_response(problem.system, problem.selector, problem.input_vector, settle, problem.options) if has_input else None
+    path = problem.input_vector if speed else None
+    base = speed_of_response(problem.system, problem.selector, path, settle, problem.options) if path is not None else None
     out = []
     for index, element in enumerate(elements):
         bw = settling = None
-        if base is not None:
-            p = element.primary_value
+        if base is not None and path is not None:
+            p = float(element.primary_value or 0.0)
             varied = []
             for factor in (1 + 1e-4, 1 - 1e-4):
                 system = problem.system.refilled(problem.system.circuit.with_values({element.name: p * factor}))
                 try:
-                    varied.append(speed_of_response(system, problem.selector, problem.input_vector, settle, problem.options))
+                    varied.append(speed_of_response(system, problem.selector, path, settle, problem.options))
                 except Exception:  # noqa: BLE001 - a change that breaks the response leaves its figure out
                     varied = []
                     break
@@ -210,7 +210,7 @@ def sensitivities(prepared: PreparedAnalysis, settle: float | None = None, speed
                     bw = (math.log(varied[0].bandwidth_Hz) - math.log(varied[1].bandwidth_Hz)) / (2e-4)
                 if base.settling_time_s and varied[0].settling_time_s and varied[1].settling_time_s:
                     settling = (math.log(varied[0].settling_time_s) - math.log(varied[1].settling_time_s)) / (2e-4)
-        out.append(Sensitivity(element.name, float(element.primary_value), element.unit, scaled[index] / (2 * total),
+        out.append(Sensitivity(element.name, float(element.primary_value or 0.0), element.unit, scaled[index] / (2 * total),
                                bw, settling))
     out.append(Sensitivity(TEMPERATURE, problem.settings.temperature_K, "K", scaled[-1] / (2 * total)))
     out.sort(key=lambda s: -abs(s.rms_pct_per_pct))

@@ -135,6 +135,7 @@ class _Evaluator:
         bandwidth = settling = None
         if self.speed:
             problem = prepared.problem
+            assert problem.input_vector is not None  # self.speed says there is an input
             speed = speed_of_response(problem.system, problem.selector, problem.input_vector, self.settle, problem.options)
             bandwidth, settling = speed.bandwidth_Hz, speed.settling_time_s
         return SweepPoint(tuple(float(v) for v in values), result.total_rms, dominant, bandwidth, settling)
@@ -209,7 +210,7 @@ def meet_target(
             return math.log(p.total_rms_V / noise_rms_V)
         if p.settling_time_s is None:
             raise CircuitError("the settling time is not defined here (no input source?)")
-        return math.log(p.settling_time_s / settling_time_s)
+        return math.log(p.settling_time_s / (settling_time_s or 1.0))
 
     a, b = (math.log(low), math.log(high)) if logarithmic else (low, high)
     fa, fb = miss(a), miss(b)

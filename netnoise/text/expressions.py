@@ -80,7 +80,7 @@ def _arity_text(low: int, high: int | None) -> str:
 def _start(node: Tree | Token) -> tuple[int, int]:
     while not isinstance(node, Token):  # a tree starts where its first token does
         node = node.children[0]
-    return node.line, node.column
+    return node.line or 1, node.column or 1
 
 
 MAX_DEPTH = 200

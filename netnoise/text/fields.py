@@ -222,13 +222,13 @@ class FieldReader:
         self.source = source
 
     def word(self, token: Token) -> Word:
-        return Word(str(token), self.source, token.line, token.column)
+        return Word(str(token), self.source, token.line or 1, token.column or 1)
 
     def words(self, token: Token) -> list[Word]:
         """The words of a WORDS or PLAIN_LINE token (blank-separated, one line)."""
         text = str(token)
-        line = token.line
-        column = token.column
+        line = token.line or 1
+        column = token.column or 1
         out: list[Word] = []
         position = 0
         for piece in text.split():
@@ -267,7 +267,7 @@ class FieldReader:
     def field(self, node: Tree) -> Field:
         kind = node.data
         if kind == "word":
-            return self.word(node.children[0])
+            return self.word(node.children[0])  # type: ignore[arg-type]
         if kind == "quoted":
             token = node.children[0]
             return Quoted(str(token)[1:-1], self.source.at(token), self.source.after(token))
@@ -281,7 +281,7 @@ class FieldReader:
             if len(node.children) > 3:  # name LPAR call_args RPAR
                 for arg in node.children[2].children:
                     if arg.data == "word":
-                        args.append(self.word(arg.children[0]))
+                        args.append(self.word(arg.children[0]))  # type: ignore[arg-type]
                     elif arg.data == "keyed":
                         args.append(self.keyed(arg))
                     else:

@@ -111,9 +111,9 @@ def _unwrap(exc: UnexpectedInput, source: SourceText) -> NetlistError:
                 loc,
                 "a line starts with an element name (R1, C2, X3, ...) or a dot-card (.param, ...)",
             )
-        expected = f"; expected {_expected_words(allowed)}" if allowed else ""
+        hint = f"; expected {_expected_words(allowed)}" if allowed else ""
         char = exc.char if exc.char.isprintable() else f"U+{ord(exc.char):04X}"
-        return _fail(f"unexpected character '{char}'{expected}", loc)
+        return _fail(f"unexpected character '{char}'{hint}", loc)
     if isinstance(exc, UnexpectedEOF):
         last = len(source.lines)
         return _fail("the file ends in the middle of a line", source.location(last, 1))

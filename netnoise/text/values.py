@@ -146,7 +146,8 @@ def milli_slip_notice(name: str, text: str, value: float) -> str | None:
     if suffix != "m" or abs(value) >= 1.0:
         return None
     stripped = text.strip()
-    written_as = stripped[: _NUMBER.match(stripped).end()]
+    match = _NUMBER.match(stripped)
+    written_as = stripped[: match.end()] if match else stripped
     return (
         f"{name} = {format_quantity(value, 'Ω')}: 'M' means milli; "
         f"write {written_as}meg for megohms"

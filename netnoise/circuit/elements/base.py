@@ -181,7 +181,7 @@ class Element:
         """A copy with its primary value replaced (ValueError if it has none)."""
         if self.value_field is None:
             raise ValueError(f"{self.name} has no value that can be changed")
-        return dataclasses.replace(self, **{self.value_field: float(value)})
+        return dataclasses.replace(self, **{self.value_field: float(value)})  # type: ignore[arg-type]
 
     @property
     def primary_value(self) -> float | None:
