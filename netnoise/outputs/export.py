@@ -64,7 +64,8 @@ import numpy as np
 from netnoise.constants import celsius
 from netnoise.errors import CircuitError, UsageError
 from netnoise.outputs.labels import row_value_text
-from netnoise.outputs.report import check_finite, enob_bits
+from netnoise.outputs.merit_text import enob_bits
+from netnoise.results.validation import check_finite
 from netnoise.results.result import NoiseResult
 
 if TYPE_CHECKING:  # pragma: no cover

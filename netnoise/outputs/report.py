@@ -32,12 +32,16 @@ import dataclasses
 import math
 from typing import TYPE_CHECKING, Any, Mapping
 
-import numpy as np
 
-from netnoise.constants import T0_KELVIN, celsius
+from netnoise.constants import celsius
 from netnoise.engformat import format_quantity
 from netnoise.outputs import study_text
 from netnoise.outputs.labels import row_value_text, value_text
+from netnoise.outputs.merit_text import T0_K, converter_section, enob_bits, noise_figure_section, signal_to_noise_section
+from netnoise.outputs.text_layout import BAR_WIDTH, RULE as _RULE, bar as _bar, field as _field, gain_unit as _gain_unit
+from netnoise.outputs.text_layout import hz as _hz, output_text as _output_text, percent as _percent, section as _section
+from netnoise.outputs.text_layout import decade_frequencies as _decade_frequencies
+from netnoise.results.validation import check_finite, non_finite_fields
 from netnoise.errors import CircuitError, UsageError
 from netnoise.results.result import NoiseResult
 
@@ -45,23 +49,17 @@ if TYPE_CHECKING:  # pragma: no cover
     from netnoise.engine.dc import OperatingPoint
     from netnoise.results.figures import AdcComparison, SignalToNoise
 
-__all__ = ["format_report", "check_finite", "enob_bits", "non_finite_fields", "PEAK_TO_PEAK_SIGMAS", "CAUTION", "T0_K", "GROUPINGS"]
+__all__ = [
+    "format_report", "check_finite", "enob_bits", "non_finite_fields", "PEAK_TO_PEAK_SIGMAS", "CAUTION", "T0_K",
+    "GROUPINGS", "BAR_WIDTH",
+]
 
 #: rms-to-peak-to-peak multiple for Gaussian noise (common practice: the
 #: ±3.3 σ window is exceeded about 0.1 % of the time).
 PEAK_TO_PEAK_SIGMAS = 6.6
 
-#: Width of the share bar in characters for a 100 % share.
-BAR_WIDTH = 24
-
 #: Integration error above which the report states the integrator's accuracy.
 ACCURACY_NOTE_THRESHOLD = 1e-4
-
-#: Most decade spot frequencies listed (a very wide grid keeps the report short).
-MAX_SPOT_ROWS = 16
-
-#: IEEE standard noise temperature of the source, kelvin (noise figure definition).
-T0_K = T0_KELVIN
 
 #: ``group_by`` values: one row per noise source, or merged by element or mechanism.
 GROUPINGS = ("source", "element", "mechanism")
@@ -75,110 +73,6 @@ CAUTION = (
     "equipment follows local codes and licensed practice."
 )
 
-_RULE = "─"
-
-
-# --- small formatting helpers ----------------------------------------------
-def _percent(fraction: float) -> str:
-    return f"{100.0 * fraction:.1f} %"
-
-
-def _bar(fraction: float) -> str:
-    """``#`` characters proportional to ``fraction``; a visible ``.`` for a
-    non-zero share too small to earn one ``#``."""
-    count = int(round(max(0.0, min(1.0, fraction)) * BAR_WIDTH))
-    if count == 0 and fraction > 0.0:
-        return "."
-    return "#" * count
-
-
-def _hz(value: float) -> str:
-    return format_quantity(value, "Hz", 4)
-
-
-def _wrapped(text: str, indent: str = "  ", width: int = 100) -> list[str]:
-    """A sentence wrapped to ``width`` columns, every line indented."""
-    import re
-    import textwrap
-
-    glued = re.sub(r"(?<=\d) (?=[^\W\d_]|%)", "\0", text)  # never split "3.99 dB" or "125 kHz"
-    lines = textwrap.wrap(glued, width=width, initial_indent=indent, subsequent_indent=indent, break_on_hyphens=False)
-    return [line.replace("\0", " ") for line in lines]
-
-
-def _section(name: str) -> list[str]:
-    return ["", name, _RULE * len(name)]
-
-
-def _field(label: str, text: str, width: int = 24) -> str:
-    return f"  {label:<{width}}{text}"
-
-
-def _output_text(result: NoiseResult) -> str:
-    if result.reference_node in ("0", ""):
-        return f"v({result.output_node}), referred to ground"
-    return f"v({result.output_node}) − v({result.reference_node})"
-
-
-def _gain_unit(input_unit: str | None) -> tuple[str, str]:
-    """(unit of |H|, reference of its dB value)."""
-    if input_unit == "A":
-        return "V/A", "dB re 1 V/A"
-    return "V/V", "dB"
-
-
-# --- refusing what cannot be printed ------------------------------------------
-def non_finite_fields(result: NoiseResult) -> list[str]:
-    """Names of the result's numbers that are NaN or infinite where a finite
-    value is required ([] when the result can be reported).
-
-    Allowed: an infinite band high edge (the band reaches infinity), and
-    ``+inf`` points of the spot noise-figure spectrum (no signal gain at that
-    frequency; shown as such, never as a number).
-    """
-    bad: list[str] = []
-    arrays = {
-        "frequency_Hz": result.frequency_Hz,
-        "source_density": result.source_density,
-        "source_variance": result.source_variance,
-        "cumulative_variance": result.cumulative_variance,
-    }
-    if result.gain is not None:
-        arrays["gain"] = result.gain
-    for name, array in arrays.items():
-        if not np.all(np.isfinite(array)):
-            bad.append(name)
-    scalars = {
-        "temperature_K": result.temperature_K,
-        "band_low_Hz": result.band_low_Hz,
-        "gain_peak": result.gain_peak,
-        "gain_squared_integral": result.gain_squared_integral,
-        "integration_rel_error": result.integration_rel_error,
-        "noise_figure_dB": result.noise_figure_dB,
-    }
-    for name, value in scalars.items():
-        if value is not None and not math.isfinite(value):
-            bad.append(name)
-    if math.isnan(result.band_high_Hz):
-        bad.append("band_high_Hz")
-    spectrum = result.noise_figure_spectrum_dB
-    if spectrum is not None and (np.any(np.isnan(spectrum)) or np.any(spectrum == -np.inf)):
-        bad.append("noise_figure_spectrum_dB")
-    if not bad and not math.isfinite(result.total_variance):
-        bad.append("total output noise (the sum of the sources overflows)")
-    return bad
-
-
-def check_finite(result: NoiseResult) -> None:
-    """Raise :class:`CircuitError` naming the fields that are NaN or infinite."""
-    bad = non_finite_fields(result)
-    if bad:
-        raise CircuitError(
-            f"the analysis result holds NaN or infinite values ({', '.join(bad)}), so no figures are "
-            "reported: a number that is not finite would be wrong. This comes from a near-singular "
-            "circuit or extreme element values; check for a lossless resonance or an element many "
-            "orders of magnitude away from the rest"
-        )
 
 
 def _check_operating_point(op: OperatingPoint) -> None:
@@ -246,187 +140,6 @@ def _totals(result: NoiseResult) -> list[str]:
     if enbw is not None:
         lines.append(_field("noise bandwidth (ENBW)", _hz(enbw)))
     return lines
-
-
-def _db(value: float, digits: int = 2) -> str:
-    return f"{round(value, digits) + 0.0:.{digits}f} dB"  # + 0.0: no "-0.00"
-
-
-# --- noise figure -------------------------------------------------------------
-def _source_resistor_value(result: NoiseResult) -> str:
-    name = result.source_resistor or ""
-    for k, element in enumerate(result.source_elements):
-        if element.lower() == name.lower() and result.source_mechanisms[k] == "thermal":
-            return value_text(float(result.source_values[k]), result.source_units[k])
-    return ""
-
-
-def _spot_noise_figure(result: NoiseResult, frequency: float) -> float:
-    """Spot noise figure (dB) at ``frequency``: the grid value there, else
-    interpolated linearly in log frequency; +inf when a neighbour has no gain."""
-    f = result.frequency_Hz
-    nf = np.asarray(result.noise_figure_spectrum_dB, dtype=float)
-    positive = f > 0
-    f, nf = f[positive], nf[positive]
-    i = int(np.searchsorted(f, frequency))
-    for j in (i - 1, i):
-        if 0 <= j < f.size and math.isclose(f[j], frequency, rel_tol=1e-9):
-            return float(nf[j])
-    i = min(max(i, 1), f.size - 1)
-    a, b = nf[i - 1], nf[i]
-    if not (math.isfinite(a) and math.isfinite(b)):
-        return math.inf
-    t = (math.log(frequency) - math.log(f[i - 1])) / (math.log(f[i]) - math.log(f[i - 1]))
-    return float(a + t * (b - a))
-
-
-def _noise_figure(result: NoiseResult) -> list[str]:
-    if result.noise_figure_dB is None and result.noise_figure_spectrum_dB is None:
-        return []
-    lines = _section("Noise figure")
-    value = _source_resistor_value(result)
-    lines.append(
-        _field(
-            "referred to",
-            f"{result.source_resistor or 'the source resistor'}{f' ({value})' if value else ''}, "
-            f"its noise taken at T0 = {T0_K:g} K (IEEE definition)",
-        )
-    )
-    if result.noise_figure_dB is not None:
-        nf = result.noise_figure_dB
-        lines.append(_field("over the band", f"NF = {_db(nf)}"))
-        factor = 10.0 ** (nf / 10.0)
-        kelvin = T0_K * (factor - 1.0)
-        kelvin_text = f"{kelvin:,.0f}" if kelvin >= 1000 else f"{kelvin:.4g}"
-        lines.append(_field("noise temperature", f"Te = {T0_K:g} K × (F − 1) = {kelvin_text} K"))
-    if result.noise_figure_spectrum_dB is not None and result.noise_figure_spectrum_dB.size:
-        frequencies = _decade_frequencies(result)
-        if not frequencies:
-            f = result.frequency_Hz
-            frequencies = sorted({float(f[0]), float(f[-1])} - {0.0})
-        width = max((len(_hz(x)) for x in frequencies), default=0)
-        lines.append("  spot noise figure")
-        for x in frequencies:
-            spot = _spot_noise_figure(result, x)
-            text = _db(spot) if math.isfinite(spot) else "— (no signal gain at this frequency)"
-            lines.append(f"    at {_hz(x):>{width}}   {text}")
-    return lines
-
-
-# --- signal-to-noise and the converter --------------------------------------------
-def enob_bits(snr_dB: float) -> float:
-    """Effective number of bits of a full-scale-sine SNR: (SNR − 1.76 dB) / 6.02 dB
-    (common practice; the inverse of 6.02N + 1.76 dB)."""
-    return (snr_dB - 1.76) / 6.02
-
-
-def _snr_text(snr_dB: float) -> str:
-    return _db(snr_dB) if math.isfinite(snr_dB) else "unbounded (no noise at the output)"
-
-
-def _signal_to_noise(result: NoiseResult, snr: SignalToNoise, at: str) -> list[str]:
-    lines = _section("Signal-to-noise")
-    gain = result.gain_at_max or 0.0
-    if at == "input" and gain > 0.0:
-        unit = result.input_unit or "V"
-        gain_text = f"{gain:.4g} V/V" if unit == "V" else format_quantity(gain, "V/A", 4)
-        signal_in = snr.signal_output_rms_V / gain
-        lines.append(_field("signal", f"{format_quantity(signal_in, unit)} rms at the input ({result.input_source})"))
-        lines.append(
-            _field("at the output", f"{format_quantity(snr.signal_output_rms_V, 'V')} rms (pass-band gain {gain_text})")
-        )
-    else:
-        lines.append(_field("signal", f"{format_quantity(snr.signal_output_rms_V, 'V')} rms at the output"))
-    lines.append(_field("noise at the output", f"{format_quantity(snr.noise_rms_V, 'V')} rms over the band"))
-    lines.append(_field("SNR", _snr_text(snr.snr_dB)))
-    if math.isfinite(snr.snr_dB) and snr.snr_dB <= 0.0:
-        lines.append("  The signal is no larger than the noise in this band.")
-    return lines
-
-
-def _converter(result: NoiseResult, adc: AdcComparison, snr: SignalToNoise | None) -> list[str]:
-    rate = adc.sample_rate_Hz
-    nyquist = rate / 2.0
-    lines = _section(
-        f"Converter (ideal {adc.bits}-bit ADC, {format_quantity(adc.full_scale_V, 'V', 4)} peak-to-peak full scale, "
-        f"sampled at {_hz(rate)})"
-    )
-    lines.append(_field("LSB  q = FS / 2^N", format_quantity(adc.lsb_V, "V"), 30))
-    lines.append(
-        _field(
-            "quantisation noise  q/√12",
-            f"{format_quantity(adc.quantisation_rms_V, 'V')} rms "
-            f"(as {format_quantity(adc.quantisation_density_V_per_rtHz, 'V/√Hz')} over 0 .. {_hz(nyquist)})",
-            30,
-        )
-    )
-    lines.append(_field("ideal SNR  6.02N + 1.76 dB", f"{_db(adc.ideal_snr_dB)} (full-scale sine, common practice)", 30))
-    lsb_fraction = adc.analog_rms_V / adc.lsb_V
-    lines.append(
-        _field("analog chain noise", f"{format_quantity(adc.analog_rms_V, 'V')} rms = {lsb_fraction:.3g} LSB rms", 30)
-    )
-    lines.append(_field("SNR, analog chain alone", _snr_text(adc.analog_snr_dB), 30))
-    lines.append(_field("SNR, both together", f"{_db(adc.combined_snr_dB)} (full-scale sine)", 30))
-    enob = enob_bits(adc.combined_snr_dB)
-    lines.append(_field("effective resolution", f"{enob:.2f} bits (ENOB, from the combined SNR)", 30))
-    lines.append(_field("floor set by", adc.floor_set_by, 30))
-    cost = adc.ideal_snr_dB - adc.combined_snr_dB
-    if adc.analog_rms_V == 0.0:
-        verdict = "The converter sets the floor: the analog chain adds no noise."
-    else:
-        ratio_dB = 20.0 * math.log10(adc.analog_rms_V / adc.quantisation_rms_V)
-        if adc.floor_set_by == "analog chain":
-            verdict = (
-                f"The analog chain sets the floor: its noise is {_db(abs(ratio_dB), 1)} above the quantisation "
-                f"noise and costs {_db(cost)} of the converter's ideal SNR."
-            )
-        else:
-            verdict = (
-                f"The converter sets the floor: its quantisation noise is {_db(abs(ratio_dB), 1)} above the "
-                f"analog chain's noise, which costs {_db(cost)} of the ideal SNR."
-            )
-    lines.append("")
-    lines += _wrapped(verdict)
-    if math.isfinite(result.band_high_Hz) and result.band_high_Hz < nyquist * (1 - 1e-9):
-        lines += _wrapped(
-            f"Note: the band ends at {_hz(result.band_high_Hz)}, below the Nyquist frequency {_hz(nyquist)}; "
-            "analog noise between them also reaches the converter but is not counted here "
-            "(analyse up to the anti-alias filter's roll-off, or to infinity)."
-        )
-    elif result.band_high_Hz > nyquist * (1 + 1e-9):
-        lines += _wrapped(
-            f"Analog noise above the Nyquist frequency {_hz(nyquist)} aliases into 0 .. {_hz(nyquist)}: "
-            "the whole band's noise is counted."
-        )
-    if snr is not None:
-        signal = snr.signal_output_rms_V
-        combined = 10.0 * math.log10(signal**2 / (adc.analog_rms_V**2 + adc.quantisation_rms_V**2))
-        lines += _wrapped(
-            f"The stated signal ({format_quantity(signal, 'V')} rms at the converter) against both: SNR {_db(combined)}."
-        )
-        if signal > adc.full_scale_sine_rms_V * (1 + 1e-9):
-            lines += _wrapped(
-                f"Warning: as a sine that signal exceeds the full scale ({format_quantity(adc.full_scale_sine_rms_V, 'V')} "
-                "rms for a full-scale sine) and would clip."
-            )
-    return lines
-
-
-def _decade_frequencies(result: NoiseResult) -> list[float]:
-    """Powers of ten on the grid (positive part only)."""
-    f = result.frequency_Hz
-    positive = f[f > 0]
-    if positive.size == 0:
-        return []
-    first = math.ceil(math.log10(positive[0]) - 1e-9)
-    last = math.floor(math.log10(f[-1]) + 1e-9)
-    decades = [10.0**k for k in range(first, last + 1)]
-    # guard against rounding at the grid's ends
-    decades = [d for d in decades if positive[0] * (1 - 1e-9) <= d <= f[-1] * (1 + 1e-9)]
-    if len(decades) > MAX_SPOT_ROWS:
-        step = math.ceil(len(decades) / MAX_SPOT_ROWS)
-        decades = decades[::step]
-    return decades
 
 
 def _spot_densities(result: NoiseResult) -> list[str]:
@@ -662,11 +375,11 @@ def format_report(
     lines += _heading(result)
     lines += _conditions(result)
     lines += _totals(result)
-    lines += _noise_figure(result)
+    lines += noise_figure_section(result)
     if snr is not None:
-        lines += _signal_to_noise(result, snr, signal_at)
+        lines += signal_to_noise_section(result, snr, signal_at)
     if adc is not None:
-        lines += _converter(result, adc, snr)
+        lines += converter_section(result, adc, snr)
     lines += _spot_densities(result)
     lines += _budget(result, top, group_by)
     lines += _headline(result, group_by)
