@@ -15,7 +15,9 @@ from netnoise.noise.mechanisms import SHOT
 __all__ = ["value_text", "row_value_text"]
 
 
-def value_text(value: float | None, unit: str, mechanism: str = "", details: Mapping[str, float | str] | None = None) -> str:
+def value_text(
+    value: float | None, unit: str, mechanism: str = "", details: Mapping[str, float | str] | None = None
+) -> str:
     """The value of a noise source as a designer reads it ('' when there is none)."""
     details = details or {}
     if value is None or (isinstance(value, float) and math.isnan(value)):

@@ -137,7 +137,9 @@ def converter_section(result: NoiseResult, adc: AdcComparison, snr: SignalToNois
             30,
         )
     )
-    lines.append(_field("ideal SNR  6.02N + 1.76 dB", f"{_db(adc.ideal_snr_dB)} (full-scale sine, common practice)", 30))
+    lines.append(
+        _field("ideal SNR  6.02N + 1.76 dB", f"{_db(adc.ideal_snr_dB)} (full-scale sine, common practice)", 30)
+    )
     lsb_fraction = adc.analog_rms_V / adc.lsb_V
     lines.append(
         _field("analog chain noise", f"{format_quantity(adc.analog_rms_V, 'V')} rms = {lsb_fraction:.3g} LSB rms", 30)

@@ -87,7 +87,9 @@ def sweep_to_csv(result) -> str:
     lines = [",".join(header)]
     for p in result.points:
         cells = [repr(float(v)) for v in p.values] + [repr(float(p.total_rms_V)), p.dominant]
-        cells += ["" if p.bandwidth_Hz is None else repr(float(p.bandwidth_Hz)),
-                  "" if p.settling_time_s is None else repr(float(p.settling_time_s))]
+        cells += [
+            "" if p.bandwidth_Hz is None else repr(float(p.bandwidth_Hz)),
+            "" if p.settling_time_s is None else repr(float(p.settling_time_s)),
+        ]
         lines.append(",".join(cells))
     return "\n".join(lines) + "\n"

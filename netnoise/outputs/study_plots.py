@@ -60,8 +60,10 @@ def plot_tradeoff(
     # one curve per value of the second quantity (a grid), else one curve
     if len(result.vary) == 2:
         second = result.vary[1]
-        curves = [(f"{second.name} = {_label(second.name, v, units)}",
-                   np.array([p.values[1] == v for p in result.points])) for v in second.values]
+        curves = [
+            (f"{second.name} = {_label(second.name, v, units)}", np.array([p.values[1] == v for p in result.points]))
+            for v in second.values
+        ]
     else:
         curves = [("", np.ones(len(result.points), dtype=bool))]
     colours = [LINE_COLOUR, "#6b5b95", "#c99a2e", "#3f6fa6", "#5b8c3a", "#a05a8c"]
@@ -69,12 +71,14 @@ def plot_tradeoff(
     for index, (label, mask) in enumerate(curves):
         colour = colours[index % len(colours)]
         if drawn_speed:
-            line, = axes[0].plot(speed[mask], noise[mask] / scale, "o-", color=colour, label=label or None)
+            (line,) = axes[0].plot(speed[mask], noise[mask] / scale, "o-", color=colour, label=label or None)
             lines.append(line)
             if index == 0:
                 for x, y, v in zip(speed[mask], noise[mask] / scale, values[mask]):
-                    axes[0].annotate(_label(name0, v, units), (x, y), textcoords="offset points", xytext=(4, 4), fontsize=8)
-        line, = axes[1].plot(values[mask], noise[mask] / scale, "o-", color=colour, label=label or None)
+                    axes[0].annotate(
+                        _label(name0, v, units), (x, y), textcoords="offset points", xytext=(4, 4), fontsize=8
+                    )
+        (line,) = axes[1].plot(values[mask], noise[mask] / scale, "o-", color=colour, label=label or None)
         lines.append(line)
     if drawn_speed:
         axes[0].set_xscale("log")
@@ -99,7 +103,9 @@ def plot_tradeoff(
         x = point.settling_time_s if speed_is_settling else point.bandwidth_Hz
         if x is not None and drawn_speed:
             lines.append(axes[0].plot([x], [point.total_rms_V / scale], "D", color=TARGET_COLOUR, label=label)[0])
-        lines.append(axes[1].plot([answer.value], [point.total_rms_V / scale], "D", color=TARGET_COLOUR, label=label)[0])
+        lines.append(
+            axes[1].plot([answer.value], [point.total_rms_V / scale], "D", color=TARGET_COLOUR, label=label)[0]
+        )
         axes[1].legend(loc="best", fontsize=8)
     for a in axes:
         a.grid(True, which="both", color="#e2e2e2")

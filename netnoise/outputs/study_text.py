@@ -40,14 +40,19 @@ def response_section(speed, input_source: str, output_text: str, input_unit: str
     lines = _section(f"Response of the signal path ({input_source} to {output_text})")
     unit = "V/A" if input_unit == "A" else "V/V"
     rows = [
-        ("−3 dB bandwidth", format_quantity(speed.bandwidth_Hz, "Hz", 4) if speed.bandwidth_Hz else "does not fall 3 dB"),
+        (
+            "−3 dB bandwidth",
+            format_quantity(speed.bandwidth_Hz, "Hz", 4) if speed.bandwidth_Hz else "does not fall 3 dB",
+        ),
         ("rise time (10–90 %)", _time(speed.rise_time_s)),
         ("overshoot", f"{100 * speed.overshoot:.2f} %"),
     ]
     if speed.settle_accuracy is not None:
         rows.append((f"settles to {accuracy_text(speed.settle_accuracy)}", _time(speed.settling_time_s)))
     rows.append(("DC transfer", f"{format_quantity(speed.dc_gain, unit, 4)}"))
-    rows.append(("step found", "exactly, from the state space" if speed.method == "exact" else "by time-stepping (BDF2)"))
+    rows.append(
+        ("step found", "exactly, from the state space" if speed.method == "exact" else "by time-stepping (BDF2)")
+    )
     lines += [f"  {label:<24}{text}" for label, text in rows]
     return lines
 
@@ -106,8 +111,11 @@ def sweep_table(result, units: dict[str, str]) -> list[str]:
     rows = []
     for p in result.points:
         row = [_value(n, v, units) for n, v in zip(names, p.values)]
-        row += [format_quantity(p.total_rms_V, "V", 4), p.dominant,
-                format_quantity(p.bandwidth_Hz, "Hz", 4) if p.bandwidth_Hz else "—"]
+        row += [
+            format_quantity(p.total_rms_V, "V", 4),
+            p.dominant,
+            format_quantity(p.bandwidth_Hz, "Hz", 4) if p.bandwidth_Hz else "—",
+        ]
         if settle:
             row.append(_time(p.settling_time_s))
         rows.append(row)
@@ -127,6 +135,8 @@ def target_sentence(answer, direction: str, units: dict[str, str], settle_accura
         if point.settling_time_s is not None and settle_accuracy is not None:
             text += f"; it then settles to {accuracy_text(settle_accuracy)} in {_time(point.settling_time_s)}"
     else:
-        text = (f"{answer.name} must be {direction} {value} to settle to {accuracy_text(settle_accuracy or 0.0)} "
-                f"in {_time(point.settling_time_s)}; the lowest noise that allows is {format_quantity(point.total_rms_V, 'V', 4)} rms")
+        text = (
+            f"{answer.name} must be {direction} {value} to settle to {accuracy_text(settle_accuracy or 0.0)} "
+            f"in {_time(point.settling_time_s)}; the lowest noise that allows is {format_quantity(point.total_rms_V, 'V', 4)} rms"
+        )
     return text + "."

@@ -7,7 +7,20 @@ import math
 from netnoise.engformat import format_quantity
 from netnoise.results.result import NoiseResult
 
-__all__ = ["BAR_WIDTH", "RULE", "MAX_SPOT_ROWS", "decade_frequencies", "percent", "bar", "hz", "wrapped", "section", "field", "output_text", "gain_unit"]
+__all__ = [
+    "BAR_WIDTH",
+    "RULE",
+    "MAX_SPOT_ROWS",
+    "decade_frequencies",
+    "percent",
+    "bar",
+    "hz",
+    "wrapped",
+    "section",
+    "field",
+    "output_text",
+    "gain_unit",
+]
 
 #: Width of the share bar in characters for a 100 % share.
 BAR_WIDTH = 24

@@ -139,7 +139,9 @@ def _time_grid(fast: float, slow: float) -> list[tuple[float, int]]:
     return segments
 
 
-def _reduced(system: MnaSystem, c: np.ndarray, b: np.ndarray) -> tuple[np.ndarray, np.ndarray, np.ndarray, float] | None:
+def _reduced(
+    system: MnaSystem, c: np.ndarray, b: np.ndarray
+) -> tuple[np.ndarray, np.ndarray, np.ndarray, float] | None:
     """(M, N, P, D): the ordinary system x1' = M x1 + N u, y = P x1 + D u, or None above index 1."""
     import scipy.linalg as la
 
@@ -273,7 +275,9 @@ def _stepped(system: MnaSystem, c: np.ndarray, b: np.ndarray, dc: float) -> Step
     return StepResponse(np.array(times), values_arr, dc, "time-stepping")
 
 
-def bandwidth_Hz(system: MnaSystem, output: np.ndarray, excitation: np.ndarray, options: SolverOptions | None = None) -> float | None:
+def bandwidth_Hz(
+    system: MnaSystem, output: np.ndarray, excitation: np.ndarray, options: SolverOptions | None = None
+) -> float | None:
     """The −3 dB bandwidth of the signal path, Hz (None: it never falls 3 dB)."""
     from scipy.optimize import brentq
 
@@ -298,7 +302,10 @@ def bandwidth_Hz(system: MnaSystem, output: np.ndarray, excitation: np.ndarray, 
 
 
 def speed_of_response(
-    system: MnaSystem, output: np.ndarray, excitation: np.ndarray, settle: float | None = None,
+    system: MnaSystem,
+    output: np.ndarray,
+    excitation: np.ndarray,
+    settle: float | None = None,
     options: SolverOptions | None = None,
 ) -> SpeedOfResponse:
     """Bandwidth, rise time, overshoot and (with ``settle``, a fraction of the

@@ -75,13 +75,16 @@ def _derivative_stamps(elements: list[Element], stamps: _Stamps, n: int):
     for index, element in enumerate(elements):
         p = float(element.primary_value or 0.0)
         up, down = element.with_value(p * (1 + _STEP)), element.with_value(p * (1 - _STEP))
-        for (matrix, plus), (_, minus) in zip(zip("GC", _stamp_entries(up, stamps)), zip("GC", _stamp_entries(down, stamps))):
-            diff = (sp.coo_matrix((plus[2], (plus[0], plus[1])), shape=(n, n))
-                    - sp.coo_matrix((minus[2], (minus[0], minus[1])), shape=(n, n))).tocoo()
+        for (matrix, plus), (_, minus) in zip(
+            zip("GC", _stamp_entries(up, stamps)), zip("GC", _stamp_entries(down, stamps))
+        ):
+            diff = (
+                sp.coo_matrix((plus[2], (plus[0], plus[1])), shape=(n, n))
+                - sp.coo_matrix((minus[2], (minus[0], minus[1])), shape=(n, n))
+            ).tocoo()
             parts[matrix].append((diff.row, diff.col, diff.data / (2 * _STEP), np.full(diff.nnz, index)))
     return {
-        m: tuple(np.concatenate([x[i] for x in parts[m]]) if parts[m] else np.zeros(0) for i in range(4))
-        for m in parts
+        m: tuple(np.concatenate([x[i] for x in parts[m]]) if parts[m] else np.zeros(0) for i in range(4)) for m in parts
     }
 
 
@@ -121,8 +124,12 @@ def noise_sensitivities(prepared: PreparedAnalysis) -> tuple[list[Element], np.n
     dw, dflick = _density_derivatives(prepared, elements)
     sources = problem.sources
     injection = sources.injection.tocsc()
-    thermal = np.array([s.temperature_K is not None and s.temperature_K == settings.temperature_K
-                        and s.mechanism == "thermal" for s in sources.sources])
+    thermal = np.array(
+        [
+            s.temperature_K is not None and s.temperature_K == settings.temperature_K and s.mechanism == "thermal"
+            for s in sources.sources
+        ]
+    )
     solver = solver_for(system, problem.options)
     count = len(elements)
 
@@ -133,7 +140,7 @@ def noise_sensitivities(prepared: PreparedAnalysis) -> tuple[list[Element], np.n
         power = np.abs(t) ** 2  # (F, K)
         out = np.zeros((count + 2, f.size))
         out[0] = np.einsum("kf,fk->f", s, power)
-        weights = (s.T * np.conj(t))  # (F, K)
+        weights = s.T * np.conj(t)  # (F, K)
         v = (injection @ weights.T).T  # (F, n)
         y = _forward(system, f, v, problem.options)
         sj = 2j * np.pi * f
@@ -159,12 +166,24 @@ def noise_sensitivities(prepared: PreparedAnalysis) -> tuple[list[Element], np.n
         positive = poles[poles > 0] if poles is not None else np.zeros(0)
         top = float(positive.max()) * _TOP_FACTOR if positive.size else 1e9
         start = max(low, 0.0)
-        band = integrate_band(rows, start, top, points_per_decade=settings.points_per_decade, groups=[slice(0, 1)],
-                              linear_below=(float(positive.min()) / 100 if positive.size else None) if start == 0 else None)
+        band = integrate_band(
+            rows,
+            start,
+            top,
+            points_per_decade=settings.points_per_decade,
+            groups=[slice(0, 1)],
+            linear_below=(float(positive.min()) / 100 if positive.size else None) if start == 0 else None,
+        )
         values = band.values + top * rows(np.array([top]))[:, 0]  # the tail beyond top, as 1/f²
     else:
-        band = integrate_band(rows, low, high, points_per_decade=settings.points_per_decade, groups=[slice(0, 1)],
-                              linear_below=high * 1e-4 if low == 0 else None)
+        band = integrate_band(
+            rows,
+            low,
+            high,
+            points_per_decade=settings.points_per_decade,
+            groups=[slice(0, 1)],
+            linear_below=high * 1e-4 if low == 0 else None,
+        )
         values = band.values
     return elements, values[1:], float(values[0])
 
@@ -180,7 +199,9 @@ def _forward(system, f: np.ndarray, v: np.ndarray, options) -> np.ndarray:
     return np.stack([factor(system, fi, options).solve(v[i]) for i, fi in enumerate(f)])
 
 
-def sensitivities(prepared: PreparedAnalysis, settle: float | None = None, speed: bool = True) -> tuple[Sensitivity, ...]:
+def sensitivities(
+    prepared: PreparedAnalysis, settle: float | None = None, speed: bool = True
+) -> tuple[Sensitivity, ...]:
     """The sensitivity of the output noise to every element value and to the
     temperature, largest effect first; with an input source (and ``speed``),
     the bandwidth's and (with ``settle``) the settling time's beside it."""
@@ -191,7 +212,9 @@ def sensitivities(prepared: PreparedAnalysis, settle: float | None = None, speed
         return ()
     problem = prepared.problem
     path = problem.input_vector if speed else None
-    base = speed_of_response(problem.system, problem.selector, path, settle, problem.options) if path is not None else None
+    base = (
+        speed_of_response(problem.system, problem.selector, path, settle, problem.options) if path is not None else None
+    )
     out = []
     for index, element in enumerate(elements):
         bw = settling = None
@@ -210,8 +233,16 @@ def sensitivities(prepared: PreparedAnalysis, settle: float | None = None, speed
                     bw = (math.log(varied[0].bandwidth_Hz) - math.log(varied[1].bandwidth_Hz)) / (2e-4)
                 if base.settling_time_s and varied[0].settling_time_s and varied[1].settling_time_s:
                     settling = (math.log(varied[0].settling_time_s) - math.log(varied[1].settling_time_s)) / (2e-4)
-        out.append(Sensitivity(element.name, float(element.primary_value or 0.0), element.unit, scaled[index] / (2 * total),
-                               bw, settling))
+        out.append(
+            Sensitivity(
+                element.name,
+                float(element.primary_value or 0.0),
+                element.unit,
+                scaled[index] / (2 * total),
+                bw,
+                settling,
+            )
+        )
     out.append(Sensitivity(TEMPERATURE, problem.settings.temperature_K, "K", scaled[-1] / (2 * total)))
     out.sort(key=lambda s: -abs(s.rms_pct_per_pct))
     return tuple(out)

@@ -116,8 +116,13 @@ class _Evaluator:
             problem = prepared.problem
             s = problem.settings
             prepared = prepare(
-                prepared.circuit, output=s.output, reference=s.reference, input_source=s.input_source,
-                band=(s.low, s.high), points_per_decade=s.points_per_decade, temperature_celsius=temps[0],
+                prepared.circuit,
+                output=s.output,
+                reference=s.reference,
+                input_source=s.input_source,
+                band=(s.low, s.high),
+                points_per_decade=s.points_per_decade,
+                temperature_celsius=temps[0],
                 options=problem.options,
             )
         if params:
@@ -136,7 +141,9 @@ class _Evaluator:
         if self.speed:
             problem = prepared.problem
             assert problem.input_vector is not None  # self.speed says there is an input
-            speed = speed_of_response(problem.system, problem.selector, problem.input_vector, self.settle, problem.options)
+            speed = speed_of_response(
+                problem.system, problem.selector, problem.input_vector, self.settle, problem.options
+            )
             bandwidth, settling = speed.bandwidth_Hz, speed.settling_time_s
         return SweepPoint(tuple(float(v) for v in values), result.total_rms, dominant, bandwidth, settling)
 
@@ -155,7 +162,9 @@ def sweep(
     if not 1 <= len(vary) <= 2:
         raise UsageError(f"a sweep varies one or two quantities, not {len(vary)}")
     evaluator = _Evaluator(prepared, [v.name for v in vary], settle, speed)
-    grid = [(a,) for a in vary[0].values] if len(vary) == 1 else [(a, b) for a in vary[0].values for b in vary[1].values]
+    grid = (
+        [(a,) for a in vary[0].values] if len(vary) == 1 else [(a, b) for a in vary[0].values for b in vary[1].values]
+    )
     points = []
     for done, values in enumerate(grid, start=1):
         points.append(evaluator.point(values))
@@ -218,10 +227,13 @@ def meet_target(
     if fa * fb > 0:
         got = (at(a), at(b))
         reached = (
-            f"{got[0].total_rms_V:.4g} .. {got[1].total_rms_V:.4g} V rms" if noise_rms_V is not None
+            f"{got[0].total_rms_V:.4g} .. {got[1].total_rms_V:.4g} V rms"
+            if noise_rms_V is not None
             else f"{got[0].settling_time_s:.4g} .. {got[1].settling_time_s:.4g} s"
         )
-        raise UsageError(f"{what} is not reached for {name} between {low:g} and {high:g} (it gives {reached}); widen the range")
+        raise UsageError(
+            f"{what} is not reached for {name} between {low:g} and {high:g} (it gives {reached}); widen the range"
+        )
     root = brentq(miss, a, b, xtol=1e-12, rtol=1e-10)
     value = math.exp(root) if logarithmic else root
     point = at(root)

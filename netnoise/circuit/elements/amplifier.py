@@ -191,10 +191,14 @@ class OpAmp(Element):
         if model.voltage_noise > 0:
             white, flicker = power_density(owner, "en =", model.voltage_noise, "V/√Hz", model.voltage_noise_corner_Hz)
             yield NoiseSource(
-                name=f"{self.name} (voltage)", element=self.name, mechanism=AMPLIFIER_VOLTAGE,
-                value=model.voltage_noise, unit="V/√Hz",
+                name=f"{self.name} (voltage)",
+                element=self.name,
+                mechanism=AMPLIFIER_VOLTAGE,
+                value=model.voltage_noise,
+                unit="V/√Hz",
                 injection=((n.internal(self, "p1"), self.input_transconductance),),
-                white_density=white, flicker_at_1Hz=flicker,
+                white_density=white,
+                flicker_at_1Hz=flicker,
                 details={"model": model.name},
             )
         if model.current_noise > 0:
@@ -203,9 +207,14 @@ class OpAmp(Element):
                 injection = n.current_between(pin, GROUND)
                 if injection:
                     yield NoiseSource(
-                        name=f"{self.name} ({label})", element=self.name, mechanism=AMPLIFIER_CURRENT,
-                        value=model.current_noise, unit="A/√Hz", injection=injection,
-                        white_density=white, flicker_at_1Hz=flicker,
+                        name=f"{self.name} ({label})",
+                        element=self.name,
+                        mechanism=AMPLIFIER_CURRENT,
+                        value=model.current_noise,
+                        unit="A/√Hz",
+                        injection=injection,
+                        white_density=white,
+                        flicker_at_1Hz=flicker,
                         details={"model": model.name},
                     )
 

@@ -60,6 +60,9 @@ class _VoltageControlledForm:
     gain_word: ClassVar[str]
     supplies_gain: ClassVar[bool] = True
 
+    def terminals(self) -> tuple[str, ...]:
+        return (*self.nodes, *self.control_nodes)  # type: ignore[attr-defined]
+
     @classmethod
     def parse(cls, line: LineReader) -> VoltageControlled:
         nodes = (line.node("positive output node"), line.node("negative output node"))
@@ -72,6 +75,21 @@ class _VoltageControlledForm:
     def build(cls, statement: VoltageControlled, ctx: BuildContext):
         control = (ctx.node(statement.control_nodes[0]), ctx.node(statement.control_nodes[1]))
         return cls(ctx.name, value_nodes(ctx, statement), ctx.loc, control, ctx.number(statement.gain))  # type: ignore[call-arg]
+
+
+class _VoltageOutput:
+    """An output that fixes the voltage between its nodes through a branch current (E, H)."""
+
+    branch_count: ClassVar[int] = 1
+
+    def dc_paths(self) -> tuple[tuple[str, str], ...]:
+        return (self.nodes,)  # type: ignore[attr-defined]
+
+    def voltage_defined(self) -> tuple[tuple[str, str], ...]:
+        return (self.nodes,)  # type: ignore[attr-defined]
+
+    def dc_current(self, v) -> float:
+        return v.branch_current(self)
 
 
 class _CurrentControlledForm:
@@ -111,7 +129,7 @@ class _CurrentControlledForm:
 
 
 @dataclass(frozen=True)
-class VoltageControlledVoltageSource(_VoltageControlledForm, TwoTerminal):
+class VoltageControlledVoltageSource(_VoltageOutput, _VoltageControlledForm, TwoTerminal):
     """E element: v(nodes) = gain * v(control_nodes)."""
 
     control_nodes: tuple[str, str] = (GROUND, GROUND)
@@ -122,19 +140,9 @@ class VoltageControlledVoltageSource(_VoltageControlledForm, TwoTerminal):
     gain_word: ClassVar[str] = "gain"
     statement_value: ClassVar[str | None] = "gain"
     value_field: ClassVar[str] = "gain"
-    branch_count: ClassVar[int] = 1
 
     def check_values(self) -> None:
         refuse_huge_gain(self, "gain", "V/V", self.gain)
-
-    def terminals(self) -> tuple[str, ...]:
-        return (*self.nodes, *self.control_nodes)
-
-    def dc_paths(self) -> tuple[tuple[str, str], ...]:
-        return (self.nodes,)
-
-    def voltage_defined(self) -> tuple[tuple[str, str], ...]:
-        return (self.nodes,)
 
     def stamp(self, s) -> None:
         k = s.branch(self)
@@ -142,9 +150,6 @@ class VoltageControlledVoltageSource(_VoltageControlledForm, TwoTerminal):
         c, d = (s.node(x) for x in self.control_nodes)
         s.g(k, c, -self.gain)
         s.g(k, d, self.gain)
-
-    def dc_current(self, v) -> float:
-        return v.branch_current(self)
 
 
 @dataclass(frozen=True)
@@ -164,9 +169,6 @@ class VoltageControlledCurrentSource(_VoltageControlledForm, TwoTerminal):
 
     def check_values(self) -> None:
         refuse_huge_gain(self, "transconductance", "S", self.transconductance)
-
-    def terminals(self) -> tuple[str, ...]:
-        return (*self.nodes, *self.control_nodes)
 
     def stamp(self, s) -> None:
         a, b = (s.node(x) for x in self.nodes)
@@ -210,7 +212,7 @@ class CurrentControlledCurrentSource(_CurrentControlledForm, TwoTerminal):
 
 
 @dataclass(frozen=True)
-class CurrentControlledVoltageSource(_CurrentControlledForm, TwoTerminal):
+class CurrentControlledVoltageSource(_VoltageOutput, _CurrentControlledForm, TwoTerminal):
     """H element: v(nodes) = transresistance * i(control_source), ohms."""
 
     control_source: str = ""
@@ -222,22 +224,12 @@ class CurrentControlledVoltageSource(_CurrentControlledForm, TwoTerminal):
     statement_value: ClassVar[str | None] = "gain"
     value_field: ClassVar[str] = "transresistance"
     unit: ClassVar[str] = "Ω"
-    branch_count: ClassVar[int] = 1
 
     def check_values(self) -> None:
         refuse_huge_gain(self, "transresistance", "Ω", self.transresistance)
-
-    def dc_paths(self) -> tuple[tuple[str, str], ...]:
-        return (self.nodes,)
-
-    def voltage_defined(self) -> tuple[tuple[str, str], ...]:
-        return (self.nodes,)
 
     def stamp(self, s) -> None:
         k = s.branch(self)
         kc = self.controlling_branch(s)
         branch_kcl(s, s.node(self.nodes[0]), s.node(self.nodes[1]), k)
         s.g(k, kc, -self.transresistance)
-
-    def dc_current(self, v) -> float:
-        return v.branch_current(self)

@@ -59,7 +59,10 @@ class MutualCoupling(Element):
                 statement.value.loc,
             )
         first, second = (ctx.local_name(w) for w in statement.inductors)
-        for slot, word, full in (("inductors0", statement.inductors[0], first), ("inductors1", statement.inductors[1], second)):
+        for slot, word, full in (
+            ("inductors0", statement.inductors[0], first),
+            ("inductors1", statement.inductors[1], second),
+        ):
             ctx.refer(word, full, Inductor, "inductor", slot)
         return cls(ctx.name, (first, second), k, ctx.loc)
 

@@ -10,7 +10,14 @@ from __future__ import annotations
 from dataclasses import dataclass
 from typing import ClassVar
 
-from netnoise.circuit.elements.base import BuildContext, Passive, TwoTerminal, branch_kcl, value_nodes, refuse_negative_reactance
+from netnoise.circuit.elements.base import (
+    BuildContext,
+    Passive,
+    TwoTerminal,
+    branch_kcl,
+    value_nodes,
+    refuse_negative_reactance,
+)
 from netnoise.text.fields import LineReader
 
 __all__ = ["Inductor"]

@@ -97,6 +97,12 @@ class LossyCapacitor(TwoTerminal):
         injection = tuple((row, sign) for row, sign in ((a, 1.0), (m, -1.0)) if row >= 0)
         t = n.temperature_K
         yield NoiseSource(
-            name=f"{self.name} (esr)", element=self.name, mechanism=THERMAL, value=self.esr, unit="Ω",
-            injection=injection, white_density=thermal_current_density(self.esr, t), temperature_K=t,
+            name=f"{self.name} (esr)",
+            element=self.name,
+            mechanism=THERMAL,
+            value=self.esr,
+            unit="Ω",
+            injection=injection,
+            white_density=thermal_current_density(self.esr, t),
+            temperature_K=t,
         )

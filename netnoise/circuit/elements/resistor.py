@@ -114,8 +114,13 @@ class Resistor(TwoTerminal):
                 statement.noise_index.loc,
             )
         return cls(
-            ctx.name, nodes, ctx.loc, resistance=value, noiseless=statement.noiseless,
-            temperature_celsius=temperature, noise_index_dB=noise_index,
+            ctx.name,
+            nodes,
+            ctx.loc,
+            resistance=value,
+            noiseless=statement.noiseless,
+            temperature_celsius=temperature,
+            noise_index_dB=noise_index,
         )
 
     # ---- topology and stamps
@@ -177,8 +182,14 @@ class Resistor(TwoTerminal):
             return
         t = self.temperature_K(n.temperature_K)
         yield NoiseSource(
-            name=self.name, element=self.name, mechanism=THERMAL, value=self.resistance, unit="Ω",
-            injection=injection, white_density=thermal_current_density(self.resistance, t), temperature_K=t,
+            name=self.name,
+            element=self.name,
+            mechanism=THERMAL,
+            value=self.resistance,
+            unit="Ω",
+            injection=injection,
+            white_density=thermal_current_density(self.resistance, t),
+            temperature_K=t,
         )
         if self.noise_index_dB is None:
             return
@@ -187,8 +198,13 @@ class Resistor(TwoTerminal):
             return
         check_excess_level(self.name, self.noise_index_dB, v_dc)
         yield NoiseSource(
-            name=f"{self.name} (excess)", element=self.name, mechanism=EXCESS, value=self.resistance, unit="Ω",
-            injection=injection, white_density=0.0,
+            name=f"{self.name} (excess)",
+            element=self.name,
+            mechanism=EXCESS,
+            value=self.resistance,
+            unit="Ω",
+            injection=injection,
+            white_density=0.0,
             flicker_at_1Hz=excess_current_flicker(self.noise_index_dB, v_dc, self.resistance),
             details={"noise_index_dB": self.noise_index_dB, "dc_voltage_V": v_dc},
         )

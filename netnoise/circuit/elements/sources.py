@@ -124,8 +124,20 @@ def _parse_source(cls, line: LineReader) -> IndependentSource:
                     f"add noise=DENSITY ({cls.density_unit}), e.g. noise=10n {key}=...",
                 )
     return IndependentSource(
-        letter, name, nodes, dc, ac_magnitude, ac_phase, has_ac, waveform, line.loc,
-        noise.get("noise"), noise.get("corner"), noise.get("slope"), shot, kind=cls,
+        letter,
+        name,
+        nodes,
+        dc,
+        ac_magnitude,
+        ac_phase,
+        has_ac,
+        waveform,
+        line.loc,
+        noise.get("noise"),
+        noise.get("corner"),
+        noise.get("slope"),
+        shot,
+        kind=cls,
     )
 
 
@@ -175,11 +187,19 @@ def _explicit_source(element, n, injection, shot_too: bool) -> Iterator[NoiseSou
     spec = element.noise
     if spec is None or spec.white <= 0.0:
         return
-    white, flicker = power_density(element.name, "noise density", spec.white, element.density_unit, spec.corner_Hz, spec.slope)
+    white, flicker = power_density(
+        element.name, "noise density", spec.white, element.density_unit, spec.corner_Hz, spec.slope
+    )
     yield NoiseSource(
         name=f"{element.name} (noise)" if shot_too else element.name,
-        element=element.name, mechanism=SOURCE, value=spec.white, unit=element.density_unit,
-        injection=injection, white_density=white, flicker_at_1Hz=flicker, slope=spec.slope,
+        element=element.name,
+        mechanism=SOURCE,
+        value=spec.white,
+        unit=element.density_unit,
+        injection=injection,
+        white_density=white,
+        flicker_at_1Hz=flicker,
+        slope=spec.slope,
         details={"corner_Hz": spec.corner_Hz} if spec.corner_Hz > 0 else {},
     )
 
@@ -254,7 +274,9 @@ class CurrentSource(TwoTerminal):
     shot: bool = False
 
     letter: ClassVar[str] = "I"
-    form: ClassVar[str] = "Iname node+ node- [DC] [value] [AC magnitude [phase]] [noise=A/rtHz [corner=HZ] [slope=N]] [shot]"
+    form: ClassVar[str] = (
+        "Iname node+ node- [DC] [value] [AC magnitude [phase]] [noise=A/rtHz [corner=HZ] [slope=N]] [shot]"
+    )
     value_field: ClassVar[str] = "dc"
     statement_value: ClassVar[str | None] = "dc"
     can_drive: ClassVar[bool] = True
@@ -267,7 +289,9 @@ class CurrentSource(TwoTerminal):
 
     @classmethod
     def build(cls, statement: IndependentSource, ctx: BuildContext) -> "CurrentSource":
-        return cls(ctx.name, value_nodes(ctx, statement), ctx.loc, shot=statement.shot, **_build_fields(cls, statement, ctx))
+        return cls(
+            ctx.name, value_nodes(ctx, statement), ctx.loc, shot=statement.shot, **_build_fields(cls, statement, ctx)
+        )
 
     def stamp_dc(self, s, b) -> None:
         current_into(s, b, self.nodes, self.dc)
@@ -283,7 +307,12 @@ class CurrentSource(TwoTerminal):
         injection = n.current_between(*self.nodes)
         if injection and self.shot and self.dc != 0.0:
             yield NoiseSource(
-                name=self.name, element=self.name, mechanism=SHOT, value=self.dc, unit="A",
-                injection=injection, white_density=shot_current_density(self.dc),
+                name=self.name,
+                element=self.name,
+                mechanism=SHOT,
+                value=self.dc,
+                unit="A",
+                injection=injection,
+                white_density=shot_current_density(self.dc),
             )
         yield from _explicit_source(self, n, injection, self.shot)
