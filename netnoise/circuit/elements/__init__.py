@@ -1,0 +1,2 @@
+"""The element kinds, one module each (the protocol is in :mod:`.base`, the list in
+:mod:`netnoise.circuit.registry`)."""
