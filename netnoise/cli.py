@@ -76,8 +76,37 @@ def _count(minimum: int):
     return parse
 
 
+MESSAGE_LINE_LIMIT = 400  # characters of one line of a message; a longer one is cut in the middle
+
+
+def shorten_line(line: str, limit: int = MESSAGE_LINE_LIMIT) -> str:
+    """``line`` cut in the middle to at most about ``limit`` characters, saying
+    how many were left out (an option value can be 100,000 characters long)."""
+    if len(line) <= limit:
+        return line
+    keep = limit - 40
+    head, tail = line[: keep * 2 // 3], line[len(line) - keep // 3 :]
+    return f"{head} … [{len(line) - len(head) - len(tail):,} characters left out] … {tail}"
+
+
+def _message(error: BaseException) -> str:
+    return "\n".join(shorten_line(line) for line in str(error).split("\n"))
+
+
+class _Parser(argparse.ArgumentParser):
+    """argparse with its errors as one line ``netnoise: error: ...`` (exit 2)
+    instead of the usage block, as every other error of the command."""
+
+    def error(self, message: str):  # type: ignore[override]
+        line = " ".join(message.split())
+        self.exit(
+            2,
+            f"{ERROR_PREFIX}{shorten_line(line)} (usage: {self.prog} ...; '{self.prog} --help' lists the options)\n",
+        )
+
+
 def build_parser() -> argparse.ArgumentParser:
-    parser = argparse.ArgumentParser(
+    parser = _Parser(
         prog=PROG,
         description="Noise budgets for linear analog circuits described by a netlist.",
     )
@@ -226,6 +255,12 @@ def parse_adc(triple: Sequence[str] | None) -> tuple[int, float, float] | None:
         raise UsageError(f"--adc BITS must be 1 to 32, got {bits}")
     full_scale, _ = _positive_value("--adc RANGE", range_text, "a full-scale range in volts")
     rate, written = _positive_value("--adc RATE", rate_text, "a sample rate in hertz")
+    from netnoise.results.figures import ADC_FULL_SCALE_V, ADC_SAMPLE_RATE_HZ
+
+    if not ADC_FULL_SCALE_V[0] <= full_scale <= ADC_FULL_SCALE_V[1]:
+        raise UsageError(f"--adc RANGE must be 1 nV to 1 MV peak-to-peak, got '{range_text}'")
+    if not ADC_SAMPLE_RATE_HZ[0] <= rate <= ADC_SAMPLE_RATE_HZ[1]:
+        raise UsageError(f"--adc RATE must be 1 mHz to 10 THz, got '{rate_text}'")
     if written[:1] == "M" and not written.lower().startswith(("meg", "mil")):
         raise UsageError(
             f"--adc RATE '{rate_text}' reads as {rate:g} Hz: M means milli, as in a netlist; "
@@ -421,7 +456,7 @@ def main(argv: Sequence[str] | None = None) -> int:
             return run_analyze(args)
         raise UsageError(f"unknown command {args.command!r}")  # argparse rejects these first
     except NetnoiseError as error:
-        print(f"{ERROR_PREFIX}{error}", file=sys.stderr)
+        print(f"{ERROR_PREFIX}{_message(error)}", file=sys.stderr)
         return error.exit_status
     except KeyboardInterrupt:
         print(f"{PROG}: interrupted", file=sys.stderr)
