@@ -33,6 +33,7 @@ are loaded when a command needs them.
 from __future__ import annotations
 
 import argparse
+import errno
 import gc
 import math
 import os
@@ -121,6 +122,11 @@ def build_parser() -> argparse.ArgumentParser:
         formatter_class=argparse.RawDescriptionHelpFormatter,
     )
     analyze.add_argument("netlist", metavar="NETLIST", help="netlist file to read")
+    analyze.add_argument(
+        "--confine-includes",
+        action="store_true",
+        help="refuse any .include (at any depth) whose file, links followed, is outside the netlist's own folder tree",
+    )
     where = analyze.add_argument_group("what to analyse (defaults come from the netlist's .noise card)")
     where.add_argument("--out", metavar="NODE", help="output node")
     where.add_argument("--ref", metavar="NODE", help="reference node of the output (default ground)")
@@ -309,17 +315,34 @@ def check_outputs(args: argparse.Namespace) -> None:
 
 
 # --- the command ------------------------------------------------------------
-def _load(path: str):
+def _load(path: str, confine: str | None = None):
     from netnoise import netlist
 
-    if os.path.isdir(path):
-        raise UsageError(f"cannot read netlist '{path}': it is a folder; give the netlist file")
-    if not os.path.isfile(path):
-        raise UsageError(f"cannot read netlist '{path}': no such file")
+    from netnoise.text.source import not_a_file
+
+    shown = shorten_line(path, 200)
+    if path == "-":
+        raise UsageError("cannot read netlist '-': standard input is not read; give a netlist file")
     try:
-        return netlist.load_netlist(path)
+        info = os.stat(path)
+    except FileNotFoundError:
+        raise UsageError(f"cannot read netlist '{shown}': no such file") from None
     except OSError as error:
-        raise UsageError(f"cannot read netlist '{path}': {error.strerror or error}") from None
+        if error.errno == errno.ELOOP:
+            raise UsageError(
+                f"cannot read netlist '{shown}': a loop of symbolic links (each names the next); "
+                "point the link at the netlist file"
+            ) from None
+        raise UsageError(f"cannot read netlist '{shown}': {error.strerror or error}") from None
+    what = not_a_file(info.st_mode)
+    if what is not None:
+        raise UsageError(f"cannot read netlist '{shown}': it {what}")
+    try:
+        if confine is None:
+            return netlist.load_netlist(path)
+        return netlist.load_netlist(path, includes_within=confine)
+    except OSError as error:
+        raise UsageError(f"cannot read netlist '{shown}': {error.strerror or error}") from None
 
 
 def _read_files(circuit) -> set[str]:
@@ -377,7 +400,7 @@ def run_analyze(args: argparse.Namespace) -> int:
         raise UsageError("--signal-at says where the --signal level is stated; give --signal RMS too")
     signal_at = args.signal_at or "input"
     converter = parse_adc(args.adc)
-    circuit = _load(args.netlist)
+    circuit = _load(args.netlist, os.path.dirname(os.path.abspath(args.netlist)) if args.confine_includes else None)
     check_outputs_against_includes(args, circuit)
     from netnoise.engine import analysis
     from netnoise.outputs.progress import ProgressLine

@@ -27,6 +27,7 @@ import contextlib
 import dataclasses
 import difflib
 import math
+import os
 from dataclasses import dataclass, field
 from pathlib import Path
 
@@ -103,15 +104,30 @@ def _naming_instance(instance: str):
 
 
 def _expand_includes(
-    parsed: ParsedFile, directory: Path, chain: tuple[Path, ...], depth: int = 0
+    parsed: ParsedFile, directory: Path, chain: tuple[Path, ...], depth: int = 0, within: Path | None = None
 ) -> list[Statement]:
-    """``parsed`` with its includes expanded; ``depth`` counts include levels."""
+    """``parsed`` with its includes expanded; ``depth`` counts include levels;
+    ``within`` (resolved): the folder every included file must be in."""
     out: list[Statement] = []
     for statement in parsed.statements:
         if not isinstance(statement, IncludeCard):
             out.append(statement)
             continue
-        target = (directory / statement.path).resolve()
+        try:
+            target = (directory / statement.path).resolve()
+        except (RuntimeError, OSError):  # Path.resolve: "Symlink loop" (RuntimeError before 3.13)
+            raise _fail(
+                f"'.include {statement.path}' names a loop of symbolic links (each names the next)",
+                statement.loc,
+                "point the link at the file to include",
+            ) from None
+        if within is not None and not target.is_relative_to(within):
+            raise _fail(
+                f"'.include {statement.path}' is outside the folder includes are confined to",
+                statement.loc,
+                f"it is {target}, not within {within} (links followed); copy the file there, "
+                "or drop the confinement (--confine-includes) if you trust this netlist",
+            )
         if target in chain:
             names = " -> ".join(p.name for p in (*chain[chain.index(target) :], target))
             raise _fail(f"'.include {statement.path}' makes a cycle: {names}", statement.loc)
@@ -121,15 +137,15 @@ def _expand_includes(
                 statement.loc,
                 "an included file includes another, and so on; is there a loop through copies?",
             )
-        if not target.is_file():
+        if not os.path.lexists(target):
             raise _fail(
                 f"cannot find the included file '{statement.path}'",
                 statement.loc,
                 f"looked for {target}",
             )
-        text = read_netlist_text(target, statement.loc)
+        text = read_netlist_text(target, statement.loc)  # says what a folder, device or FIFO is
         included = parse_statements(text, str(target), has_title=False)
-        out.extend(_expand_includes(included, target.parent, (*chain, target), depth + 1))
+        out.extend(_expand_includes(included, target.parent, (*chain, target), depth + 1, within))
     return out
 
 
@@ -729,14 +745,25 @@ def _no_elements(parsed: ParsedFile) -> NetlistError:
 
 
 
-def elaborate(parsed: ParsedFile, base_dir: Path, source_file: str = "<text>", own_path: Path | None = None) -> c.Circuit:
+def elaborate(
+    parsed: ParsedFile,
+    base_dir: Path,
+    source_file: str = "<text>",
+    own_path: Path | None = None,
+    includes_within: Path | None = None,
+) -> c.Circuit:
     """The flat circuit described by ``parsed`` (a top-level file).
 
     ``base_dir`` is where its ``.include`` paths start; ``own_path`` (if the
-    text came from a file) lets an include cycle back to it be caught.
+    text came from a file) lets an include cycle back to it be caught;
+    ``includes_within``: the folder whose tree every included file must be in.
     """
-    chain = (own_path.resolve(),) if own_path is not None else ()
-    statements = _expand_includes(parsed, base_dir, chain)
+    try:
+        chain = (own_path.resolve(),) if own_path is not None else ()
+    except (RuntimeError, OSError):
+        chain = ()
+    within = includes_within.resolve() if includes_within is not None else None
+    statements = _expand_includes(parsed, base_dir, chain, within=within)
     top = _build_definitions(statements)
     notices: list[str] = []
     engine = _Elaborator(notices)
