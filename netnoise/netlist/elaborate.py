@@ -64,7 +64,7 @@ from netnoise.text.fields import shown
 from netnoise.text.source import bounded, read_netlist_text
 from netnoise.text.values import milli_slip_notice
 
-__all__ = ["MAX_INCLUDE_DEPTH", "GROUND_ALIASES", "NOISE_INDEX_PLAUSIBLE_DB", "elaborate"]
+__all__ = ["MAX_INCLUDE_DEPTH", "MAX_SUBCKT_DEPTH", "MAX_FLAT_ELEMENTS", "GROUND_ALIASES", "NOISE_INDEX_PLAUSIBLE_DB", "elaborate"]
 
 # Noise indices of real resistors, dB re 1 µV/V per decade: from about -40 dB (metal foil,
 # wirewound) to about +20 dB (carbon composition) -- from memory of manufacturers' data, widened
@@ -72,6 +72,13 @@ __all__ = ["MAX_INCLUDE_DEPTH", "GROUND_ALIASES", "NOISE_INDEX_PLAUSIBLE_DB", "e
 NOISE_INDEX_PLAUSIBLE_DB = (-50.0, 30.0)
 
 MAX_INCLUDE_DEPTH = 16
+# Subcircuit instances nested deeper than this are refused (the expansion
+# recurses; real designs nest a handful of levels).
+MAX_SUBCKT_DEPTH = 100
+# A netlist whose subcircuits would expand to more elements than this is
+# refused before anything is expanded (the count is estimated from the
+# definitions); 5 million elements need gigabytes and hours.
+MAX_FLAT_ELEMENTS = 5_000_000
 GROUND_ALIASES = frozenset({"0", "gnd"})
 _TOP_LEVEL_ONLY = (TempCard, AcCard, NoiseCard, OptionsCard)
 _CARD_NAMES = {TempCard: ".temp", AcCard: ".ac", NoiseCard: ".noise", OptionsCard: ".options"}
@@ -189,6 +196,81 @@ class _Definition:
             names.extend(m.name.text for m in scope.models.values())
             scope = scope.parent
         return names
+
+
+def _instance_target(definition: _Definition, statement: Instance) -> _Definition | None:
+    """The subcircuit an X line expands (None: an amplifier model, or unknown)."""
+    key = statement.subckt.text.lower()
+    if definition.find_model(key) is not None:
+        return None
+    return definition.find(key)
+
+
+def flat_element_counts(top: _Definition) -> dict[int, int]:
+    """How many elements each definition reachable from ``top`` expands to
+    (by ``id``), counted from the definitions without expanding anything:
+    its own element lines plus, per X line, its subcircuit's count.  An
+    amplifier model or an unknown name counts 1; an instance that closes a
+    cycle counts 0 (the expansion refuses it).  Iterative: a chain of any
+    depth is counted without recursion."""
+    counts: dict[int, int] = {}
+    started: set[int] = set()
+    stack: list[tuple[_Definition, bool]] = [(top, False)]
+    while stack:
+        definition, finished = stack.pop()
+        if finished:
+            total = 0
+            for statement in definition.body:
+                if isinstance(statement, Instance):
+                    child = _instance_target(definition, statement)
+                    total += 1 if child is None else counts.get(id(child), 0)
+                elif not isinstance(statement, (ParamCard, *_TOP_LEVEL_ONLY)):
+                    total += 1
+            counts[id(definition)] = total
+            continue
+        if id(definition) in started:
+            continue
+        started.add(id(definition))
+        stack.append((definition, True))
+        for statement in definition.body:
+            if isinstance(statement, Instance):
+                child = _instance_target(definition, statement)
+                if child is not None and id(child) not in started:
+                    stack.append((child, False))
+    return counts
+
+
+def _check_flat_size(top: _Definition) -> None:
+    """Refuse, before expanding, a netlist whose subcircuits would expand to
+    more than :data:`MAX_FLAT_ELEMENTS` elements: the count, and the chain of
+    instances responsible."""
+    counts = flat_element_counts(top)
+    total = counts[id(top)]
+    if total <= MAX_FLAT_ELEMENTS:
+        return
+    steps: list[str] = []
+    first: SourceLocation | None = None
+    definition, seen = top, set()
+    while id(definition) not in seen and len(steps) < 4:
+        seen.add(id(definition))
+        instances = [
+            (counts.get(id(child), 0), statement, child)
+            for statement in definition.body
+            if isinstance(statement, Instance) and (child := _instance_target(definition, statement)) is not None
+        ]
+        if not instances:
+            break
+        biggest = max(instances, key=lambda item: item[0])
+        same = sum(1 for count, _, child in instances if child is biggest[2])
+        where = "the top level" if definition is top else f"'{bounded(definition.name[:60])}'"
+        steps.append(f"{where} has {same:,} of '{bounded(biggest[2].name[:60])}' ({biggest[0]:,} elements each)")
+        first = first or biggest[1].loc
+        definition = biggest[2]
+    raise NetlistError(
+        f"the subcircuits would expand to {total:,} elements, more than the limit of {MAX_FLAT_ELEMENTS:,}",
+        first,
+        "; ".join(steps) + ": check the instance counts and nesting",
+    )
 
 
 def _build_definitions(statements: list[Statement]) -> _Definition:
@@ -580,6 +662,16 @@ class _Elaborator:
         if definition in self.active:
             cycle = " -> ".join(d.name for d in (*self.active[self.active.index(definition) :], definition))
             raise _fail(f"{statement.name}: subcircuit '{definition.name}' instantiates itself ({cycle})", statement.loc)
+        if len(self.active) >= MAX_SUBCKT_DEPTH:
+            names = [d.name for d in (*self.active, definition)]
+            chain = " -> ".join(names) if len(names) <= 8 else (
+                " -> ".join(names[:3]) + f" -> … ({len(names) - 6:,} more) … -> " + " -> ".join(names[-3:])
+            )
+            raise _fail(
+                f"{statement.name}: subcircuit instances are nested more than {MAX_SUBCKT_DEPTH} deep ({chain})",
+                statement.loc,
+                "each subcircuit instantiates the next; flatten some levels of the chain",
+            )
         if len(statement.nodes) != len(definition.pins):
             pins = " ".join(p.text for p in definition.pins) or "none"
             raise _fail(
@@ -765,6 +857,7 @@ def elaborate(
     within = includes_within.resolve() if includes_within is not None else None
     statements = _expand_includes(parsed, base_dir, chain, within=within)
     top = _build_definitions(statements)
+    _check_flat_size(top)
     notices: list[str] = []
     engine = _Elaborator(notices)
     scope = _Scope(top, None, "", "", {})
