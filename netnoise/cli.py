@@ -37,6 +37,7 @@ import errno
 import gc
 import math
 import os
+import stat
 import sys
 import traceback
 from collections.abc import Sequence
@@ -283,6 +284,25 @@ def _same_file(a: str, b: str) -> bool:
         return False
 
 
+def _check_writable(option: str, path: str, real: str, folder: str) -> None:
+    """The output can be written: a regular file (new or old) is replaced by
+    a new one made in its folder, so the folder must be writable; a device
+    or FIFO is written to directly, so it must be."""
+    try:
+        info = os.stat(real)
+    except OSError:
+        info = None
+    if info is not None and not stat.S_ISREG(info.st_mode):
+        if not os.access(real, os.W_OK):
+            raise UsageError(f"{option} {path}: cannot write to it (no permission); choose another path")
+        return
+    if not os.access(folder, os.W_OK | os.X_OK):
+        raise UsageError(
+            f"{option} {path}: cannot write in the folder '{os.path.dirname(path) or folder}' (no permission); "
+            "choose another path"
+        )
+
+
 def check_outputs(args: argparse.Namespace) -> None:
     """Refuse outputs that would overwrite the netlist or each other, before any work."""
     from netnoise.outputs.plotting import SAVE_FORMATS
@@ -309,6 +329,7 @@ def check_outputs(args: argparse.Namespace) -> None:
                 f"{option} {path}: cannot write there, the folder '{os.path.dirname(path) or folder}' "
                 "does not exist; create it first or choose another path"
             )
+        _check_writable(option, path, real, folder)
         seen[real] = option
     if args.plot is not None and os.path.splitext(args.plot)[1].lower() not in SAVE_FORMATS:
         raise UsageError(f"--plot {args.plot}: use a file name ending in {', '.join(SAVE_FORMATS)}")
