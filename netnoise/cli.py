@@ -223,7 +223,11 @@ def parse_temperature(text: str | None) -> float | None:
         celsius = float(text)
     except ValueError:
         raise UsageError(f"--temp: cannot read '{text}' as degrees Celsius") from None
-    if not math.isfinite(celsius) or celsius <= -273.15:
+    if math.isnan(celsius):
+        raise UsageError(f"--temp: '{text}' is not a number; give degrees Celsius (27, -40)")
+    if math.isinf(celsius):
+        raise UsageError(f"--temp must be a finite temperature in degrees Celsius, got '{text}'")
+    if celsius <= -273.15:
         raise UsageError(f"--temp must be above absolute zero (-273.15 °C), got {text}")
     return celsius
 

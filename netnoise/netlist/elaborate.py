@@ -62,7 +62,7 @@ from netnoise.netlist.parser import (
 )
 from netnoise.text.fields import shown
 from netnoise.text.source import bounded, read_netlist_text
-from netnoise.text.values import milli_slip_notice
+from netnoise.text.values import SMALLEST_NORMAL, exact, milli_slip_notice
 
 __all__ = ["MAX_INCLUDE_DEPTH", "MAX_SUBCKT_DEPTH", "MAX_FLAT_ELEMENTS", "GROUND_ALIASES", "NOISE_INDEX_PLAUSIBLE_DB", "elaborate"]
 
@@ -421,6 +421,13 @@ class _Elaborator:
             result = evaluate(value.tree, scope.visible(), value.source.location)
         if not math.isfinite(result):
             raise _fail("the value is not a finite number", value.loc)
+        if result != 0 and abs(result) < SMALLEST_NORMAL:
+            raise _fail(
+                f"the value {result!r} underflows: its size is below {SMALLEST_NORMAL:.3g}, the smallest a "
+                "double holds in full precision",
+                value.loc,
+                "write 0 for zero, or a value of a sensible size",
+            )
         return result
 
     def define_params(self, assignments: tuple[Assignment, ...], scope: _Scope, where: _Scope) -> None:
@@ -486,7 +493,7 @@ class _Elaborator:
             k = self.number(statement.value, scope)
             if not 0 < abs(k) <= 1:
                 raise _fail(
-                    f"the coupling coefficient of {name} must satisfy 0 < |k| <= 1, not {k:g}",
+                    f"the coupling coefficient of {name} must satisfy 0 < |k| <= 1, not {exact(k)}",
                     statement.value.loc,
                 )
             first, second = (scope.element_prefix + w.text for w in statement.inductors)
@@ -547,7 +554,7 @@ class _Elaborator:
             temperature = self.number(statement.temperature, scope)
             if temperature <= ABSOLUTE_ZERO_CELSIUS:
                 raise _fail(
-                    f"{name}: temp={temperature:g} °C is at or below absolute zero (-273.15 °C)",
+                    f"{name}: temp={exact(temperature)} °C is at or below absolute zero (-273.15 °C)",
                     statement.temperature.loc,
                     "temp= is the resistor's own temperature in degrees Celsius",
                 )
@@ -555,7 +562,7 @@ class _Elaborator:
         if noise_index is not None and not NOISE_INDEX_PLAUSIBLE_DB[0] <= noise_index <= NOISE_INDEX_PLAUSIBLE_DB[1]:
             low, high = NOISE_INDEX_PLAUSIBLE_DB
             self.notices.append(
-                f"{_where(statement.noise_index.loc)}: {name}: noise index ni={noise_index:g} dB is outside "
+                f"{_where(statement.noise_index.loc)}: {name}: noise index ni={exact(noise_index)} dB is outside "
                 f"{low:g} .. +{high:g} dB, where resistors' noise indices lie; check the value "
                 f"(it is dB re 1 µV per volt per decade)"
             )
@@ -575,13 +582,13 @@ class _Elaborator:
         unit = "V/√Hz" if statement.letter == "V" else "A/√Hz"
         white = self.number(statement.noise, scope)
         if white < 0:
-            raise _fail(f"{name}: the noise density cannot be negative ({white:g} {unit})", statement.noise.loc)
+            raise _fail(f"{name}: the noise density cannot be negative ({exact(white)} {unit})", statement.noise.loc)
         corner = 0.0
         if statement.corner is not None:
             corner = self.number(statement.corner, scope)
             if corner < 0:
                 raise _fail(
-                    f"{name}: the noise corner cannot be negative ({corner:g} Hz)",
+                    f"{name}: the noise corner cannot be negative ({exact(corner)} Hz)",
                     statement.corner.loc,
                     "corner=0 (or no corner=) means white noise only",
                 )
@@ -590,7 +597,7 @@ class _Elaborator:
             slope = self.number(statement.slope, scope)
             if not 0 < slope <= 3:
                 raise _fail(
-                    f"{name}: the noise slope must satisfy 0 < slope <= 3, not {slope:g}",
+                    f"{name}: the noise slope must satisfy 0 < slope <= 3, not {exact(slope)}",
                     statement.slope.loc,
                     "slope=1 is 1/f noise, slope=2 is 1/f² (random walk)",
                 )
@@ -627,9 +634,9 @@ class _Elaborator:
             field_name, what = OPAMP_PARAMS[key]
             if key in ("aol", "gbw", "fp2"):
                 if number <= 0:
-                    raise _fail(f"{name}: {key} ({what}) must be above 0, not {number:g}", value.loc)
+                    raise _fail(f"{name}: {key} ({what}) must be above 0, not {exact(number)}", value.loc)
             elif number < 0:
-                raise _fail(f"{name}: {key} ({what}) cannot be negative ({number:g})", value.loc)
+                raise _fail(f"{name}: {key} ({what}) cannot be negative ({exact(number)})", value.loc)
             fields[field_name] = number
         amplifier = c.OpAmpModel(name=model.name.text, **fields)
         nodes = (scope.node(statement.nodes[0]), scope.node(statement.nodes[1]), scope.node(statement.nodes[2]))
@@ -766,15 +773,15 @@ def _one(statements: list[Statement], kind: type) -> Statement | None:
 def _sweep(sweep: Sweep, engine: _Elaborator, scope: _Scope) -> c.Sweep:
     points = engine.number(sweep.points, scope)
     if points < 1 or not float(points).is_integer():
-        raise _fail(f"the number of points must be a whole number of at least 1, not {points:g}", sweep.points.loc)
+        raise _fail(f"the number of points must be a whole number of at least 1, not {exact(points)}", sweep.points.loc)
     start = engine.number(sweep.start, scope)
     stop = engine.number(sweep.stop, scope)
     if sweep.kind in ("dec", "oct") and start <= 0:
-        raise _fail(f"a {sweep.kind} sweep needs a start frequency above 0 Hz, not {start:g}", sweep.start.loc)
+        raise _fail(f"a {sweep.kind} sweep needs a start frequency above 0 Hz, not {exact(start)}", sweep.start.loc)
     if start < 0:
-        raise _fail(f"the start frequency cannot be negative ({start:g})", sweep.start.loc)
+        raise _fail(f"the start frequency cannot be negative ({exact(start)})", sweep.start.loc)
     if stop < start:
-        raise _fail(f"the stop frequency ({stop:g} Hz) is below the start frequency ({start:g} Hz)", sweep.stop.loc)
+        raise _fail(f"the stop frequency ({exact(stop)} Hz) is below the start frequency ({exact(start)} Hz)", sweep.stop.loc)
     return c.Sweep(sweep.kind, int(points), start, stop)
 
 
@@ -872,7 +879,7 @@ def elaborate(
         temperature = engine.number(temp_card.value, scope)  # type: ignore[union-attr]
         if temperature <= ABSOLUTE_ZERO_CELSIUS:
             raise _fail(
-                f"{temperature:g} °C is at or below absolute zero (-273.15 °C)",
+                f"{exact(temperature)} °C is at or below absolute zero (-273.15 °C)",
                 temp_card.value.loc,  # type: ignore[union-attr]
             )
     ac_card = _one(top.body, AcCard)
