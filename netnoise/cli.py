@@ -33,6 +33,7 @@ are loaded when a command needs them.
 from __future__ import annotations
 
 import argparse
+import contextlib
 import errno
 import gc
 import math
@@ -40,6 +41,7 @@ import os
 import stat
 import sys
 import traceback
+import warnings
 from collections.abc import Sequence
 
 from netnoise import __version__
@@ -412,23 +414,12 @@ def _engine_options(args: argparse.Namespace, band, temperature) -> dict:
     return options
 
 
-def run_analyze(args: argparse.Namespace) -> int:
-    from netnoise.outputs.export import atomic_write, to_csv, to_json
-    from netnoise.outputs.report import format_report
-
-    # everything the user typed is checked before the (possibly long) analysis
-    check_outputs(args)
-    band = parse_band(args.band)
-    temperature = parse_temperature(args.temp)
-    signal = parse_signal(args.signal)
-    if args.signal_at is not None and signal is None:
-        raise UsageError("--signal-at says where the --signal level is stated; give --signal RMS too")
-    signal_at = args.signal_at or "input"
-    converter = parse_adc(args.adc)
-    circuit = _load(args.netlist, os.path.dirname(os.path.abspath(args.netlist)) if args.confine_includes else None)
-    check_outputs_against_includes(args, circuit)
+def _compute(args: argparse.Namespace, circuit, band, temperature, signal, signal_at, converter):
+    """The analysis and every text made from it: (result, report, JSON or None, CSV or None)."""
     from netnoise.engine import analysis
+    from netnoise.outputs.export import to_csv, to_json
     from netnoise.outputs.progress import ProgressLine
+    from netnoise.outputs.report import format_report
 
     progress = ProgressLine(sys.stderr)  # a count of solved frequencies, on a terminal, for long runs
     try:
@@ -456,6 +447,46 @@ def run_analyze(args: argparse.Namespace) -> int:
     report = format_report(result, top=None if args.top == 0 else args.top, **extras)
     json_text = to_json(result, **extras) if args.json is not None else None
     csv_text = to_csv(result) if args.csv is not None else None
+    return result, report, json_text, csv_text
+
+
+@contextlib.contextmanager
+def _numeric_warnings_refused():
+    """No numpy RuntimeWarning (overflow, invalid value) reaches standard
+    error: one raised while computing means a figure may be wrong even when it
+    is finite, so the run ends in a CircuitError that says so (exit 1)."""
+    with warnings.catch_warnings(record=True) as caught:
+        warnings.simplefilter("always", RuntimeWarning)
+        yield
+    numeric = [w for w in caught if issubclass(w.category, RuntimeWarning)]
+    for w in caught:
+        if not issubclass(w.category, RuntimeWarning):
+            warnings.warn_explicit(w.message, w.category, w.filename, w.lineno)
+    if numeric:
+        what = sorted({str(w.message) for w in numeric})
+        raise CircuitError(
+            f"the arithmetic went out of range while solving ({'; '.join(what[:3])}), so no figures are "
+            "reported: an element value many orders of magnitude away from the others (a resistance of "
+            "1e-300 Ω, a gain of 1e300) is the usual cause; check the values"
+        )
+
+
+def run_analyze(args: argparse.Namespace) -> int:
+    from netnoise.outputs.export import atomic_write
+
+    # everything the user typed is checked before the (possibly long) analysis
+    check_outputs(args)
+    band = parse_band(args.band)
+    temperature = parse_temperature(args.temp)
+    signal = parse_signal(args.signal)
+    if args.signal_at is not None and signal is None:
+        raise UsageError("--signal-at says where the --signal level is stated; give --signal RMS too")
+    signal_at = args.signal_at or "input"
+    converter = parse_adc(args.adc)
+    circuit = _load(args.netlist, os.path.dirname(os.path.abspath(args.netlist)) if args.confine_includes else None)
+    check_outputs_against_includes(args, circuit)
+    with _numeric_warnings_refused():  # numbers from an overflow are never printed, nor the warning
+        result, report, json_text, csv_text = _compute(args, circuit, band, temperature, signal, signal_at, converter)
 
     if args.json == "-":
         sys.stdout.write(json_text)
