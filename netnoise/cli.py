@@ -457,18 +457,24 @@ def _numeric_warnings_refused():
     is finite, so the run ends in a CircuitError that says so (exit 1)."""
     with warnings.catch_warnings(record=True) as caught:
         warnings.simplefilter("always", RuntimeWarning)
-        yield
+        try:
+            yield
+        except (OverflowError, FloatingPointError) as error:  # Python's own float arithmetic (x**2)
+            raise CircuitError(_OUT_OF_RANGE.format(what=error.args[-1] if error.args else error)) from None
     numeric = [w for w in caught if issubclass(w.category, RuntimeWarning)]
     for w in caught:
         if not issubclass(w.category, RuntimeWarning):
             warnings.warn_explicit(w.message, w.category, w.filename, w.lineno)
     if numeric:
         what = sorted({str(w.message) for w in numeric})
-        raise CircuitError(
-            f"the arithmetic went out of range while solving ({'; '.join(what[:3])}), so no figures are "
-            "reported: an element value many orders of magnitude away from the others (a resistance of "
-            "1e-300 Ω, a gain of 1e300) is the usual cause; check the values"
-        )
+        raise CircuitError(_OUT_OF_RANGE.format(what="; ".join(what[:3])))
+
+
+_OUT_OF_RANGE = (
+    "the arithmetic went out of range while solving ({what}), so no figures are reported: an element "
+    "value many orders of magnitude away from the others (a resistance of 1e-300 Ω or 1e300 Ω, a gain "
+    "of 1e300) is the usual cause; check the values"
+)
 
 
 def run_analyze(args: argparse.Namespace) -> int:

@@ -564,3 +564,38 @@ def test_an_output_that_is_a_folder_is_refused(tmp_path, capsys):
     assert "is a folder" in capsys.readouterr().err
     with pytest.raises(IsADirectoryError):
         atomic_write(tmp_path, lambda handle: handle.write("x"))
+
+
+# ---- numerics the engine lets through never reach the user raw
+
+
+def _engine_that(monkeypatch, action):
+    from netnoise.engine import analysis
+
+    real = analysis.analyze
+
+    def analyze(*args, **kwargs):
+        result = real(*args, **kwargs)
+        action()
+        return result
+
+    monkeypatch.setattr(analysis, "analyze", analyze)
+
+
+@pytest.mark.parametrize(
+    "action, words",
+    [
+        (lambda: 10.0**400, "Numerical result out of range"),  # Python's float ** raises OverflowError
+        (lambda: __import__("numpy").square(__import__("numpy").float64(1e300)), "overflow encountered"),
+        (lambda: __import__("numpy").sqrt(__import__("numpy").float64(-1.0)), "invalid value"),
+    ],
+    ids=["OverflowError", "numpy-overflow", "numpy-invalid"],
+)
+def test_out_of_range_arithmetic_is_a_clean_error(tmp_path, capsys, monkeypatch, action, words):
+    _engine_that(monkeypatch, action)
+    out_file = tmp_path / "r.json"
+    assert cli.main(["analyze", _rc(tmp_path), "--json", str(out_file)]) == 1
+    out, err = capsys.readouterr()
+    assert out == "" and not out_file.exists()
+    assert err.startswith("netnoise: error: the arithmetic went out of range") and words in err
+    assert err.count("\n") == 1 and "Warning" not in err
