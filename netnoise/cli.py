@@ -296,8 +296,10 @@ def _check_writable(option: str, path: str, real: str, folder: str) -> None:
     or FIFO is written to directly, so it must be."""
     try:
         info = os.stat(real)
-    except OSError:
+    except FileNotFoundError:  # a new file, or a link to one
         info = None
+    except OSError as error:  # a loop of links, a path through a file
+        raise UsageError(f"{option} {path}: cannot write there ({error.strerror or error}); choose another path") from None
     if info is not None and not stat.S_ISREG(info.st_mode):
         if not os.access(real, os.W_OK):
             raise UsageError(f"{option} {path}: cannot write to it (no permission); choose another path")

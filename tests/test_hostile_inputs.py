@@ -282,6 +282,7 @@ HOSTILE = [
     ("confined-outside", _outside, 2, ["outside the folder includes are confined to"]),
     ("confined-link-outside", _linked_outside, 2, ["outside the folder includes are confined to"]),
     ("confined-inside", _inside, 0, []),
+    ("output-link-loop", lambda d: [_rc(d), "--json", str(d / _link_loop(d))], 2, ["--json", "symbolic links"]),
 ]
 
 
