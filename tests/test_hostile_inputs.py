@@ -600,3 +600,106 @@ def test_out_of_range_arithmetic_is_a_clean_error(tmp_path, capsys, monkeypatch,
     assert out == "" and not out_file.exists()
     assert err.startswith("netnoise: error: the arithmetic went out of range") and words in err
     assert err.count("\n") == 1 and "Warning" not in err
+
+
+# ---- the fuzz: mutated shipped circuits, bands, temperatures and grid sizes
+#
+# Every input ends in a result whose figures are finite and non-negative, or a
+# NetnoiseError: never another exception, never a warning (pytest turns them
+# into errors, and the check below does too), never a hang (an alarm fails the
+# example after 60 s).
+#
+# Constrained for now, because the engine's own numerics are being reworked by
+# another change (netnoise/engine/analysis.py, total_variance.py, noise_sources.py):
+# element values of 1e30 or more (2**1000, 1e300) and normal ones of 1e-30 or
+# less (1e-300), band edges beyond 1e-3 Hz .. 1e12 Hz, and temperatures above
+# 1e4 °C make densities overflow inside the engine (RuntimeWarnings, or an
+# OverflowError from R**2 in noise_sources.excess_sources); the command line
+# already turns those into a clean CircuitError (tested above).  Widen these
+# lists when the engine handles them.
+
+import math as _math
+import re as _re
+import signal as _signal
+import warnings as _warnings
+
+from hypothesis import HealthCheck, given, settings
+from hypothesis import strategies as st
+
+FUZZ_VALUES = [
+    "0", "-1", "1e-400", "1e-310", "1e-15", "1f", "1", "1k", "1meg", "1e12", "inf", "nan", "1kk", "{1/0}",
+    "{1e-200*1e-200}", "{-1}", "1M", "abc", "{0}", "1e", "-1e-3", "{2**60}", "1e-9", "1.0000001", "10kOhm",
+]
+FUZZ_BANDS = [None, ("0", "inf"), ("1", "1k"), ("0", "1e9"), ("1e-3", "1e9"), ("10", "10.0000001"), ("1", "1"),
+              ("20", "20k"), ("1k", "10"), ("-1", "1"), ("1", "nan"), ("1e-3", "1e12")]
+FUZZ_TEMPS = [None, "-273.15", "-273.14", "-273", "27", "1e3", "nan", "inf", "-inf", "125", "abc"]
+FUZZ_POINTS = [None, 1, 2, 3, 7, 20, 40]
+FUZZ_TOKENS = ["", "0", "gnd", "x", "V1", "{", "=", "noise=1n", "ni=-10", "shot", "noiseless", "+", "dec", "lin 3"]
+_VALUE_SPOT = _re.compile(r"(?<=\s)(?:\d+(?:\.\d*)?|\.\d+)(?:[eE][+-]?\d+)?[A-Za-zµΩ]*(?=\s|$)")
+_WORD_SPOT = _re.compile(r"(?<=\s)\S+(?=\s|$)")
+_SHIPPED_TEXTS = {path.name: path.read_text(encoding="utf-8") for path in EXAMPLES}
+
+
+def _mutate(text: str, data) -> str:
+    for _ in range(data.draw(st.integers(1, 3), label="mutations")):
+        kind = data.draw(st.sampled_from(["value", "value", "token"]), label="kind")
+        spots = [m.span() for m in (_VALUE_SPOT if kind == "value" else _WORD_SPOT).finditer(text)]
+        if not spots:
+            continue
+        start, end = spots[data.draw(st.integers(0, len(spots) - 1), label="where")]
+        new = data.draw(st.sampled_from(FUZZ_VALUES if kind == "value" else FUZZ_TOKENS), label="new")
+        text = text[:start] + new + text[end:]
+    return text
+
+
+class _Hang(Exception):
+    pass
+
+
+def _alarm(signum, frame):
+    raise _Hang("no answer within 60 s")
+
+
+def _figures_ok(result) -> None:
+    import numpy as np
+
+    figures = [result.total_rms, result.total_variance]
+    figures += [x for c in result.contributions for x in (c.rms_V, c.share)]
+    figures += list(np.ravel(result.output_density)) + list(np.ravel(result.cumulative_rms))
+    bad = [x for x in figures if not (_math.isfinite(x) and x >= 0)]
+    assert not bad, f"{len(bad)} figures not finite and non-negative, e.g. {bad[:3]}"
+
+
+@settings(max_examples=60, deadline=None, suppress_health_check=list(HealthCheck), derandomize=True)
+@given(
+    name=st.sampled_from(sorted(_SHIPPED_TEXTS)),
+    data=st.data(),
+    band=st.sampled_from(FUZZ_BANDS),
+    temp=st.sampled_from(FUZZ_TEMPS),
+    points=st.sampled_from(FUZZ_POINTS),
+)
+def test_fuzz_mutated_shipped_circuits(name, data, band, temp, points):
+    import netnoise
+    from netnoise.errors import NetnoiseError
+
+    text = _mutate(_SHIPPED_TEXTS[name], data)
+    previous = _signal.signal(_signal.SIGALRM, _alarm)
+    _signal.alarm(60)
+    try:
+        with _warnings.catch_warnings():
+            _warnings.simplefilter("error")
+            circuit = netnoise.parse_netlist(text, filename=str(REPO / "circuits" / name))
+            result = netnoise.analyze(
+                circuit,
+                band=cli.parse_band(band),
+                temperature_celsius=cli.parse_temperature(temp),
+                points_per_decade=points,
+            )
+            netnoise.format_report(result)
+            netnoise.result_to_dict(result)
+            _figures_ok(result)
+    except NetnoiseError:
+        pass
+    finally:
+        _signal.alarm(0)
+        _signal.signal(_signal.SIGALRM, previous)
