@@ -87,9 +87,9 @@ def fail(message: str, location: SourceLocation | None, hint: str = "") -> Netli
 # reading files
 
 
-def _too_big(shown: str, size: str) -> str:
+def _too_big(size: str) -> str:
     return (
-        f"'{shown}' is {size}, over the limit of {_size(MAX_NETLIST_BYTES)} for a netlist file "
+        f"is {size}, over the limit of {_size(MAX_NETLIST_BYTES)} for a netlist file "
         "(is it a netlist?); split a real netlist into .include files"
     )
 
@@ -152,6 +152,22 @@ def _open_error(exc: OSError) -> str:
     return f"cannot be read: {exc.strerror or exc}"
 
 
+def _read_bounded(handle, size_hint: int) -> bytes:
+    """At most MAX_NETLIST_BYTES + 1 bytes: a file that says size 0 (in /proc)
+    or grows while read is read in pieces, never past the limit."""
+    pieces: list[bytes] = []
+    total = 0
+    want = max(size_hint + 1, 1 << 16)
+    while total <= MAX_NETLIST_BYTES:
+        piece = handle.read(min(want, MAX_NETLIST_BYTES + 1 - total))
+        if not piece:
+            break
+        pieces.append(piece)
+        total += len(piece)
+        want = 1 << 20
+    return b"".join(pieces)
+
+
 def read_netlist_text(path: Path, included_from: SourceLocation | None = None) -> str:
     """The text of a netlist file, as UTF-8 (a leading byte-order mark is dropped).
 
@@ -176,20 +192,20 @@ def read_netlist_text(path: Path, included_from: SourceLocation | None = None) -
         info = os.fstat(fd)
         what = not_a_file(info.st_mode)
         if what is None and info.st_size > MAX_NETLIST_BYTES:
-            what = _too_big(shown, _size(info.st_size))[len(shown) + 3 :]
+            what = _too_big(_size(info.st_size))
     except BaseException:
         os.close(fd)
         raise
     if what is not None:
         os.close(fd)
         raise fail(f"'{shown}' {what}", included_from)
-    with os.fdopen(fd, "rb") as handle:
+    with os.fdopen(fd, "rb", buffering=0) as handle:
         try:
-            raw = handle.read(MAX_NETLIST_BYTES + 1)  # a /proc file says size 0: read no more than this
+            raw = _read_bounded(handle, info.st_size)
         except OSError as exc:
             raise fail(f"cannot read '{shown}': {exc.strerror or exc}", included_from) from None
         if len(raw) > MAX_NETLIST_BYTES:
-            raise fail(_too_big(shown, f"more than {_size(MAX_NETLIST_BYTES)}"), included_from)
+            raise fail(f"'{shown}' {_too_big(f'more than {_size(MAX_NETLIST_BYTES)}')}", included_from)
     nul = raw.find(b"\x00")
     if nul >= 0:
         where = _offset_location(raw, nul, shown)
