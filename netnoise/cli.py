@@ -351,7 +351,7 @@ def _load(path: str, confine: str | None = None):
 
     shown = shorten_line(path, 200)
     if path == "-":
-        raise UsageError("cannot read netlist '-': standard input is not read; give a netlist file")
+        raise UsageError("'-' (standard input) is not read; give a netlist file")
     try:
         info = os.stat(path)
     except FileNotFoundError:

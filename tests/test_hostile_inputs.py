@@ -253,7 +253,7 @@ HOSTILE = [
     ("netlist-fifo", lambda d: [_fifo(d)], 2, ["is a FIFO", "regular file"]),
     ("netlist-device", lambda d: ["/dev/zero"], 2, ["is a device"]),
     ("netlist-folder", lambda d: [str(d)], 2, ["is a folder"]),
-    ("netlist-stdin", lambda d: ["-"], 2, ["standard input is not read"]),
+    ("netlist-stdin", lambda d: ["-"], 2, ["'-' (standard input) is not read; give a netlist file"]),
     ("netlist-8GB", lambda d: [_sparse(d, 8 * 2**30)], 2, ["8,589,934,592 bytes", "over the limit of", "MiB"]),
     ("deep-subcircuits", lambda d: [_deep_chain(d)], 2, ["nested more than 100 deep", "s0 -> s1", "s100"]),
     ("1e8-elements", lambda d: [_exploding(d)], 2, ["100,000,002", "would expand to", "limit of 5,000,000", "'s8'"]),
