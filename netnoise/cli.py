@@ -38,6 +38,7 @@ import errno
 import gc
 import math
 import os
+import re
 import stat
 import sys
 import traceback
@@ -103,6 +104,9 @@ class _Parser(argparse.ArgumentParser):
 
     def error(self, message: str):  # type: ignore[override]
         line = " ".join(message.split())
+        option = re.match(r"argument (--[\w-]+): expected one argument", line)
+        if option:  # argparse reads a value such as -1e3 or -inf as an option
+            line += f"; a value starting with '-' is written with '=' ({option.group(1)}=-1e3)"
         self.exit(
             2,
             f"{ERROR_PREFIX}{shorten_line(line)} (usage: {self.prog} ...; '{self.prog} --help' lists the options)\n",

@@ -301,6 +301,7 @@ HOSTILE = [
     ("confined-outside", _outside, 2, ["outside the folder includes are confined to"]),
     ("confined-link-outside", _linked_outside, 2, ["outside the folder includes are confined to"]),
     ("confined-inside", _inside, 0, []),
+    ("negative-exponent", lambda d: [_rc(d), "--temp", "-1e3"], 2, ["expected one argument", "--temp=-1e3"]),
     ("output-link-loop", lambda d: [_rc(d), "--json", str(d / _link_loop(d))], 2, ["--json", "symbolic links"]),
 ]
 
