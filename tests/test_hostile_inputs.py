@@ -723,3 +723,39 @@ def test_fuzz_mutated_shipped_circuits(name, data, band, temp, points):
     finally:
         _signal.alarm(0)
         _signal.signal(_signal.SIGALRM, previous)
+
+
+# the grammar's WORDS and PLAIN_LINE once used possessive quantifiers; the
+# portable ones must match exactly what those matched (where re gets them right)
+_POSSESSIVE = {
+    "PLAIN_LINE": r"""[A-Za-z_][^\s=(){},"']*+(?:[^\S\n]++[^\s=(){},"']++)*+[^\S\n]*+(?!(?:\n[^\S\n]*+)++\+)(?:\n[^\S\n]*+)++""",
+    "WORDS": r"""(?:[^\S\n]++[^\s=(){},"']++(?![^\S\n]*+[=(]))++""",
+}
+
+
+@pytest.mark.skipif(
+    sys.version_info < (3, 11, 5),
+    reason="this Python's re mismatches possessive quantifiers (the bug the portable grammar avoids), "
+    "so it cannot serve as the reference here",
+)
+@pytest.mark.parametrize("terminal", sorted(_POSSESSIVE))
+def test_portable_terminals_match_what_the_possessive_ones_did(terminal):
+    import re
+
+    from hypothesis import given, settings
+    from hypothesis import strategies as st
+
+    from netnoise.text.grammar import grammar_text
+
+    portable = re.compile(re.search(rf"{terminal}\.\d: /(.*)/\n", grammar_text()).group(1))
+    possessive = re.compile(_POSSESSIVE[terminal])
+
+    @settings(max_examples=250, deadline=None, derandomize=True)
+    @given(st.lists(st.sampled_from([" ", "\t", "\n", "a", "R1", "b", "=", "(", ")", "+", ",", "'", "1k", "\r"]),
+                    max_size=30).map("".join), st.integers(0, 3))
+    def same(text, start):
+        expected = possessive.match(text, min(start, len(text)))
+        got = portable.match(text, min(start, len(text)))
+        assert (got and got.span()) == (expected and expected.span()), repr(text)
+
+    same()
