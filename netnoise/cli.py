@@ -33,11 +33,16 @@ are loaded when a command needs them.
 from __future__ import annotations
 
 import argparse
+import contextlib
+import errno
 import gc
 import math
 import os
+import re
+import stat
 import sys
 import traceback
+import warnings
 from collections.abc import Sequence
 
 from netnoise import __version__
@@ -85,8 +90,40 @@ def _count(minimum: int):
     return parse
 
 
+MESSAGE_LINE_LIMIT = 400  # characters of one line of a message; a longer one is cut in the middle
+
+
+def shorten_line(line: str, limit: int = MESSAGE_LINE_LIMIT) -> str:
+    """``line`` cut in the middle to at most about ``limit`` characters, saying
+    how many were left out (an option value can be 100,000 characters long)."""
+    if len(line) <= limit:
+        return line
+    keep = limit - 40
+    head, tail = line[: keep * 2 // 3], line[len(line) - keep // 3 :]
+    return f"{head} … [{len(line) - len(head) - len(tail):,} characters left out] … {tail}"
+
+
+def _message(error: BaseException) -> str:
+    return "\n".join(shorten_line(line) for line in str(error).split("\n"))
+
+
+class _Parser(argparse.ArgumentParser):
+    """argparse with its errors as one line ``netnoise: error: ...`` (exit 2)
+    instead of the usage block, as every other error of the command."""
+
+    def error(self, message: str):  # type: ignore[override]
+        line = " ".join(message.split())
+        option = re.match(r"argument (--[\w-]+): expected one argument", line)
+        if option:  # argparse reads a value such as -1e3 or -inf as an option
+            line += f"; a value starting with '-' is written with '=' ({option.group(1)}=-1e3)"
+        self.exit(
+            2,
+            f"{ERROR_PREFIX}{shorten_line(line)} (usage: {self.prog} ...; '{self.prog} --help' lists the options)\n",
+        )
+
+
 def build_parser() -> argparse.ArgumentParser:
-    parser = argparse.ArgumentParser(
+    parser = _Parser(
         prog=PROG,
         description="Noise budgets for linear analog circuits described by a netlist.",
     )
@@ -101,6 +138,11 @@ def build_parser() -> argparse.ArgumentParser:
         formatter_class=argparse.RawDescriptionHelpFormatter,
     )
     analyze.add_argument("netlist", metavar="NETLIST", help="netlist file to read")
+    analyze.add_argument(
+        "--confine-includes",
+        action="store_true",
+        help="refuse any .include (at any depth) whose file, links followed, is outside the netlist's own folder tree",
+    )
     where = analyze.add_argument_group("what to analyse (defaults come from the netlist's .noise card)")
     where.add_argument("--out", metavar="NODE", help="output node")
     where.add_argument("--ref", metavar="NODE", help="reference node of the output (default ground)")
@@ -185,6 +227,11 @@ def _add_sweep_command(commands) -> None:
     )
     sweep.add_argument("netlist", metavar="NETLIST", help="netlist file to read")
     sweep.add_argument(
+        "--confine-includes",
+        action="store_true",
+        help="refuse any .include whose file, links followed, is outside the netlist's own folder tree",
+    )
+    sweep.add_argument(
         "--vary", nargs=3, action="append", required=True, metavar=("NAME", "FROM", "TO"),
         help="an element, a .param or 'temp' (°C), from FROM to TO (suffixes allowed); give it twice for a grid",
     )
@@ -247,7 +294,11 @@ def parse_temperature(text: str | None) -> float | None:
         celsius = float(text)
     except ValueError:
         raise UsageError(f"--temp: cannot read '{text}' as degrees Celsius") from None
-    if not math.isfinite(celsius) or celsius <= -273.15:
+    if math.isnan(celsius):
+        raise UsageError(f"--temp: '{text}' is not a number; give degrees Celsius (27, -40)")
+    if math.isinf(celsius):
+        raise UsageError(f"--temp must be a finite temperature in degrees Celsius, got '{text}'")
+    if celsius <= -273.15:
         raise UsageError(f"--temp must be above absolute zero (-273.15 °C), got {text}")
     return celsius
 
@@ -286,6 +337,12 @@ def parse_adc(triple: Sequence[str] | None) -> tuple[int, float, float] | None:
         raise UsageError(f"--adc BITS must be 1 to 32, got {bits}")
     full_scale, _ = _positive_value("--adc RANGE", range_text, "a full-scale range in volts")
     rate, written = _positive_value("--adc RATE", rate_text, "a sample rate in hertz")
+    from netnoise.results.figures import ADC_FULL_SCALE_V, ADC_SAMPLE_RATE_HZ
+
+    if not ADC_FULL_SCALE_V[0] <= full_scale <= ADC_FULL_SCALE_V[1]:
+        raise UsageError(f"--adc RANGE must be 1 nV to 1 MV peak-to-peak, got '{range_text}'")
+    if not ADC_SAMPLE_RATE_HZ[0] <= rate <= ADC_SAMPLE_RATE_HZ[1]:
+        raise UsageError(f"--adc RATE must be 1 mHz to 10 THz, got '{rate_text}'")
     if written[:1] == "M" and not written.lower().startswith(("meg", "mil")):
         raise UsageError(
             f"--adc RATE '{rate_text}' reads as {rate:g} Hz: M means milli, as in a netlist; "
@@ -322,6 +379,27 @@ def _same_file(a: str, b: str) -> bool:
         return False
 
 
+def _check_writable(option: str, path: str, real: str, folder: str) -> None:
+    """The output can be written: a regular file (new or old) is replaced by
+    a new one made in its folder, so the folder must be writable; a device
+    or FIFO is written to directly, so it must be."""
+    try:
+        info = os.stat(real)
+    except FileNotFoundError:  # a new file, or a link to one
+        info = None
+    except OSError as error:  # a loop of links, a path through a file
+        raise UsageError(f"{option} {path}: cannot write there ({error.strerror or error}); choose another path") from None
+    if info is not None and not stat.S_ISREG(info.st_mode):
+        if not os.access(real, os.W_OK):
+            raise UsageError(f"{option} {path}: cannot write to it (no permission); choose another path")
+        return
+    if not os.access(folder, os.W_OK | os.X_OK):
+        raise UsageError(
+            f"{option} {path}: cannot write in the folder '{os.path.dirname(path) or folder}' (no permission); "
+            "choose another path"
+        )
+
+
 def check_outputs(args: argparse.Namespace) -> None:
     """Refuse outputs that would overwrite the netlist or each other, before any work."""
     from netnoise.outputs.plotting import SAVE_FORMATS
@@ -348,23 +426,46 @@ def check_outputs(args: argparse.Namespace) -> None:
                 f"{option} {path}: cannot write there, the folder '{os.path.dirname(path) or folder}' "
                 "does not exist; create it first or choose another path"
             )
+        _check_writable(option, path, real, folder)
         seen[real] = option
     if args.plot is not None and os.path.splitext(args.plot)[1].lower() not in SAVE_FORMATS:
         raise UsageError(f"--plot {args.plot}: use a file name ending in {', '.join(SAVE_FORMATS)}")
 
 
 # --- the command ------------------------------------------------------------
-def _load(path: str):
+def _confinement(args: argparse.Namespace) -> str | None:
+    """The folder includes are confined to with --confine-includes: the netlist's own."""
+    return os.path.dirname(os.path.abspath(args.netlist)) if args.confine_includes else None
+
+
+def _load(path: str, confine: str | None = None):
     from netnoise import netlist
 
-    if os.path.isdir(path):
-        raise UsageError(f"cannot read netlist '{path}': it is a folder; give the netlist file")
-    if not os.path.isfile(path):
-        raise UsageError(f"cannot read netlist '{path}': no such file")
+    from netnoise.text.source import not_a_file
+
+    shown = shorten_line(path, 200)
+    if path == "-":
+        raise UsageError("'-' (standard input) is not read; give a netlist file")
     try:
-        return netlist.load_netlist(path)
+        info = os.stat(path)
+    except FileNotFoundError:
+        raise UsageError(f"cannot read netlist '{shown}': no such file") from None
     except OSError as error:
-        raise UsageError(f"cannot read netlist '{path}': {error.strerror or error}") from None
+        if error.errno == errno.ELOOP:
+            raise UsageError(
+                f"cannot read netlist '{shown}': a loop of symbolic links (each names the next); "
+                "point the link at the netlist file"
+            ) from None
+        raise UsageError(f"cannot read netlist '{shown}': {error.strerror or error}") from None
+    what = not_a_file(info.st_mode)
+    if what is not None:
+        raise UsageError(f"cannot read netlist '{shown}': it {what}")
+    try:
+        if confine is None:
+            return netlist.load_netlist(path)
+        return netlist.load_netlist(path, includes_within=confine)
+    except OSError as error:
+        raise UsageError(f"cannot read netlist '{shown}': {error.strerror or error}") from None
 
 
 def _read_files(circuit) -> set[str]:
@@ -463,7 +564,7 @@ def run_sweep(args: argparse.Namespace) -> int:
         raise UsageError("give --target or --target-settle, not both")
     if deadline is not None and settle is None:
         raise UsageError("--target-settle needs --settle ACCURACY (the accuracy the settling time is taken to)")
-    circuit = _load(args.netlist)
+    circuit = _load(args.netlist, _confinement(args))
     check_outputs_against_includes(args, circuit)
     from netnoise.engine import analysis
 
@@ -474,12 +575,13 @@ def run_sweep(args: argparse.Namespace) -> int:
         raise UsageError("--settle needs an input source: give --input SOURCE (or name it on .noise)")
     progress = ProgressLine(sys.stderr, unit="points")
     try:
-        result = sweep(prepared, vary, settle=settle, progress=lambda done, total: progress(1, total))
-        answer = None
-        if target is not None or deadline is not None:
-            first = vary[0]
-            answer = meet_target(prepared, first.name, min(first.values), max(first.values),
-                                 noise_rms_V=target, settling_time_s=deadline, settle=settle)
+        with _numeric_warnings_refused():  # numbers from an overflow are never printed, nor the warning
+            result = sweep(prepared, vary, settle=settle, progress=lambda done, total: progress(1, total))
+            answer = None
+            if target is not None or deadline is not None:
+                first = vary[0]
+                answer = meet_target(prepared, first.name, min(first.values), max(first.values),
+                                     noise_rms_V=target, settling_time_s=deadline, settle=settle)
     finally:
         progress.clear()
     units = {v.name: _unit_of(circuit, v.name) for v in vary}
@@ -525,23 +627,12 @@ def _unit_of(circuit, name: str) -> str:
         return ""
 
 
-def run_analyze(args: argparse.Namespace) -> int:
-    from netnoise.outputs.export import atomic_write, to_csv, to_json
-    from netnoise.outputs.report import format_report
-
-    # everything the user typed is checked before the (possibly long) analysis
-    check_outputs(args)
-    band = parse_band(args.band)
-    temperature = parse_temperature(args.temp)
-    signal = parse_signal(args.signal)
-    if args.signal_at is not None and signal is None:
-        raise UsageError("--signal-at says where the --signal level is stated; give --signal RMS too")
-    signal_at = args.signal_at or "input"
-    converter = parse_adc(args.adc)
-    circuit = _load(args.netlist)
-    check_outputs_against_includes(args, circuit)
+def _compute(args: argparse.Namespace, circuit, band, temperature, signal, signal_at, converter):
+    """The analysis and every text made from it: (result, report, JSON or None, CSV or None)."""
     from netnoise.engine import analysis
+    from netnoise.outputs.export import to_csv, to_json
     from netnoise.outputs.progress import ProgressLine
+    from netnoise.outputs.report import format_report
 
     progress = ProgressLine(sys.stderr)  # a count of solved frequencies, on a terminal, for long runs
     try:
@@ -570,6 +661,52 @@ def run_analyze(args: argparse.Namespace) -> int:
     report = format_report(result, top=None if args.top == 0 else args.top, advice=ADVICE, **extras)
     json_text = to_json(result, **extras) if args.json is not None else None
     csv_text = to_csv(result) if args.csv is not None else None
+    return result, report, json_text, csv_text
+
+
+@contextlib.contextmanager
+def _numeric_warnings_refused():
+    """No numpy RuntimeWarning (overflow, invalid value) reaches standard
+    error: one raised while computing means a figure may be wrong even when it
+    is finite, so the run ends in a CircuitError that says so (exit 1)."""
+    with warnings.catch_warnings(record=True) as caught:
+        warnings.simplefilter("always", RuntimeWarning)
+        try:
+            yield
+        except (OverflowError, FloatingPointError) as error:  # Python's own float arithmetic (x**2)
+            raise CircuitError(_OUT_OF_RANGE.format(what=error.args[-1] if error.args else error)) from None
+    numeric = [w for w in caught if issubclass(w.category, RuntimeWarning)]
+    for w in caught:
+        if not issubclass(w.category, RuntimeWarning):
+            warnings.warn_explicit(w.message, w.category, w.filename, w.lineno)
+    if numeric:
+        what = sorted({str(w.message) for w in numeric})
+        raise CircuitError(_OUT_OF_RANGE.format(what="; ".join(what[:3])))
+
+
+_OUT_OF_RANGE = (
+    "the arithmetic went out of range while solving ({what}), so no figures are reported: an element "
+    "value many orders of magnitude away from the others (a resistance of 1e-300 Ω or 1e300 Ω, a gain "
+    "of 1e300) is the usual cause; check the values"
+)
+
+
+def run_analyze(args: argparse.Namespace) -> int:
+    from netnoise.outputs.export import atomic_write
+
+    # everything the user typed is checked before the (possibly long) analysis
+    check_outputs(args)
+    band = parse_band(args.band)
+    temperature = parse_temperature(args.temp)
+    signal = parse_signal(args.signal)
+    if args.signal_at is not None and signal is None:
+        raise UsageError("--signal-at says where the --signal level is stated; give --signal RMS too")
+    signal_at = args.signal_at or "input"
+    converter = parse_adc(args.adc)
+    circuit = _load(args.netlist, _confinement(args))
+    check_outputs_against_includes(args, circuit)
+    with _numeric_warnings_refused():  # numbers from an overflow are never printed, nor the warning
+        result, report, json_text, csv_text = _compute(args, circuit, band, temperature, signal, signal_at, converter)
 
     if args.json == "-":
         sys.stdout.write(json_text)
@@ -620,7 +757,7 @@ def main(argv: Sequence[str] | None = None) -> int:
             return run_sweep(args)
         raise UsageError(f"unknown command {args.command!r}")  # argparse rejects these first
     except NetnoiseError as error:
-        print(f"{ERROR_PREFIX}{error}", file=sys.stderr)
+        print(f"{ERROR_PREFIX}{_message(error)}", file=sys.stderr)
         return error.exit_status
     except KeyboardInterrupt:
         print(f"{PROG}: interrupted", file=sys.stderr)

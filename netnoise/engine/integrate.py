@@ -22,7 +22,7 @@ import numpy as np
 
 from netnoise.engine.resources import MEMORY_FRACTION, available_memory
 
-__all__ = ["BandIntegral", "integrate_band", "log_grid_intervals"]
+__all__ = ["BandIntegral", "integrate_band", "log_grid_intervals", "MAX_GRID_POINTS"]
 
 # (M,) Hz -> (R, M) densities; a new array the evaluator does not keep is scaled in place
 Evaluator = Callable[[np.ndarray], np.ndarray]
@@ -52,10 +52,30 @@ class BandIntegral:
     sample_argmax_Hz: np.ndarray | None = None  # (R,) the frequency of each row's sample_max
 
 
+# Every grid point is a circuit solve: a million of them takes minutes on a small
+# circuit.  A grid beyond this is a slip (a points count or a band edge with too
+# many digits) and is refused before any array is made.
+MAX_GRID_POINTS = 1_000_000
+
+
 def log_grid_intervals(low: float, high: float, points_per_decade: float) -> int:
-    """Number of grid intervals (a multiple of 4, at least 8) for a log grid."""
-    decades = math.log10(high / low)
-    return max(8, 4 * math.ceil(decades * points_per_decade / 4 - 1e-9))
+    """Number of grid intervals (a multiple of 4, at least 8) for a log grid.
+
+    A grid of more than :data:`MAX_GRID_POINTS` points is a UsageError that
+    gives the count it would need."""
+    decades = math.log10(high) - math.log10(low)  # high / low can overflow (1e300 / 1e-300)
+    wanted = decades * float(points_per_decade)
+    if not wanted <= MAX_GRID_POINTS:
+        from netnoise.errors import UsageError
+
+        count = f"{wanted:,.0f}" if wanted < 1e15 else f"{wanted:.3g}"
+        raise UsageError(
+            f"the frequency grid would need {count} points ({float(points_per_decade):.6g} points per "
+            f"decade over {decades:.4g} decades, {low:.4g} Hz to {high:.4g} Hz), more than the limit of "
+            f"{MAX_GRID_POINTS:,}: give fewer points per decade (--points, or the .noise/.ac card's count) "
+            "or a narrower band (--band)"
+        )
+    return max(8, 4 * math.ceil(wanted / 4 - 1e-9))
 
 
 class _Samples:

@@ -19,10 +19,18 @@ _override: int | None = None  # tests set this through set_available_memory
 
 
 def available_memory() -> int:
-    """Bytes available to this process: MemAvailable on Linux, else the
-    physical memory, else a large number (no bound known)."""
+    """Bytes available to this process: the smallest of the machine's free
+    memory (MemAvailable on Linux, else the free physical pages), the room
+    left under the process's address-space limit (``ulimit -v``) and under
+    its cgroup's memory limit (containers, systemd units); a large number
+    when none is known."""
     if _override is not None:
         return _override
+    bounds = [b for b in (_machine_free(), _rlimit_room(), _cgroup_room()) if b is not None]
+    return max(0, min(bounds)) if bounds else 1 << 62
+
+
+def _machine_free() -> int | None:
     try:
         with open("/proc/meminfo", encoding="ascii") as fh:
             for line in fh:
@@ -33,7 +41,76 @@ def available_memory() -> int:
     try:
         return os.sysconf("SC_AVPHYS_PAGES") * os.sysconf("SC_PAGE_SIZE")
     except (ValueError, OSError, AttributeError):
-        return 1 << 62
+        return None
+
+
+def _rlimit_room() -> int | None:
+    """RLIMIT_AS less the address space in use (None: no limit)."""
+    try:
+        import resource
+
+        soft, _ = resource.getrlimit(resource.RLIMIT_AS)
+    except (ImportError, OSError, ValueError, AttributeError):
+        return None
+    if soft == resource.RLIM_INFINITY or soft < 0:
+        return None
+    return soft - _own_address_space()
+
+
+def _own_address_space() -> int:
+    try:
+        with open("/proc/self/statm", encoding="ascii") as fh:
+            return int(fh.read().split()[0]) * os.sysconf("SC_PAGE_SIZE")
+    except (OSError, ValueError, IndexError, AttributeError):
+        return 0
+
+
+CGROUP_ROOT = "/sys/fs/cgroup"  # tests point this at a folder of their own
+
+
+def _cgroup_room() -> int | None:
+    """memory.max less memory.current of this process's cgroup (v2), or the
+    v1 limit less usage; None when there is no limit."""
+    v2 = [CGROUP_ROOT]
+    v1 = [os.path.join(CGROUP_ROOT, "memory")]
+    try:
+        with open("/proc/self/cgroup", encoding="ascii") as fh:
+            for line in fh:
+                parts = line.rstrip("\n").split(":", 2)
+                if len(parts) != 3 or parts[2] in ("", "/"):
+                    continue
+                if parts[0] == "0":
+                    v2.insert(0, os.path.join(CGROUP_ROOT, parts[2].lstrip("/")))
+                elif "memory" in parts[1].split(","):
+                    v1.insert(0, os.path.join(CGROUP_ROOT, "memory", parts[2].lstrip("/")))
+    except OSError:
+        pass
+    rooms = [_room(os.path.join(f, "memory.max"), os.path.join(f, "memory.current")) for f in v2]
+    rooms += [_room(os.path.join(f, "memory.limit_in_bytes"), os.path.join(f, "memory.usage_in_bytes")) for f in v1]
+    rooms = [r for r in rooms if r is not None]
+    return min(rooms) if rooms else None
+
+
+def _room(limit_file: str, usage_file: str) -> int | None:
+    try:
+        with open(limit_file, encoding="ascii") as fh:
+            limit_text = fh.read().strip()
+    except OSError:
+        return None
+    if limit_text == "max":
+        return None
+    try:
+        limit = int(limit_text)
+    except ValueError:
+        return None
+    if limit >= 1 << 60:  # cgroup v1 writes a huge number for "no limit"
+        return None
+    try:
+        with open(usage_file, encoding="ascii") as fh:
+            usage = int(fh.read().strip())
+    except (OSError, ValueError):
+        usage = 0
+    return limit - usage
 
 
 def set_available_memory(nbytes: int | None) -> None:

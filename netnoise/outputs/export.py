@@ -44,16 +44,20 @@ input-referred density at a frequency where the signal gain is exactly zero:
 that entry is ``null``.
 
 Every file is written atomically (a temporary file in the same folder, then
-``os.replace``), so a failure never leaves a half-written file behind.
+``os.replace``), so a failure never leaves a half-written file behind; a
+symbolic link is followed (the file it names is replaced), and a device or
+FIFO (``/dev/null``, a named pipe) is written to directly, never replaced.
 """
 
 from __future__ import annotations
 
 import csv
+import errno
 import io
 import json
 import math
 import os
+import stat
 import sys
 import tempfile
 from collections.abc import Callable
@@ -79,18 +83,38 @@ __all__ = ["result_to_dict", "to_json", "to_csv", "write_json", "write_csv", "cs
 def atomic_write(path: str | os.PathLike, write: Callable[[IO], None], *, binary: bool = False) -> None:
     """Call ``write(file)`` on a temporary file beside ``path``, then move it
     into place.  On any failure the temporary file is removed and ``path`` is
-    left as it was."""
+    left as it was.
+
+    Only a regular file (or a new one) is replaced so: a symbolic link is
+    followed and the file it names is replaced (the link stays); a device
+    (``/dev/null``), a FIFO or a pipe (``/dev/stdout``) is written to
+    directly, never replaced by a regular file; a folder is an
+    IsADirectoryError."""
     target = os.fspath(path)
-    folder = os.path.dirname(os.path.abspath(target))
+    mode = "wb" if binary else "w"
+    kwargs = {} if binary else {"encoding": "utf-8", "newline": ""}
+    try:
+        info: os.stat_result | None = os.stat(target)  # links followed
+    except FileNotFoundError:
+        info = None
+    if info is not None and stat.S_ISDIR(info.st_mode):
+        raise IsADirectoryError(errno.EISDIR, os.strerror(errno.EISDIR), target)
+    if info is not None and not stat.S_ISREG(info.st_mode):
+        with open(target, mode, **kwargs) as handle:  # a device, FIFO or pipe: no rename
+            write(handle)
+        return
+    target = os.path.realpath(target)  # a link: replace the file it names, keep the link
+    folder = os.path.dirname(target)
     fd, tmp = tempfile.mkstemp(dir=folder, prefix=f".{os.path.basename(target)}.", suffix=".part")
     try:
-        mode = "wb" if binary else "w"
-        kwargs = {} if binary else {"encoding": "utf-8", "newline": ""}
         with os.fdopen(fd, mode, **kwargs) as handle:
             write(handle)
             handle.flush()
             os.fsync(handle.fileno())
-        _give_default_permissions(tmp)
+        if info is not None:  # the file replaced keeps its permissions
+            os.chmod(tmp, stat.S_IMODE(info.st_mode))
+        else:
+            _give_default_permissions(tmp)
         os.replace(tmp, target)
     except BaseException:
         try:

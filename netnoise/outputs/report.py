@@ -252,6 +252,19 @@ def _budget(result: NoiseResult, top: int | None, group_by: str = "source") -> l
     return lines
 
 
+NAMES_SHOWN = 10  # names listed in a line of the report before the rest are counted
+
+
+def name_list(names: list[str], shown: int = NAMES_SHOWN) -> str:
+    """'R1, R2 and R3'; a long list keeps its first ``shown`` names and counts
+    the rest ('R1, R2, … and 9,990 more'), so a line stays a line."""
+    if len(names) <= 1:
+        return "".join(names)
+    if len(names) <= shown:
+        return ", ".join(names[:-1]) + f" and {names[-1]}"
+    return ", ".join(names[:shown]) + f", … and {len(names) - shown:,} more"
+
+
 def _headline(result: NoiseResult, group_by: str = "source") -> list[str]:
     rows = _rows_of(result, group_by)
     if not rows or result.total_variance <= 0.0:
@@ -260,7 +273,7 @@ def _headline(result: NoiseResult, group_by: str = "source") -> list[str]:
     tied = [c for c in rows if math.isclose(c.share, lead.share, rel_tol=1e-6)]
     kind = {"source": "sources", "element": "elements", "mechanism": "mechanisms"}[group_by]
     if len(tied) > 1:
-        names = ", ".join(c.label for c in tied[:-1]) + f" and {tied[-1].label}"
+        names = name_list([c.label for c in tied])
         return ["", f"Largest {kind}: {names} tie at {_percent(lead.share)} of the output noise power each."]
     if group_by == "mechanism":
         subject = f"Dominant mechanism: {lead.label} ({lead.value})"

@@ -21,6 +21,20 @@ def _db_power(ratio: float) -> float:
     return 10.0 * math.log10(ratio) if ratio > 0 else -math.inf
 
 
+def _db_amplitude(ratio: float) -> float:
+    """20·log10 of an amplitude ratio: the same dB as ``_db_power(ratio**2)``
+    without squaring (which overflows for a ratio above about 1e154)."""
+    if math.isinf(ratio):
+        return math.inf
+    return 20.0 * math.log10(ratio) if ratio > 0 else -math.inf
+
+
+# ranges an --adc card must fall in: far beyond any converter, and narrow enough
+# that no figure (LSB, q/sqrt(fs/2), SNR) overflows or underflows
+ADC_FULL_SCALE_V = (1e-9, 1e6)
+ADC_SAMPLE_RATE_HZ = (1e-3, 1e13)
+
+
 @dataclass(frozen=True)
 class SignalToNoise:
     """A stated signal against the band's output noise."""
@@ -48,7 +62,7 @@ def signal_to_noise(result: NoiseResult, signal_rms: float, *, at: str = "input"
     else:
         raise UsageError(f"the signal is 'input' or 'output', not {at!r}")
     noise = result.total_rms
-    return SignalToNoise(out, noise, _db_power((out / noise) ** 2) if noise > 0 else math.inf)
+    return SignalToNoise(out, noise, _db_amplitude(out / noise) if noise > 0 else math.inf)
 
 
 def ideal_adc_snr_dB(bits: int) -> float:
@@ -89,6 +103,10 @@ def adc_comparison(result: NoiseResult, *, bits: int, full_scale_V: float, sampl
         raise UsageError(f"ADC full scale must be a positive voltage, got {full_scale_V!r}")
     if not (sample_rate_Hz > 0 and math.isfinite(sample_rate_Hz)):
         raise UsageError(f"ADC sample rate must be a positive frequency, got {sample_rate_Hz!r}")
+    if not ADC_FULL_SCALE_V[0] <= full_scale_V <= ADC_FULL_SCALE_V[1]:
+        raise UsageError(f"ADC full scale must be 1 nV to 1 MV peak-to-peak, got {full_scale_V!r} V")
+    if not ADC_SAMPLE_RATE_HZ[0] <= sample_rate_Hz <= ADC_SAMPLE_RATE_HZ[1]:
+        raise UsageError(f"ADC sample rate must be 1 mHz to 10 THz, got {sample_rate_Hz!r} Hz")
     lsb = full_scale_V / 2.0**bits
     q_rms = lsb / math.sqrt(12.0)
     sine_rms = full_scale_V / (2.0 * math.sqrt(2.0))
@@ -101,9 +119,9 @@ def adc_comparison(result: NoiseResult, *, bits: int, full_scale_V: float, sampl
         quantisation_rms_V=q_rms,
         analog_rms_V=analog,
         full_scale_sine_rms_V=sine_rms,
-        ideal_snr_dB=_db_power((sine_rms / q_rms) ** 2),
-        analog_snr_dB=_db_power((sine_rms / analog) ** 2) if analog > 0 else math.inf,
-        combined_snr_dB=_db_power(sine_rms**2 / (analog**2 + q_rms**2)),
+        ideal_snr_dB=_db_amplitude(sine_rms / q_rms),
+        analog_snr_dB=_db_amplitude(sine_rms / analog) if analog > 0 else math.inf,
+        combined_snr_dB=_db_amplitude(sine_rms / math.hypot(analog, q_rms)),
         quantisation_density_V_per_rtHz=q_rms / math.sqrt(sample_rate_Hz / 2.0),
         floor_set_by="analog chain" if analog > q_rms else "converter",
     )

@@ -257,8 +257,10 @@ class NoiseResult:
 
     @property
     def cumulative_rms(self) -> np.ndarray:
-        """(F,) integrated output noise from the band's low edge to each grid point, V rms."""
-        return np.sqrt(self.cumulative_variance)
+        """(F,) integrated output noise from the band's low edge to each grid point, V rms.
+        (On a coarse grid the interpolated running integral can dip a round-off
+        below zero near the low edge: clipped to zero, not a NaN.)"""
+        return np.sqrt(np.maximum(self.cumulative_variance, 0.0))
 
     # --- signal path ----------------------------------------------------
     @property

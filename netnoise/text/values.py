@@ -31,10 +31,11 @@ from __future__ import annotations
 import functools
 import math
 import re
+import sys
 
 from netnoise.engformat import format_quantity
 
-__all__ = ["SUFFIXES", "UNITS", "parse_value", "split_value", "milli_slip_notice"]
+__all__ = ["SUFFIXES", "UNITS", "parse_value", "split_value", "milli_slip_notice", "exact", "SMALLEST_NORMAL"]
 
 SUFFIXES: dict[str, float] = {
     "meg": 1e6,
@@ -81,9 +82,26 @@ def split_value(text: str) -> tuple[float, str, str]:
         number, suffix, unit = match.groups()
         suffix = (suffix or "").lower()
         value = float(number) * SUFFIXES.get(suffix, 1.0)
-        if math.isfinite(value):
+        if math.isfinite(value) and (abs(value) >= SMALLEST_NORMAL or (value == 0 and _written_zero(number))):
             return value, suffix, (unit or "").lower()
     return _split_checked(text)
+
+
+SMALLEST_NORMAL = sys.float_info.min  # 2.2e-308: below it a double loses digits, then reads 0
+
+
+def _written_zero(number: str) -> bool:
+    """True when the digits before any exponent are all zeros ('0', '0.0e-5')."""
+    mantissa = re.split("[eE]", number)[0]
+    return not any(ch in "123456789" for ch in mantissa)
+
+
+def exact(x: float) -> str:
+    """``x`` for a message: as short as ``:g`` when that reads back as ``x``,
+    else with every digit needed (1.0000001, not 1), so the value shown is the
+    one written."""
+    short = f"{x:g}"
+    return short if float(short) == x else repr(float(x))
 
 
 def _shown(text: str) -> str:
@@ -113,6 +131,11 @@ def _split_checked(text: str) -> tuple[float, str, str]:
     value = number * SUFFIXES.get(suffix, 1.0)
     if not math.isfinite(value):
         raise ValueError(f"'{said}' is too large to represent")
+    if abs(value) < SMALLEST_NORMAL and not (value == 0 and _written_zero(match.group())):
+        raise ValueError(
+            f"'{said}' underflows: its size is below {SMALLEST_NORMAL:.3g}, the smallest a double holds "
+            "in full precision (it would read as 0 or lose digits); write 0 for zero"
+        )
     return value, suffix, unit
 
 

@@ -25,6 +25,7 @@ from netnoise.circuit.elements.base import Element
 from netnoise.constants import GROUND
 from netnoise.errors import SourceLocation
 from netnoise.noise.mechanisms import AMPLIFIER_CURRENT, AMPLIFIER_VOLTAGE, NoiseSource, power_density
+from netnoise.text.values import exact
 from netnoise.text.fields import Assignment, shown
 from netnoise.text.source import fail
 
@@ -113,9 +114,9 @@ class OpAmp(Element):
             field_name, what = OPAMP_PARAMS[key]
             if key in ("aol", "gbw", "fp2"):
                 if number <= 0:
-                    raise ctx.fail(f"{name}: {key} ({what}) must be above 0, not {number:g}", value.loc)
+                    raise ctx.fail(f"{name}: {key} ({what}) must be above 0, not {exact(number)}", value.loc)
             elif number < 0:
-                raise ctx.fail(f"{name}: {key} ({what}) cannot be negative ({number:g})", value.loc)
+                raise ctx.fail(f"{name}: {key} ({what}) cannot be negative ({exact(number)})", value.loc)
             fields[field_name] = number
         model = OpAmpModel(name=model_name, **fields)
         nodes = (ctx.node(statement.nodes[0]), ctx.node(statement.nodes[1]), ctx.node(statement.nodes[2]))

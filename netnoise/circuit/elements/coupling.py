@@ -13,6 +13,7 @@ import numpy as np
 
 from netnoise.circuit.elements.base import BuildContext, Element
 from netnoise.errors import SourceLocation
+from netnoise.text.values import exact
 from netnoise.text.fields import LineReader, Value, Word
 
 __all__ = ["MutualCoupling", "Coupling"]
@@ -55,7 +56,7 @@ class MutualCoupling(Element):
         k = ctx.number(statement.value)
         if not 0 < abs(k) <= 1:
             raise ctx.fail(
-                f"the coupling coefficient of {ctx.name} must satisfy 0 < |k| <= 1, not {k:g}",
+                f"the coupling coefficient of {ctx.name} must satisfy 0 < |k| <= 1, not {exact(k)}",
                 statement.value.loc,
             )
         first, second = (ctx.local_name(w) for w in statement.inductors)

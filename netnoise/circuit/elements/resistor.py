@@ -27,7 +27,7 @@ from netnoise.noise.mechanisms import (
 )
 from netnoise.text.fields import Keyed, LineReader, Word, describe
 from netnoise.text.source import fail
-from netnoise.text.values import milli_slip_notice
+from netnoise.text.values import exact, milli_slip_notice
 
 __all__ = ["Resistor", "NOISE_INDEX_PLAUSIBLE_DB"]
 
@@ -100,7 +100,7 @@ class Resistor(TwoTerminal):
             temperature = ctx.number(statement.temperature)
             if temperature <= ABSOLUTE_ZERO_C:
                 raise ctx.fail(
-                    f"{ctx.name}: temp={temperature:g} °C is at or below absolute zero (-273.15 °C)",
+                    f"{ctx.name}: temp={exact(temperature)} °C is at or below absolute zero (-273.15 °C)",
                     statement.temperature.loc,
                     "temp= is the resistor's own temperature in degrees Celsius",
                 )
@@ -108,7 +108,7 @@ class Resistor(TwoTerminal):
         low, high = NOISE_INDEX_PLAUSIBLE_DB
         if noise_index is not None and not low <= noise_index <= high:
             ctx.notice(
-                f"{ctx.name}: noise index ni={noise_index:g} dB is outside "
+                f"{ctx.name}: noise index ni={exact(noise_index)} dB is outside "
                 f"{low:g} .. +{high:g} dB, where resistors' noise indices lie; check the value "
                 f"(it is dB re 1 µV per volt per decade)",
                 statement.noise_index.loc,

@@ -18,6 +18,7 @@ from typing import Any, ClassVar, Iterator
 from netnoise.circuit.elements.base import BuildContext, TwoTerminal, branch_kcl, current_into, value_nodes
 from netnoise.errors import SourceLocation
 from netnoise.noise.mechanisms import SHOT, SOURCE, NoiseSource, power_density, shot_current_density
+from netnoise.text.values import exact
 from netnoise.text.fields import Call, Keyed, LineReader, Value, Word, is_value
 from netnoise.text.source import fail
 
@@ -147,13 +148,13 @@ def _noise_spec(statement: IndependentSource, ctx: BuildContext, unit: str) -> N
     name = ctx.name
     white = ctx.number(statement.noise)
     if white < 0:
-        raise ctx.fail(f"{name}: the noise density cannot be negative ({white:g} {unit})", statement.noise.loc)
+        raise ctx.fail(f"{name}: the noise density cannot be negative ({exact(white)} {unit})", statement.noise.loc)
     corner = 0.0
     if statement.corner is not None:
         corner = ctx.number(statement.corner)
         if corner < 0:
             raise ctx.fail(
-                f"{name}: the noise corner cannot be negative ({corner:g} Hz)",
+                f"{name}: the noise corner cannot be negative ({exact(corner)} Hz)",
                 statement.corner.loc,
                 "corner=0 (or no corner=) means white noise only",
             )
@@ -162,7 +163,7 @@ def _noise_spec(statement: IndependentSource, ctx: BuildContext, unit: str) -> N
         slope = ctx.number(statement.slope)
         if not 0 < slope <= 3:
             raise ctx.fail(
-                f"{name}: the noise slope must satisfy 0 < slope <= 3, not {slope:g}",
+                f"{name}: the noise slope must satisfy 0 < slope <= 3, not {exact(slope)}",
                 statement.slope.loc,
                 "slope=1 is 1/f noise, slope=2 is 1/f² (random walk)",
             )
