@@ -127,7 +127,7 @@ def test_frequencies_are_written_cleanly():
     assert frequency_text(1.1220184543019633) == "1.1220184543019633"  # not near a short decimal: exact repr
     assert frequency_text(1e-20) == "1e-20"
     # a value 15 digits cannot reach within 4 ulp keeps its exact repr
-    odd = 0.1 + 40 * np.finfo(float).eps
+    odd = 0.1 + 40 * float(np.finfo(float).eps)
     assert frequency_text(odd) == repr(odd)
     result = samples.white(frequency_Hz=np.array([0.10000000000000002, 0.2, 0.30000000000000004]), low=0.1, high=0.3,
                            source_density=np.full((1, 3), 1e-14), cumulative_variance=np.array([0.0, 1e-15, 2e-15]))
