@@ -6,7 +6,8 @@
                              [--band LOW HIGH] [--points N] [--temp CELSIUS]
                              [--source-resistor NAME] [--signal RMS [--signal-at input|output]]
                              [--adc BITS RANGE RATE] [--group element|mechanism] [--dc]
-                             [--json PATH|-] [--csv PATH] [--plot PATH] [--top N]
+                             [--json PATH|-] [--csv PATH] [--plot PATH]... [--plot-input-referred]
+                             [--html PATH] [--top N]
     netnoise --version
 
 The text report goes to standard output.  With ``--json -`` standard output
@@ -130,7 +131,17 @@ def build_parser() -> argparse.ArgumentParser:
     out = analyze.add_argument_group("outputs")
     out.add_argument("--json", metavar="PATH", help="write the result as JSON ('-' for standard output)")
     out.add_argument("--csv", metavar="PATH", help="write the noise spectrum as CSV")
-    out.add_argument("--plot", metavar="PATH", help="write a plot (.png, .svg or .pdf)")
+    out.add_argument("--plot", metavar="PATH", action="append", help="write a plot (.png, .svg or .pdf); give it again for more files")
+    out.add_argument(
+        "--plot-input-referred",
+        action="store_true",
+        help="plot the density divided by the signal gain |H(f)|² (needs an input source)",
+    )
+    out.add_argument(
+        "--html",
+        metavar="PATH",
+        help="write a self-contained HTML report (tables, inline plots) for a design review",
+    )
     out.add_argument(
         "--top",
         type=_count(0),
@@ -242,13 +253,19 @@ def _same_file(a: str, b: str) -> bool:
         return False
 
 
+def _output_paths(args: argparse.Namespace) -> list[tuple[str, str | None]]:
+    """(option, path) of every output asked for, each --plot on its own."""
+    plots = [("--plot", path) for path in (args.plot or [])]
+    return [("--json", args.json), ("--csv", args.csv), *plots, ("--html", getattr(args, "html", None))]
+
+
 def check_outputs(args: argparse.Namespace) -> None:
     """Refuse outputs that would overwrite the netlist or each other, before any work."""
     from netnoise.outputs.plotting import SAVE_FORMATS
 
     netlist = os.path.realpath(args.netlist)
     seen: dict[str, str] = {}
-    for option, path in (("--json", args.json), ("--csv", args.csv), ("--plot", args.plot)):
+    for option, path in _output_paths(args):
         if path is None:
             continue
         if path == "-":
@@ -269,8 +286,9 @@ def check_outputs(args: argparse.Namespace) -> None:
                 "does not exist; create it first or choose another path"
             )
         seen[real] = option
-    if args.plot is not None and os.path.splitext(args.plot)[1].lower() not in SAVE_FORMATS:
-        raise UsageError(f"--plot {args.plot}: use a file name ending in {', '.join(SAVE_FORMATS)}")
+    for plot in args.plot or []:
+        if os.path.splitext(plot)[1].lower() not in SAVE_FORMATS:
+            raise UsageError(f"--plot {plot}: use a file name ending in {', '.join(SAVE_FORMATS)}")
 
 
 # --- the command ------------------------------------------------------------
@@ -301,7 +319,7 @@ def _read_files(circuit) -> set[str]:
 def check_outputs_against_includes(args: argparse.Namespace, circuit) -> None:
     """Refuse an output that would overwrite a file the netlist includes."""
     read = _read_files(circuit)
-    for option, path in (("--json", args.json), ("--csv", args.csv), ("--plot", args.plot)):
+    for option, path in _output_paths(args):
         if path not in (None, "-") and os.path.realpath(path) in read:
             raise UsageError(f"{option} {path} would overwrite a file the netlist includes; choose another file name")
 
@@ -372,7 +390,13 @@ def run_analyze(args: argparse.Namespace) -> int:
     # build every text first: a refusal (a NaN, an infinity) prints and writes nothing
     report = format_report(result, top=None if args.top == 0 else args.top, **extras)
     json_text = to_json(result, **extras) if args.json is not None else None
-    csv_text = to_csv(result) if args.csv is not None else None
+    csv_text = to_csv(result, args.group) if args.csv is not None else None
+    plots = _plot_files(result, args)
+    html_text = None
+    if args.html is not None:
+        from netnoise.outputs.html_report import to_html
+
+        html_text = to_html(result, top=None if args.top == 0 else args.top, **extras)
 
     if args.json == "-":
         sys.stdout.write(json_text)
@@ -386,11 +410,29 @@ def run_analyze(args: argparse.Namespace) -> int:
         _write("--json", args.json, lambda: atomic_write(args.json, lambda handle: handle.write(json_text)))
     if csv_text is not None:
         _write("--csv", args.csv, lambda: atomic_write(args.csv, lambda handle: handle.write(csv_text)))
-    if args.plot is not None:
-        from netnoise.outputs.plotting import save_plot
-
-        _write("--plot", args.plot, lambda: save_plot(result, args.plot))
+    for path, data in plots:
+        _write("--plot", path, lambda: atomic_write(path, lambda handle: handle.write(data), binary=True))
+    if html_text is not None:
+        _write("--html", args.html, lambda: atomic_write(args.html, lambda handle: handle.write(html_text)))
     return 0
+
+
+def _plot_files(result, args: argparse.Namespace) -> list[tuple[str, bytes]]:
+    """(path, file contents) of every --plot, drawn once per format, before anything is written."""
+    if args.plot_input_referred and not args.plot:
+        raise UsageError("--plot-input-referred changes what --plot draws; give --plot PATH too")
+    if not args.plot:
+        return []
+    from netnoise.outputs.plotting import SAVE_FORMATS, plot_bytes
+
+    drawn: dict[str, bytes] = {}
+    files = []
+    for path in args.plot:
+        fmt = SAVE_FORMATS[os.path.splitext(path)[1].lower()]
+        if fmt not in drawn:
+            drawn[fmt] = plot_bytes(result, fmt, input_referred=args.plot_input_referred)
+        files.append((path, drawn[fmt]))
+    return files
 
 
 def _internal_error(error: BaseException) -> int:
