@@ -83,7 +83,7 @@ def budget_table_html(result: NoiseResult, *, group_by: str = "source", rows: in
     if len(shown) < len(contributions):
         rest = contributions[len(shown) :]
         share = sum(r.share for r in rest)
-        lines.append(f'<tr><td></td><td colspan="4">({len(rest)} more rows)</td><td style="text-align:right">{100.0 * share:.1f} %</td><td></td></tr>')
+        lines.append(f'<tr><td></td><td colspan="4">({len(rest)} more row{"s" if len(rest) > 1 else ""})</td><td style="text-align:right">{100.0 * share:.1f} %</td><td></td></tr>')
     lines += ["</tbody>", "</table>"]
     return "\n".join(lines)
 
