@@ -97,6 +97,9 @@ class NoisePlot:
     axes: tuple
     lines: tuple
 
+    def __repr__(self) -> str:
+        return f"<NoisePlot: {len(self.axes)} axes, {len(self.lines)} lines>"
+
     def _repr_png_(self) -> bytes:
         buffer = io.BytesIO()
         self.figure.savefig(buffer, format="png", dpi=100)
