@@ -17,7 +17,7 @@ from netnoise.engine.dc import operating_point
 from netnoise.errors import CircuitError, NetlistError, NetnoiseError, UsageError
 from netnoise.outputs.export import result_to_dict, write_csv, write_json
 from netnoise.netlist import load_netlist, parse_netlist
-from netnoise.outputs.plotting import plot_noise, save_plot  # matplotlib itself loads only when a plot is drawn
+from netnoise.outputs.plotting import NoisePlot, plot_cumulative, plot_density, plot_noise, save_plot  # matplotlib loads only when a plot is drawn
 from netnoise.outputs.report import format_report
 from netnoise.results.result import Contribution, NoiseResult
 
@@ -35,6 +35,9 @@ __all__ = [
     "parse_netlist",
     "format_report",
     "plot_noise",
+    "plot_density",
+    "plot_cumulative",
+    "NoisePlot",
     "save_plot",
     "write_json",
     "write_csv",

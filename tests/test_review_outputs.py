@@ -148,3 +148,11 @@ def test_html_report_renders_offline_in_a_browser(divider, tmp_path):
     dark = (pixels.mean(axis=2) < 0.5).mean(axis=1)  # fraction of dark pixels in each row
     inked_rows = np.flatnonzero(dark > 0.02)
     assert inked_rows.size > 300, "the page shows less than a figure's worth of drawing"
+
+
+def test_a_noiseless_circuit_reports_zero_density_not_a_clamp(tmp_path, capsys):
+    path = tmp_path / "silent.cir"
+    path.write_text(SILENT)
+    assert run("analyze", path) == 0
+    out = capsys.readouterr().out
+    assert "at   10 Hz   0 V/√Hz" in out and "e-1" not in out

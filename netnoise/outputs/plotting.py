@@ -155,7 +155,7 @@ def _check_has_noise(result: NoiseResult) -> None:
     if not np.any(result.output_density > 0.0) or not result.total_variance > 0.0:
         raise CircuitError(
             "nothing to plot: no noise source reaches this output (every part is noiseless, or none "
-            "is connected to it); the report lists the sources"
+            "is connected to it)"
         )
 
 

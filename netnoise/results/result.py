@@ -339,8 +339,6 @@ class NoiseResult:
             raise ValueError(f"{frequency_Hz} Hz is outside the analysed grid {f[0]:g}..{f[-1]:g} Hz")
         positive = f > 0
         d = self.output_density
-        return float(
-            math.sqrt(
-                math.exp(np.interp(math.log(frequency_Hz), np.log(f[positive]), np.log(np.maximum(d[positive], 1e-300))))
-            )
-        )
+        clamp = 1e-300  # log of zero: a density that is exactly zero stays zero, not 1e-150 V/√Hz
+        power = math.exp(np.interp(math.log(frequency_Hz), np.log(f[positive]), np.log(np.maximum(d[positive], clamp))))
+        return 0.0 if power <= clamp * (1 + 1e-9) else float(math.sqrt(power))
