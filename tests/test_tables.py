@@ -133,3 +133,11 @@ def test_frequencies_are_written_cleanly():
                            source_density=np.full((1, 3), 1e-14), cumulative_variance=np.array([0.0, 1e-15, 2e-15]))
     column = [line.split(",")[0] for line in to_csv(result).splitlines()[1:]]
     assert column == ["0.1", "0.2", "0.3"]
+
+
+def test_import_netnoise_loads_neither_pandas_nor_matplotlib():
+    import subprocess
+
+    code = "import sys, netnoise; print('pandas' in sys.modules, 'matplotlib' in sys.modules)"
+    out = subprocess.run([sys.executable, "-c", code], capture_output=True, text=True, check=True).stdout
+    assert out.split() == ["False", "False"]
