@@ -156,3 +156,17 @@ def test_a_noiseless_circuit_reports_zero_density_not_a_clamp(tmp_path, capsys):
     assert run("analyze", path) == 0
     out = capsys.readouterr().out
     assert "at   10 Hz   0 V/√Hz" in out and "e-1" not in out
+
+
+def test_html_sections_keep_labels_values_and_sentences_whole(divider, tmp_path):
+    report = tmp_path / "adc.html"
+    assert run("analyze", divider, "--adc", "16", "4.096", "1meg", "--html", report) == 0
+    page = report.read_text(encoding="utf-8")
+    # a label holding two spaces stays whole; its value is the next cell
+    assert re.search(r"<tr><th>LSB  q = FS / 2\^N</th><td>62.5 µV</td></tr>", page)  # 4.096 V / 2^16 (arithmetic)
+    assert "<tr><th>floor set by</th>" in page
+    # a sentence wrapped over two lines of the text report is one paragraph here
+    remarks = re.findall(r'<p class="remark">(.*?)</p>', page)
+    assert any(r.startswith("Note: the band ends at 100 kHz") and r.endswith("or to infinity).") for r in remarks), remarks
+    assert re.findall(r'<p class="headline">(.*?)</p>', page)[0].startswith("Largest sources: Rc1 and R2 tie")
+    assert page.rstrip().endswith("</html>") and page.count("Caution: design estimates only") == 1

@@ -36,42 +36,79 @@ pre { background: #f7f7f7; padding: .5rem; overflow-x: auto; }
 """
 
 _RULE = "─"
-_FIELD = re.compile(r"^  (\S(?:.*?\S)?)\s{2,}(\S.*)$")
 _SPOT = re.compile(r"^\s+at\s+(\S.*?)\s{2,}(\S.*)$")
 
 
-def _sections(text: str) -> tuple[list[str], list[tuple[str, list[str]]], list[str]]:
-    """(heading lines, [(section name, body lines)], loose paragraphs) of a text report."""
+def _sections(text: str) -> tuple[list[str], list[tuple[str, list[str], list[str]]]]:
+    """(heading lines, [(section name, body lines, paragraphs after it)]) of a
+    text report.  A paragraph is a block of lines after a section's body (a
+    wrapped sentence, the headline under the budget), joined into one; the
+    caution is left out (the page ends with it)."""
     lines = text.rstrip("\n").split("\n")
     heading: list[str] = []
-    sections: list[tuple[str, list[str]]] = []
-    loose: list[str] = []
+    sections: list[tuple[str, list[str], list[str]]] = []
     i = 0
     while i < len(lines) and lines[i].strip():
         heading.append(lines[i])
         i += 1
     while i < len(lines):
         line = lines[i]
-        if i + 1 < len(lines) and line.strip() and set(lines[i + 1].strip()) == {_RULE} and len(lines[i + 1].strip()) == len(line.strip()):
-            body = []
+        rule = lines[i + 1].strip() if i + 1 < len(lines) else ""
+        if line.strip() and rule and set(rule) == {_RULE} and len(rule) == len(line.strip()):
+            body: list[str] = []
             i += 2
             while i < len(lines) and lines[i].strip():
                 body.append(lines[i])
                 i += 1
-            sections.append((line.strip(), body))
+            sections.append((line.strip(), body, []))
             continue
-        if line.strip():
-            loose.append(line.strip())
+        block = []
+        while i < len(lines) and lines[i].strip():
+            block.append(lines[i].strip())
+            i += 1
+        for paragraph in _sentences(block):
+            if paragraph != CAUTION:
+                if not sections:
+                    sections.append(("", [], []))
+                sections[-1][2].append(paragraph)
         i += 1
-    return heading, sections, loose
+    return heading, sections
+
+
+def _sentences(block: list[str]) -> list[str]:
+    """Wrapped lines joined back into their sentences (a line ending in a full
+    stop ends one)."""
+    out, current = [], []
+    for line in block:
+        current.append(line)
+        if line.endswith("."):
+            out.append(" ".join(current))
+            current = []
+    if current:
+        out.append(" ".join(current))
+    return out
+
+
+def _value_column(body: list[str]) -> int | None:
+    """The column where a section's values start: the end of a run of two or
+    more spaces shared by most of its lines (``_field`` pads every label of a
+    section to one width)."""
+    counts: dict[int, int] = {}
+    for line in body:
+        for match in re.finditer(r"\S( {2,})(?=\S)", line):
+            counts[match.end()] = counts.get(match.end(), 0) + 1
+    if not counts:
+        return None
+    return max(sorted(counts), key=lambda column: counts[column])
 
 
 def _field_table(body: list[str]) -> str:
     rows = []
+    column = _value_column(body)
     for line in body:
-        match = _FIELD.match(line)
-        if match and len(line) - len(line.lstrip()) == 2:
-            rows.append(f"<tr><th>{html.escape(match.group(1))}</th><td>{html.escape(match.group(2))}</td></tr>")
+        label, value = (line[:column].strip(), line[column:].strip()) if column else ("", "")
+        if column and label and value and line[column - 2 : column] == "  " and len(line) - len(line.lstrip()) == 2:
+            rows.append(f"<tr><th>{html.escape(label)}</th><td>{html.escape(value)}</td></tr>")
         else:  # a wrapped sentence: a row of its own across the table
             rows.append(f'<tr><td colspan="2">{html.escape(line.strip())}</td></tr>')
     return '<table class="fields">\n' + "\n".join(rows) + "\n</table>"
@@ -126,7 +163,7 @@ def to_html(result: NoiseResult, *, top: int | None = 15, group_by: str | None =
     input source gets a second, input-referred plot."""
     group_by = group_by or "source"
     text = format_report(result, top=top, group_by=group_by, **extras)
-    heading, sections, loose = _sections(text)
+    heading, sections = _sections(text)
     title = heading[0] if heading else "Noise budget"
     parts = [
         "<!DOCTYPE html>",
@@ -139,10 +176,11 @@ def to_html(result: NoiseResult, *, top: int | None = 15, group_by: str | None =
         "<body>",
         f"<h1>{html.escape(title)}</h1>",
     ]
-    for name, body in sections:
-        parts.append(_section_html(name, body, result, top, group_by))
-        if name.startswith("Budget"):
-            parts += [f'<p class="headline">{html.escape(line)}</p>' for line in loose if line != CAUTION]
+    for name, body, paragraphs in sections:
+        if name:
+            parts.append(_section_html(name, body, result, top, group_by))
+        kind = "headline" if name.startswith("Budget") else "remark"  # the budget's verdict stands out
+        parts += [f'<p class="{kind}">{html.escape(paragraph)}</p>' for paragraph in paragraphs]
     parts.append('<section class="figure">\n<h2>Output noise</h2>')
     parts.append(_svg(result, input_referred=False, salt="netnoise-output", top=plot_top))
     parts.append("</section>")
