@@ -165,5 +165,6 @@ def test_input_referred_density_option():
     np.testing.assert_allclose(total.get_ydata(), np.sqrt(result.input_referred_density) / 1e-9, rtol=1e-12)
     np.testing.assert_allclose(total.get_ydata(), result.output_density_rt / 2 / 1e-9, rtol=1e-12)
     assert ax.get_ylabel() == "input-referred noise density (nV/√Hz)"
+    assert handle.figure.get_suptitle().startswith("three resistors: noise referred to VIN")
     with pytest.raises(UsageError, match="input source"):
         plotting.plot_noise(samples.white(), input_referred=True)

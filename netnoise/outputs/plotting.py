@@ -354,11 +354,12 @@ def _style(ax: Axes, result: NoiseResult) -> None:
     _plain_log_labels(ax.xaxis, low, high, _frequency_tick)
 
 
-def _heading(result: NoiseResult) -> str:
+def _heading(result: NoiseResult, input_referred: bool = False) -> str:
     import textwrap
 
     title = result.title.strip() or "noise"
-    heading = f"{title}: output noise at {result.temperature_K - 273.15:.1f} °C"
+    what = f"noise referred to {result.input_source}" if input_referred else "output noise"
+    heading = f"{title}: {what} at {result.temperature_K - 273.15:.1f} °C"
     return "\n".join(textwrap.wrap(heading, width=80))
 
 
@@ -394,7 +395,7 @@ def plot_density(result: NoiseResult, *, ax: Axes | None = None, top: int = 5, i
     if ax is None:
         fig = _new_figure(1)
         ax = fig.subplots()
-        fig.suptitle(_heading(result), fontsize="medium")
+        fig.suptitle(_heading(result, input_referred), fontsize="medium")
     elif not _is_axes(ax):
         raise UsageError("plot_density(ax=...) takes one matplotlib Axes")
     lines = _draw_density(ax, result, top, input_referred=input_referred, label=label)
@@ -471,7 +472,7 @@ def plot_noise(result: NoiseResult, *, top: int = 5, ax=None, input_referred: bo
     for ax_ in (density_ax, cumulative_ax):
         _style(ax_, result)
     if made:
-        fig.suptitle(_heading(result), fontsize="medium")
+        fig.suptitle(_heading(result, input_referred), fontsize="medium")
     return NoisePlot(fig, (density_ax, cumulative_ax), tuple(lines))
 
 
