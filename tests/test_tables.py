@@ -141,3 +141,8 @@ def test_import_netnoise_loads_neither_pandas_nor_matplotlib():
     code = "import sys, netnoise; print('pandas' in sys.modules, 'matplotlib' in sys.modules)"
     out = subprocess.run([sys.executable, "-c", code], capture_output=True, text=True, check=True).stdout
     assert out.split() == ["False", "False"]
+
+
+def test_repr_of_a_one_source_result():
+    # 100 nV/√Hz over 4 Hz is 200 nV rms (common practice: white noise power grows with bandwidth)
+    assert repr(samples.white()) == "<NoiseResult 'white check': v(out), 1 Hz..5 Hz, 200 nV rms, 1 source, dominant R1 (thermal, 100.0 %)>"

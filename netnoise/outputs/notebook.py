@@ -51,7 +51,7 @@ def short_repr(result: NoiseResult) -> str:
     total = format_quantity(result.total_rms, "V") if np.isfinite(result.total_rms) else "not finite"
     return (
         f"<NoiseResult {result.title.strip()!r}: {_output_text(result)}, {_band_text(result)}, "
-        f"{total} rms, {len(result.source_names)} sources, {dominant}>"
+        f"{total} rms, {len(result.source_names)} source{'' if len(result.source_names) == 1 else 's'}, {dominant}>"
     )
 
 
