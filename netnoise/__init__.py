@@ -30,6 +30,9 @@ _LAZY = {
     "parse_netlist": ("netnoise.netlist.load", "parse_netlist"),
     "format_report": ("netnoise.outputs.report", "format_report"),
     "plot_noise": ("netnoise.outputs.plotting", "plot_noise"),  # matplotlib itself loads only when a plot is drawn
+    "plot_density": ("netnoise.outputs.plotting", "plot_density"),
+    "plot_cumulative": ("netnoise.outputs.plotting", "plot_cumulative"),
+    "NoisePlot": ("netnoise.outputs.plotting", "NoisePlot"),
     "save_plot": ("netnoise.outputs.plotting", "save_plot"),
     "write_json": ("netnoise.outputs.export", "write_json"),
     "write_csv": ("netnoise.outputs.export", "write_csv"),
@@ -51,6 +54,9 @@ __all__ = [
     "parse_netlist",
     "format_report",
     "plot_noise",
+    "plot_density",
+    "plot_cumulative",
+    "NoisePlot",
     "save_plot",
     "write_json",
     "write_csv",
@@ -96,7 +102,7 @@ if TYPE_CHECKING:  # what the lazy names are, for type checkers and readers
     from netnoise.engine.dc import operating_point
     from netnoise.netlist.load import load_netlist, parse_netlist
     from netnoise.outputs.export import result_to_dict, write_csv, write_json
-    from netnoise.outputs.plotting import plot_noise, save_plot
+    from netnoise.outputs.plotting import NoisePlot, plot_cumulative, plot_density, plot_noise, save_plot
     from netnoise.outputs.report import format_report
     from netnoise.results import figures
     from netnoise.results.result import Contribution, NoiseResult

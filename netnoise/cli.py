@@ -6,7 +6,8 @@
                              [--band LOW HIGH] [--points N] [--temp CELSIUS]
                              [--source-resistor NAME] [--signal RMS [--signal-at input|output]]
                              [--adc BITS RANGE RATE] [--group element|mechanism] [--dc]
-                             [--json PATH|-] [--csv PATH] [--plot PATH] [--top N]
+                             [--json PATH|-] [--csv PATH] [--plot PATH]... [--plot-input-referred]
+                             [--html PATH] [--top N]
     netnoise --version
 
 The text report goes to standard output.  With ``--json -`` standard output
@@ -181,7 +182,17 @@ def build_parser() -> argparse.ArgumentParser:
     out = analyze.add_argument_group("outputs")
     out.add_argument("--json", metavar="PATH", help="write the result as JSON ('-' for standard output)")
     out.add_argument("--csv", metavar="PATH", help="write the noise spectrum as CSV")
-    out.add_argument("--plot", metavar="PATH", help="write a plot (.png, .svg or .pdf)")
+    out.add_argument("--plot", metavar="PATH", action="append", help="write a plot (.png, .svg or .pdf); give it again for more files")
+    out.add_argument(
+        "--plot-input-referred",
+        action="store_true",
+        help="plot the density divided by the signal gain |H(f)|² (needs an input source)",
+    )
+    out.add_argument(
+        "--html",
+        metavar="PATH",
+        help="write a self-contained HTML report (tables, inline plots) for a design review",
+    )
     out.add_argument(
         "--top",
         type=_count(0),
@@ -251,7 +262,7 @@ def _add_sweep_command(commands) -> None:
     out = sweep.add_argument_group("outputs")
     out.add_argument("--json", metavar="PATH", help="write the sweep as JSON ('-' for standard output)")
     out.add_argument("--csv", metavar="PATH", help="write the sweep's points as CSV")
-    out.add_argument("--plot", metavar="PATH", help="write the trade-off plot (.png, .svg or .pdf)")
+    out.add_argument("--plot", metavar="PATH", action="append", help="write the trade-off plot (.png, .svg or .pdf); may repeat")
 
 
 # --- option values --------------------------------------------------------
@@ -400,13 +411,19 @@ def _check_writable(option: str, path: str, real: str, folder: str) -> None:
         )
 
 
+def _output_paths(args: argparse.Namespace) -> list[tuple[str, str | None]]:
+    """(option, path) of every output asked for, each --plot on its own."""
+    plots = [("--plot", path) for path in (args.plot or [])]
+    return [("--json", args.json), ("--csv", args.csv), *plots, ("--html", getattr(args, "html", None))]
+
+
 def check_outputs(args: argparse.Namespace) -> None:
     """Refuse outputs that would overwrite the netlist or each other, before any work."""
     from netnoise.outputs.plotting import SAVE_FORMATS
 
     netlist = os.path.realpath(args.netlist)
     seen: dict[str, str] = {}
-    for option, path in (("--json", args.json), ("--csv", args.csv), ("--plot", args.plot)):
+    for option, path in _output_paths(args):
         if path is None:
             continue
         if path == "-":
@@ -428,8 +445,9 @@ def check_outputs(args: argparse.Namespace) -> None:
             )
         _check_writable(option, path, real, folder)
         seen[real] = option
-    if args.plot is not None and os.path.splitext(args.plot)[1].lower() not in SAVE_FORMATS:
-        raise UsageError(f"--plot {args.plot}: use a file name ending in {', '.join(SAVE_FORMATS)}")
+    for plot in args.plot or []:
+        if os.path.splitext(plot)[1].lower() not in SAVE_FORMATS:
+            raise UsageError(f"--plot {plot}: use a file name ending in {', '.join(SAVE_FORMATS)}")
 
 
 # --- the command ------------------------------------------------------------
@@ -482,7 +500,7 @@ def _read_files(circuit) -> set[str]:
 def check_outputs_against_includes(args: argparse.Namespace, circuit) -> None:
     """Refuse an output that would overwrite a file the netlist includes."""
     read = _read_files(circuit)
-    for option, path in (("--json", args.json), ("--csv", args.csv), ("--plot", args.plot)):
+    for option, path in _output_paths(args):
         if path not in (None, "-") and os.path.realpath(path) in read:
             raise UsageError(f"{option} {path} would overwrite a file the netlist includes; choose another file name")
 
@@ -611,12 +629,13 @@ def run_sweep(args: argparse.Namespace) -> int:
     if args.csv is not None:
         csv_text = sweep_to_csv(result)
         _write("--csv", args.csv, lambda: atomic_write(args.csv, lambda handle: handle.write(csv_text)))
-    if args.plot is not None:
+    if args.plot:
         from netnoise.outputs.plotting import save_figure
         from netnoise.outputs.study_plots import plot_tradeoff
 
         drawn = plot_tradeoff(result, units=units, target_rms=target, answer=answer)
-        _write("--plot", args.plot, lambda: save_figure(drawn.figure, args.plot))
+        for path in args.plot:
+            _write("--plot", path, lambda: save_figure(drawn.figure, path))
     return 0
 
 
@@ -660,8 +679,14 @@ def _compute(args: argparse.Namespace, circuit, band, temperature, signal, signa
     # build every text first: a refusal (a NaN, an infinity) prints and writes nothing
     report = format_report(result, top=None if args.top == 0 else args.top, advice=ADVICE, **extras)
     json_text = to_json(result, **extras) if args.json is not None else None
-    csv_text = to_csv(result) if args.csv is not None else None
-    return result, report, json_text, csv_text
+    csv_text = to_csv(result, args.group) if args.csv is not None else None
+    plots = _plot_files(result, args)
+    html_text = None
+    if args.html is not None:
+        from netnoise.outputs.html_report import to_html
+
+        html_text = to_html(result, top=None if args.top == 0 else args.top, **extras)
+    return result, report, json_text, csv_text, plots, html_text
 
 
 @contextlib.contextmanager
@@ -706,7 +731,9 @@ def run_analyze(args: argparse.Namespace) -> int:
     circuit = _load(args.netlist, _confinement(args))
     check_outputs_against_includes(args, circuit)
     with _numeric_warnings_refused():  # numbers from an overflow are never printed, nor the warning
-        result, report, json_text, csv_text = _compute(args, circuit, band, temperature, signal, signal_at, converter)
+        result, report, json_text, csv_text, plots, html_text = _compute(
+            args, circuit, band, temperature, signal, signal_at, converter
+        )
 
     if args.json == "-":
         sys.stdout.write(json_text)
@@ -720,11 +747,29 @@ def run_analyze(args: argparse.Namespace) -> int:
         _write("--json", args.json, lambda: atomic_write(args.json, lambda handle: handle.write(json_text)))
     if csv_text is not None:
         _write("--csv", args.csv, lambda: atomic_write(args.csv, lambda handle: handle.write(csv_text)))
-    if args.plot is not None:
-        from netnoise.outputs.plotting import save_plot
-
-        _write("--plot", args.plot, lambda: save_plot(result, args.plot))
+    for path, data in plots:
+        _write("--plot", path, lambda: atomic_write(path, lambda handle: handle.write(data), binary=True))
+    if html_text is not None:
+        _write("--html", args.html, lambda: atomic_write(args.html, lambda handle: handle.write(html_text)))
     return 0
+
+
+def _plot_files(result, args: argparse.Namespace) -> list[tuple[str, bytes]]:
+    """(path, file contents) of every --plot, drawn once per format, before anything is written."""
+    if args.plot_input_referred and not args.plot:
+        raise UsageError("--plot-input-referred changes what --plot draws; give --plot PATH too")
+    if not args.plot:
+        return []
+    from netnoise.outputs.plotting import SAVE_FORMATS, plot_bytes
+
+    drawn: dict[str, bytes] = {}
+    files = []
+    for path in args.plot:
+        fmt = SAVE_FORMATS[os.path.splitext(path)[1].lower()]
+        if fmt not in drawn:
+            drawn[fmt] = plot_bytes(result, fmt, input_referred=args.plot_input_referred)
+        files.append((path, drawn[fmt]))
+    return files
 
 
 def _internal_error(error: BaseException) -> int:

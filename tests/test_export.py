@@ -156,7 +156,8 @@ def test_csv_round_trips_through_loadtxt(tmp_path):
     write_csv(result, target)
     header = target.read_text(encoding="utf-8").splitlines()[0].split(",")
     assert header == csv_header(result)
-    assert header == ["frequency_Hz", "total_output_V_per_rtHz", "R3_V_per_rtHz", "R2_V_per_rtHz", "R1_V_per_rtHz"]
+    # issue 15: a source column is <name>__V_per_rtHz (export.column_name)
+    assert header == ["frequency_Hz", "total_output_V_per_rtHz", "R3__V_per_rtHz", "R2__V_per_rtHz", "R1__V_per_rtHz"]
     table = np.loadtxt(target, delimiter=",", skiprows=1)
     assert table.shape == (result.frequency_Hz.size, 2 + 3)
     np.testing.assert_allclose(table[:, 0], result.frequency_Hz, rtol=1e-15)

@@ -76,7 +76,7 @@ if TYPE_CHECKING:  # pragma: no cover
     from netnoise.engine.dc import OperatingPoint
     from netnoise.results.figures import AdcComparison, SignalToNoise
 
-__all__ = ["result_to_dict", "to_json", "to_csv", "write_json", "write_csv", "csv_header", "atomic_write", "NOISE_FIGURE_COLUMN"]
+__all__ = ["result_to_dict", "to_json", "to_csv", "write_json", "write_csv", "csv_header", "column_name", "spectrum_columns", "atomic_write", "NOISE_FIGURE_COLUMN"]
 
 
 # --- atomic file writing ----------------------------------------------------
@@ -379,48 +379,128 @@ def write_json(result: NoiseResult, path: str | os.PathLike, **extras: Any) -> N
 NOISE_FIGURE_COLUMN = "spot_noise_figure_dB"
 
 
-def csv_header(result: NoiseResult) -> list[str]:
-    """Column names: frequency, total output density, then each source in
-    rank order (all densities are output-referred amplitudes, V/√Hz), then
-    the spot noise figure in dB when the result has one."""
-    names = ["frequency_Hz", "total_output_V_per_rtHz"] + [f"{c.source}_V_per_rtHz" for c in result.contributions]
+#: Separates a source's name from the unit in a CSV column name; a cleaned
+#: name never holds two underscores in a row, so the split is unambiguous.
+UNIT_SEPARATOR = "__"
+
+_SIGN_WORDS = {"+": "plus", "-": "minus"}
+
+
+def column_name(label: str, unit: str = "V_per_rtHz") -> str:
+    """The CSV column of a budget row: ``<name>__<unit>``.
+
+    The rule, so a spreadsheet or ``pandas.read_csv`` reads every header
+    without quoting and code can split it: a ``+`` or ``-`` that ends a word
+    is spelled ``plus``/``minus`` (pins: ``in+`` -> ``in_plus``); every other
+    character outside ``A-Z a-z 0-9 _`` (spaces, parentheses, the dots of
+    hierarchical names, other hyphens) becomes ``_``; runs of ``_`` become
+    one and the ends are trimmed; an empty name becomes ``source``.  So
+    ``Xpre (in+)`` -> ``Xpre_in_plus__V_per_rtHz`` and ``X1.R2 (excess)``
+    -> ``X1_R2_excess__V_per_rtHz``.  :func:`csv_header` then makes the
+    names unique by appending ``_2``, ``_3`` ... in rank order.
+    """
+    import re
+
+    text = re.sub(r"([+-])(?![A-Za-z0-9])", lambda m: f"_{_SIGN_WORDS[m.group(1)]}_", label)
+    text = re.sub(r"[^A-Za-z0-9_]", "_", text)
+    text = re.sub(r"_+", "_", text).strip("_") or "source"
+    return f"{text}{UNIT_SEPARATOR}{unit}"
+
+
+def _unique(names: list[str]) -> list[str]:
+    seen: set[str] = set()
+    out = []
+    for name in names:
+        candidate, n = name, 1
+        while candidate in seen:
+            n += 1
+            head, _, unit = name.rpartition(UNIT_SEPARATOR)
+            candidate = f"{head}_{n}{UNIT_SEPARATOR}{unit}"
+        seen.add(candidate)
+        out.append(candidate)
+    return out
+
+
+def _grouped_power(result: NoiseResult, group_by: str) -> tuple[list[str], list[np.ndarray]]:
+    """(labels, power densities V²/Hz) of the budget rows, in rank order."""
+    if group_by in (None, "source"):
+        order = np.argsort(-result.source_variance, kind="stable")  # the ranking of result.contributions
+        return [result.source_names[k] for k in order], [result.source_density[k] for k in order]
+    if group_by not in ("element", "mechanism"):
+        raise UsageError(f"group by 'element' or 'mechanism', not {group_by!r}")
+    keys = result.source_elements if group_by == "element" else result.source_mechanisms
+    labels, powers = [], []
+    for row in result.grouped(group_by):
+        members = [k for k, key in enumerate(keys) if key == row.label]
+        labels.append(row.label)
+        powers.append(result.source_density[members].sum(axis=0))
+    return labels, powers
+
+
+def spectrum_columns(result: NoiseResult, *, group_by: str | None = None, power: bool = False) -> tuple[list[str], list[np.ndarray]]:
+    """(column names, columns) of the spectrum table: frequency, total, then
+    each source (or element/mechanism group with ``group_by``) in rank order;
+    amplitudes in V/√Hz, or with ``power`` power densities in V²/Hz."""
+    labels, powers = _grouped_power(result, group_by)
+    unit = "V2_per_Hz" if power else "V_per_rtHz"
+    total = result.output_density if power else result.output_density_rt
+    names = ["frequency_Hz", f"total_output_{unit}"] + _unique([column_name(label, unit) for label in labels])
+    columns = [result.frequency_Hz, total] + [p if power else _amplitude(p) for p in powers]
+    return names, columns
+
+
+def csv_header(result: NoiseResult, group_by: str | None = None) -> list[str]:
+    """Column names: frequency, total output density, then each source (or
+    group, with ``group_by``) in rank order, named by :func:`column_name`
+    (all densities are output-referred amplitudes, V/√Hz), then the spot
+    noise figure in dB when the result has one."""
+    names = spectrum_columns(result, group_by=group_by)[0]
     if result.noise_figure_spectrum_dB is not None:
         names.append(NOISE_FIGURE_COLUMN)
     return names
 
 
-def _csv_columns(result: NoiseResult) -> np.ndarray:
+def _csv_columns(result: NoiseResult, group_by: str | None = None) -> np.ndarray:
     check_finite(result)
-    order = np.argsort(-result.source_variance, kind="stable")  # the ranking of result.contributions
-    columns = [result.frequency_Hz, result.output_density_rt]
-    columns += [_amplitude(result.source_density[k]) for k in order]
-    table = np.column_stack(columns)
+    table = np.column_stack(spectrum_columns(result, group_by=group_by)[1])
     if not np.all(np.isfinite(table)):
         raise CircuitError("cannot export CSV: the spectrum holds a NaN or infinite value")
     return table
 
 
-def to_csv(result: NoiseResult) -> str:
+def frequency_text(value: float) -> str:
+    """A grid frequency as written in the CSV: 15 significant digits, trimmed,
+    when that reads back within 4 units in the last place (a log grid's
+    ``0.10000000000000002`` is written ``0.1``), else the exact ``repr``."""
+    text = format(value, ".15g")
+    if abs(float(text) - value) <= 4 * math.ulp(value):
+        return text
+    return repr(float(value))
+
+
+def to_csv(result: NoiseResult, group_by: str | None = None) -> str:
     """The CSV text: one header line, then one row per grid frequency.
 
-    A spot noise figure cell is empty where the signal gain is zero (the
-    figure is unbounded there); NaN anywhere is refused."""
-    table = _csv_columns(result)
+    ``group_by`` (``"element"``/``"mechanism"``) gives one column per group
+    (the power sum of its sources) instead of one per source.  A spot noise
+    figure cell is empty where the signal gain is zero (the figure is
+    unbounded there); NaN anywhere is refused."""
+    table = _csv_columns(result, group_by)
     figure = _noise_figure_spectrum(result)
     if figure is not None and any(x is not None and not math.isfinite(x) for x in figure):
         raise CircuitError("cannot export CSV: the spot noise figure holds a NaN or -inf value")
     buffer = io.StringIO()
     writer = csv.writer(buffer, lineterminator="\n")
-    writer.writerow(csv_header(result))
+    writer.writerow(csv_header(result, group_by))
     for i, row in enumerate(table):
-        cells = [repr(float(x)) for x in row]
+        cells = [frequency_text(float(row[0]))] + [repr(float(x)) for x in row[1:]]
         if figure is not None:
             cells.append("" if figure[i] is None else repr(figure[i]))
         writer.writerow(cells)
     return buffer.getvalue()
 
 
-def write_csv(result: NoiseResult, path: str | os.PathLike) -> None:
+def write_csv(result: NoiseResult, path: str | os.PathLike, group_by: str | None = None) -> None:
     """Write the spectrum table to ``path`` (atomically)."""
-    text = to_csv(result)
+    text = to_csv(result, group_by)
     atomic_write(path, lambda handle: handle.write(text))

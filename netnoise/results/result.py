@@ -22,7 +22,7 @@ import numpy as np
 
 from netnoise.results.notes import Note, as_note
 
-__all__ = ["Contribution", "NoiseResult"]
+__all__ = ["Contribution", "NoiseResult", "SourceBudget"]
 
 
 def _frozen(array, dtype=float) -> np.ndarray:
@@ -62,6 +62,22 @@ class Contribution:
     @property
     def rms_V(self) -> float:
         return math.sqrt(self.variance_V2)
+
+
+@dataclass(frozen=True, eq=False)
+class SourceBudget(Contribution):
+    """One noise source's budget row (:meth:`NoiseResult.source`) with its
+    spectrum: ``density`` (F,) its output noise power density on the grid,
+    V²/Hz (read-only), and ``rank`` its place in the ranked budget (1 is the
+    largest)."""
+
+    density: np.ndarray = field(default_factory=lambda: np.zeros(0), repr=False)
+    rank: int = 0
+
+    @property
+    def density_rt(self) -> np.ndarray:
+        """(F,) the source's output amplitude density, V/√Hz."""
+        return np.sqrt(self.density)
 
 
 @dataclass(frozen=True, eq=False)
@@ -247,13 +263,35 @@ class NoiseResult:
             )
         return tuple(out)
 
-    def source(self, name: str) -> Contribution:
-        """The budget row of noise source ``name`` (case-insensitive); KeyError if none."""
+    def source(self, name: str) -> SourceBudget:
+        """The budget row of noise source ``name`` (case-insensitive) with its
+        density on the grid (V²/Hz), variance, share and rank; KeyError if none."""
         key = name.lower()
-        for row in self.contributions:
+        for rank, row in enumerate(self.contributions, start=1):
             if row.source is not None and row.source.lower() == key:
-                return row
+                fields = {f.name: getattr(row, f.name) for f in dataclasses.fields(Contribution)}
+                return SourceBudget(**fields, density=self.source_density[row.index], rank=rank)
         raise KeyError(name)
+
+    # --- notebooks ------------------------------------------------------
+    def __repr__(self) -> str:
+        from netnoise.outputs.notebook import short_repr
+
+        return short_repr(self)
+
+    def _repr_html_(self) -> str:
+        from netnoise.outputs.notebook import budget_html
+
+        return budget_html(self)
+
+    def to_dataframe(self, kind: str = "budget", *, group_by: str = "source"):
+        """The budget (``kind="budget"``, one row per source or group, ranked)
+        or the spectrum (``kind="spectrum"``, one row per grid frequency) as a
+        pandas DataFrame of numbers, units in the column names.  pandas is
+        imported here; without it a UsageError says how to install it."""
+        from netnoise.outputs.notebook import to_dataframe
+
+        return to_dataframe(self, kind, group_by=group_by)
 
     @property
     def cumulative_rms(self) -> np.ndarray:
