@@ -27,7 +27,6 @@ import contextlib
 import dataclasses
 import difflib
 import math
-import os
 from dataclasses import dataclass, field
 from pathlib import Path
 
@@ -39,8 +38,6 @@ from netnoise.text.expressions import CONSTANTS, evaluate, referenced_names
 from netnoise.netlist.statements import (
     AcCard,
     Assignment,
-    EndsCard,
-    IncludeCard,
     Instance,
     ModelCard,
     NoiseCard,
@@ -48,30 +45,31 @@ from netnoise.netlist.statements import (
     ParamCard,
     ParsedFile,
     Statement,
-    SubcktCard,
     Sweep,
     TempCard,
     Value,
     Word,
 )
 from netnoise.circuit.elements.amplifier import check_opamp_param
-from netnoise.netlist.parser import parse_statements
+from netnoise.netlist.definitions import (
+    CARD_NAMES as _CARD_NAMES,
+    MAX_FLAT_ELEMENTS,
+    TOP_LEVEL_ONLY as _TOP_LEVEL_ONLY,
+    Definition,
+    build_definitions,
+    check_flat_size,
+    flat_element_counts,
+)
+from netnoise.netlist.includes import MAX_INCLUDE_DEPTH, expand_includes
 from netnoise.text.fields import shown
-from netnoise.text.source import bounded, read_netlist_text
+from netnoise.text.source import bounded
 from netnoise.text.values import SMALLEST_NORMAL, exact
 
-__all__ = ["MAX_INCLUDE_DEPTH", "MAX_SUBCKT_DEPTH", "MAX_FLAT_ELEMENTS", "GROUND_ALIASES", "elaborate"]
+__all__ = ["MAX_INCLUDE_DEPTH", "MAX_SUBCKT_DEPTH", "MAX_FLAT_ELEMENTS", "GROUND_ALIASES", "elaborate", "flat_element_counts"]
 
-MAX_INCLUDE_DEPTH = 16
 # Subcircuit instances nested deeper than this are refused (the expansion
 # recurses; real designs nest a handful of levels).
 MAX_SUBCKT_DEPTH = 100
-# A netlist whose subcircuits would expand to more elements than this is
-# refused before anything is expanded (the count is estimated from the
-# definitions); 5 million elements need gigabytes and hours.
-MAX_FLAT_ELEMENTS = 5_000_000
-_TOP_LEVEL_ONLY = (TempCard, AcCard, NoiseCard, OptionsCard)
-_CARD_NAMES = {TempCard: ".temp", AcCard: ".ac", NoiseCard: ".noise", OptionsCard: ".options"}
 
 
 def _fail(message: str, location: SourceLocation | None, hint: str = "") -> NetlistError:
@@ -96,347 +94,12 @@ def _naming_instance(instance: str):
 
 
 # --------------------------------------------------------------------------
-# 1. includes
-
-
-def _expand_includes(
-    parsed: ParsedFile, directory: Path, chain: tuple[Path, ...], depth: int = 0, within: Path | None = None
-) -> list[Statement]:
-    """``parsed`` with its includes expanded; ``depth`` counts include levels;
-    ``within`` (resolved): the folder every included file must be in."""
-    out: list[Statement] = []
-    for statement in parsed.statements:
-        if not isinstance(statement, IncludeCard):
-            out.append(statement)
-            continue
-        try:
-            target = (directory / statement.path).resolve()
-        except (RuntimeError, OSError):  # Path.resolve: "Symlink loop" (RuntimeError before 3.13)
-            raise _fail(
-                f"'.include {statement.path}' names a loop of symbolic links (each names the next)",
-                statement.loc,
-                "point the link at the file to include",
-            ) from None
-        if within is not None and not target.is_relative_to(within):
-            raise _fail(
-                f"'.include {statement.path}' is outside the folder includes are confined to",
-                statement.loc,
-                f"it is {target}, not within {within} (links followed); copy the file there, "
-                "or drop the confinement (--confine-includes) if you trust this netlist",
-            )
-        if target in chain:
-            names = " -> ".join(p.name for p in (*chain[chain.index(target) :], target))
-            raise _fail(f"'.include {statement.path}' makes a cycle: {names}", statement.loc)
-        if depth >= MAX_INCLUDE_DEPTH:
-            raise _fail(
-                f"includes are nested more than {MAX_INCLUDE_DEPTH} deep",
-                statement.loc,
-                "an included file includes another, and so on; is there a loop through copies?",
-            )
-        if not os.path.lexists(target):
-            raise _fail(
-                f"cannot find the included file '{statement.path}'",
-                statement.loc,
-                f"looked for {target}",
-            )
-        text = read_netlist_text(target, statement.loc)  # says what a folder, device or FIFO is
-        included = parse_statements(text, str(target), has_title=False)
-        out.extend(_expand_includes(included, target.parent, (*chain, target), depth + 1, within))
-    return out
-
-
-# --------------------------------------------------------------------------
-# 2. definitions
-
-
-@dataclass
-class _Definition:
-    name: str  # as written; '' for the top level
-    pins: tuple[Word, ...]
-    defaults: tuple[Assignment, ...]
-    loc: SourceLocation | None
-    parent: "_Definition | None"
-    body: list[Statement] = field(default_factory=list)
-    children: dict[str, "_Definition"] = field(default_factory=dict)
-    models: dict[str, ModelCard] = field(default_factory=dict)
-
-    def find(self, key: str) -> "_Definition | None":
-        scope: _Definition | None = self
-        while scope is not None:
-            if key in scope.children:
-                return scope.children[key]
-            scope = scope.parent
-        return None
-
-    def find_model(self, key: str) -> "tuple[ModelCard, _Definition] | None":
-        """The .model called ``key`` visible here, and the definition it is written in."""
-        scope: _Definition | None = self
-        while scope is not None:
-            if key in scope.models:
-                return scope.models[key], scope
-            scope = scope.parent
-        return None
-
-    def visible_names(self) -> list[str]:
-        names: list[str] = []
-        scope: _Definition | None = self
-        while scope is not None:
-            names.extend(d.name for d in scope.children.values())
-            names.extend(m.name.text for m in scope.models.values())
-            scope = scope.parent
-        return names
-
-
-def _build_definitions(statements: list[Statement]) -> _Definition:
-    top = _Definition("", (), (), None, None)
-    current = top
-    for statement in statements:
-        if isinstance(statement, SubcktCard):
-            key = statement.name.text.lower()
-            if key in current.children:
-                first = current.children[key].loc
-                raise _fail(
-                    f"subcircuit '{statement.name.text}' is defined twice",
-                    statement.name.loc,
-                    f"the first definition is at {_where(first)}" if first else "",
-                )
-            if key in current.models:
-                raise _fail(
-                    f"'{statement.name.text}' is both a subcircuit and a .model",
-                    statement.name.loc,
-                    f"the .model is at {_where(current.models[key].loc)}; rename one of them",
-                )
-            _check_pins(statement)
-            definition = _Definition(statement.name.text, statement.pins, statement.defaults, statement.loc, current)
-            current.children[key] = definition
-            current = definition
-        elif isinstance(statement, ModelCard):
-            key = statement.name.text.lower()
-            if key in current.models:
-                raise _fail(
-                    f"model '{statement.name.text}' is defined twice",
-                    statement.name.loc,
-                    f"the first definition is at {_where(current.models[key].loc)}",
-                )
-            if key in current.children:
-                raise _fail(
-                    f"'{statement.name.text}' is both a subcircuit and a .model",
-                    statement.name.loc,
-                    f"the .subckt is at {_where(current.children[key].loc)}; rename one of them",
-                )
-            current.models[key] = statement
-        elif isinstance(statement, EndsCard):
-            if current is top:
-                raise _fail("'.ends' without a .subckt to close", statement.loc)
-            if statement.name is not None and statement.name.text.lower() != current.name.lower():
-                raise _fail(
-                    f"'.ends {statement.name.text}' does not match the open '.subckt {current.name}'",
-                    statement.name.loc,
-                    f"close '{current.name}' first (it starts at {_where(current.loc)})",
-                )
-            current = current.parent  # type: ignore[assignment]
-        else:
-            if current is not top and isinstance(statement, _TOP_LEVEL_ONLY):
-                raise _fail(
-                    f"'{_CARD_NAMES[type(statement)]}' belongs at the top level, not inside .subckt {current.name}",
-                    statement.loc,
-                )
-            current.body.append(statement)
-    if current is not top:
-        raise _fail(
-            f"'.subckt {current.name}' is never closed",
-            current.loc,
-            f"add '.ends {current.name}' after its last line",
-        )
-    return top
-
-
-def _check_pins(statement: SubcktCard) -> None:
-    seen: dict[str, Word] = {}
-    for pin in statement.pins:
-        key = pin.text.lower()
-        if key in GROUND_ALIASES:
-            raise _fail(
-                f"ground ('{pin.text}') cannot be a pin of .subckt {statement.name.text}",
-                pin.loc,
-                "ground is shared by every subcircuit already",
-            )
-        if key in seen:
-            raise _fail(f"pin '{pin.text}' appears twice on .subckt {statement.name.text}", pin.loc)
-        seen[key] = pin
-    names = {a.name.lower() for a in statement.defaults}
-    if len(names) != len(statement.defaults):
-        for index, assignment in enumerate(statement.defaults):
-            if assignment.name.lower() in {a.name.lower() for a in statement.defaults[:index]}:
-                raise _fail(f"parameter '{assignment.name}' is declared twice", assignment.loc)
-
-
-def _instance_target(definition: _Definition, statement: Instance) -> _Definition | None:
-    """The subcircuit an X line expands (None: an amplifier model, or unknown)."""
-    key = statement.subckt.text.lower()
-    if definition.find_model(key) is not None:
-        return None
-    return definition.find(key)
-
-
-def flat_element_counts(top: _Definition) -> dict[int, int]:
-    """How many elements each definition reachable from ``top`` expands to
-    (by ``id``), counted from the definitions without expanding anything:
-    its own element lines plus, per X line, its subcircuit's count.  An
-    amplifier model or an unknown name counts 1; an instance that closes a
-    cycle counts 0 (the expansion refuses it).  Iterative: a chain of any
-    depth is counted without recursion."""
-    counts: dict[int, int] = {}
-    started: set[int] = set()
-    stack: list[tuple[_Definition, bool]] = [(top, False)]
-    while stack:
-        definition, finished = stack.pop()
-        if finished:
-            total = 0
-            for statement in definition.body:
-                if isinstance(statement, Instance):
-                    child = _instance_target(definition, statement)
-                    total += 1 if child is None else counts.get(id(child), 0)
-                elif not isinstance(statement, (ParamCard, *_TOP_LEVEL_ONLY)):
-                    total += 1
-            counts[id(definition)] = total
-            continue
-        if id(definition) in started:
-            continue
-        started.add(id(definition))
-        stack.append((definition, True))
-        for statement in definition.body:
-            if isinstance(statement, Instance):
-                child = _instance_target(definition, statement)
-                if child is not None and id(child) not in started:
-                    stack.append((child, False))
-    return counts
-
-
-def _check_flat_size(top: _Definition) -> None:
-    """Refuse, before expanding, a netlist whose subcircuits would expand to
-    more than :data:`MAX_FLAT_ELEMENTS` elements: the count, and the chain of
-    instances responsible."""
-    counts = flat_element_counts(top)
-    total = counts[id(top)]
-    if total <= MAX_FLAT_ELEMENTS:
-        return
-    steps: list[str] = []
-    first: SourceLocation | None = None
-    definition, seen = top, set()
-    while id(definition) not in seen and len(steps) < 4:
-        seen.add(id(definition))
-        instances = [
-            (counts.get(id(child), 0), statement, child)
-            for statement in definition.body
-            if isinstance(statement, Instance) and (child := _instance_target(definition, statement)) is not None
-        ]
-        if not instances:
-            break
-        biggest = max(instances, key=lambda item: item[0])
-        same = sum(1 for count, _, child in instances if child is biggest[2])
-        where = "the top level" if definition is top else f"'{bounded(definition.name[:60])}'"
-        steps.append(f"{where} has {same:,} of '{bounded(biggest[2].name[:60])}' ({biggest[0]:,} elements each)")
-        first = first or biggest[1].loc
-        definition = biggest[2]
-    raise NetlistError(
-        f"the subcircuits would expand to {total:,} elements, more than the limit of {MAX_FLAT_ELEMENTS:,}",
-        first,
-        "; ".join(steps) + ": check the instance counts and nesting",
-    )
-
-
-def _build_definitions(statements: list[Statement]) -> _Definition:
-    top = _Definition("", (), (), None, None)
-    current = top
-    for statement in statements:
-        if isinstance(statement, SubcktCard):
-            key = statement.name.text.lower()
-            if key in current.children:
-                first = current.children[key].loc
-                raise _fail(
-                    f"subcircuit '{statement.name.text}' is defined twice",
-                    statement.name.loc,
-                    f"the first definition is at {_where(first)}" if first else "",
-                )
-            if key in current.models:
-                raise _fail(
-                    f"'{statement.name.text}' is both a subcircuit and a .model",
-                    statement.name.loc,
-                    f"the .model is at {_where(current.models[key].loc)}; rename one of them",
-                )
-            _check_pins(statement)
-            definition = _Definition(statement.name.text, statement.pins, statement.defaults, statement.loc, current)
-            current.children[key] = definition
-            current = definition
-        elif isinstance(statement, ModelCard):
-            key = statement.name.text.lower()
-            if key in current.models:
-                raise _fail(
-                    f"model '{statement.name.text}' is defined twice",
-                    statement.name.loc,
-                    f"the first definition is at {_where(current.models[key].loc)}",
-                )
-            if key in current.children:
-                raise _fail(
-                    f"'{statement.name.text}' is both a subcircuit and a .model",
-                    statement.name.loc,
-                    f"the .subckt is at {_where(current.children[key].loc)}; rename one of them",
-                )
-            current.models[key] = statement
-        elif isinstance(statement, EndsCard):
-            if current is top:
-                raise _fail("'.ends' without a .subckt to close", statement.loc)
-            if statement.name is not None and statement.name.text.lower() != current.name.lower():
-                raise _fail(
-                    f"'.ends {statement.name.text}' does not match the open '.subckt {current.name}'",
-                    statement.name.loc,
-                    f"close '{current.name}' first (it starts at {_where(current.loc)})",
-                )
-            current = current.parent  # type: ignore[assignment]
-        else:
-            if current is not top and isinstance(statement, _TOP_LEVEL_ONLY):
-                raise _fail(
-                    f"'{_CARD_NAMES[type(statement)]}' belongs at the top level, not inside .subckt {current.name}",
-                    statement.loc,
-                )
-            current.body.append(statement)
-    if current is not top:
-        raise _fail(
-            f"'.subckt {current.name}' is never closed",
-            current.loc,
-            f"add '.ends {current.name}' after its last line",
-        )
-    return top
-
-
-def _check_pins(statement: SubcktCard) -> None:
-    seen: dict[str, Word] = {}
-    for pin in statement.pins:
-        key = pin.text.lower()
-        if key in GROUND_ALIASES:
-            raise _fail(
-                f"ground ('{pin.text}') cannot be a pin of .subckt {statement.name.text}",
-                pin.loc,
-                "ground is shared by every subcircuit already",
-            )
-        if key in seen:
-            raise _fail(f"pin '{pin.text}' appears twice on .subckt {statement.name.text}", pin.loc)
-        seen[key] = pin
-    names = {a.name.lower() for a in statement.defaults}
-    if len(names) != len(statement.defaults):
-        for index, assignment in enumerate(statement.defaults):
-            if assignment.name.lower() in {a.name.lower() for a in statement.defaults[:index]}:
-                raise _fail(f"parameter '{assignment.name}' is declared twice", assignment.loc)
-
-
-# --------------------------------------------------------------------------
 # 3. expansion
 
 
 @dataclass
 class _Scope:
-    definition: _Definition
+    definition: Definition
     parent: "_Scope | None"  # the scope the definition was written in
     element_prefix: str  # 'X1.X2.' ('' at the top)
     node_prefix: str  # 'x1.x2.'
@@ -534,7 +197,7 @@ class _Elaborator:
         self.by_key: dict[str, tuple[c.Element, SourceLocation]] = {}
         self.pending: list[_Pending] = []
         self.notices = notices
-        self.active: list[_Definition] = []  # instantiation stack, for recursion
+        self.active: list[Definition] = []  # instantiation stack, for recursion
 
     # ---- values
     def number(self, value: Value, scope: _Scope) -> float:
@@ -609,7 +272,7 @@ class _Elaborator:
         if value is not None:
             self.origins[c.name_key(name)] = _origin(value, scope)
 
-    def opamp(self, statement: Instance, scope: _Scope, model: ModelCard, home: _Definition) -> None:
+    def opamp(self, statement: Instance, scope: _Scope, model: ModelCard, home: Definition) -> None:
         name = scope.element_prefix + statement.name
         if len(statement.nodes) != 3:
             raise _fail(
@@ -860,13 +523,13 @@ def elaborate(
     except (RuntimeError, OSError):
         chain = ()
     within = includes_within.resolve() if includes_within is not None else None
-    statements = _expand_includes(parsed, base_dir, chain, within=within)
-    top = _build_definitions(statements)
-    _check_flat_size(top)
+    statements = expand_includes(parsed, base_dir, chain, within=within)
+    top = build_definitions(statements)
+    check_flat_size(top)
     return _flat_circuit(parsed, top, source_file, {})
 
 
-def _flat_circuit(parsed: ParsedFile, top: _Definition, source_file: str, overrides: dict[str, float]) -> c.Circuit:
+def _flat_circuit(parsed: ParsedFile, top: Definition, source_file: str, overrides: dict[str, float]) -> c.Circuit:
     notices: list[str] = []
     engine = _Elaborator(notices, overrides)
     scope = _Scope(top, None, "", "", {})
