@@ -543,7 +543,7 @@ def _studies(args: argparse.Namespace, circuit, band, temperature, result) -> di
     prepared = analysis.prepare(circuit, **options)
     out: dict = {}
     problem = prepared.problem
-    if wants_response:
+    if wants_response and problem.input_vector is not None:
         from netnoise.studies.response import speed_of_response
 
         out["response"] = speed_of_response(problem.system, problem.selector, problem.input_vector, settle, problem.options)
@@ -617,7 +617,7 @@ def run_sweep(args: argparse.Namespace) -> int:
     lines += ["", "Results are design estimates."]
     text = "\n".join(lines) + "\n"
     json_text = sweep_to_json(result, answer) if args.json is not None else None
-    if args.json == "-":
+    if json_text is not None and args.json == "-":
         sys.stdout.write(json_text)
         report_stream = sys.stderr
     else:

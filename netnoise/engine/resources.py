@@ -87,8 +87,8 @@ def _cgroup_room() -> int | None:
         pass
     rooms = [_room(os.path.join(f, "memory.max"), os.path.join(f, "memory.current")) for f in v2]
     rooms += [_room(os.path.join(f, "memory.limit_in_bytes"), os.path.join(f, "memory.usage_in_bytes")) for f in v1]
-    rooms = [r for r in rooms if r is not None]
-    return min(rooms) if rooms else None
+    known = [r for r in rooms if r is not None]
+    return min(known) if known else None
 
 
 def _room(limit_file: str, usage_file: str) -> int | None:

@@ -30,8 +30,8 @@ def _fail(message: str, location: SourceLocation | None, hint: str = "") -> Netl
     return NetlistError(bounded(message), location, bounded(hint))
 
 
-def _where(location: SourceLocation) -> str:
-    return f"{location.file}:{location.line}"
+def _where(location: SourceLocation | None) -> str:
+    return f"{location.file}:{location.line}" if location is not None else "(unknown place)"
 
 __all__ = ["Definition", "build_definitions", "flat_element_counts", "check_flat_size", "MAX_FLAT_ELEMENTS", "TOP_LEVEL_ONLY", "CARD_NAMES"]
 

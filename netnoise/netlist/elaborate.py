@@ -28,6 +28,7 @@ import dataclasses
 import difflib
 import math
 from dataclasses import dataclass, field
+from typing import Any
 from pathlib import Path
 
 from netnoise import circuit as c
@@ -77,8 +78,8 @@ def _fail(message: str, location: SourceLocation | None, hint: str = "") -> Netl
     return NetlistError(bounded(message), location, bounded(hint))
 
 
-def _where(location: SourceLocation) -> str:
-    return f"{location.file}:{location.line}"
+def _where(location: SourceLocation | None) -> str:
+    return f"{location.file}:{location.line}" if location is not None else "(unknown place)"
 
 
 @contextlib.contextmanager
@@ -180,7 +181,7 @@ def _origin(value: Value, scope: _Scope) -> c.ValueOrigin:
     """Where a value came from: a literal, one parameter, an expression, or an X-line override."""
     if value.number is not None:
         return c.ValueOrigin("literal", value.text, (), value.loc)
-    names = tuple(sorted(referenced_names(value.tree)))
+    names = tuple(sorted(referenced_names(value.tree))) if value.tree is not None else ()
     tree = value.tree
     single = getattr(tree, "data", None) == "name" or (not hasattr(tree, "data") and len(names) == 1)
     kind = "param" if single and len(names) == 1 else "expression"
@@ -261,9 +262,9 @@ class _Elaborator:
             elif not isinstance(statement, (ParamCard, *_TOP_LEVEL_ONLY)):
                 self.element(statement, scope)
 
-    def element(self, statement: Statement, scope: _Scope) -> None:
-        kind = statement.kind  # type: ignore[union-attr]
-        name = scope.element_prefix + statement.name  # type: ignore[union-attr]
+    def element(self, statement: Any, scope: _Scope) -> None:
+        kind = statement.kind  # an element line's statement names the kind that builds it
+        name = scope.element_prefix + statement.name
         ctx = _BuildContext(self, scope, name, statement.loc)
         element = kind.build(statement, ctx)
         index = self.add(element, statement.loc)
@@ -407,11 +408,11 @@ class _Elaborator:
             target = found[0].name
             element = self.elements[item.index]
             if item.slot == "control_source":
-                element = dataclasses.replace(element, control_source=target)  # type: ignore[arg-type]
+                element = dataclasses.replace(element, control_source=target)  # type: ignore[call-arg]
             else:
-                pair = list(element.inductors)  # type: ignore[union-attr]
+                pair = list(element.inductors)  # type: ignore[attr-defined]
                 pair[int(item.slot[-1])] = target
-                element = dataclasses.replace(element, inductors=tuple(pair))  # type: ignore[arg-type]
+                element = dataclasses.replace(element, inductors=tuple(pair))  # type: ignore[call-arg]
             self.elements[item.index] = element
             self.by_key[c.name_key(element.name)] = (element, self.by_key[c.name_key(element.name)][1])
 
@@ -548,7 +549,7 @@ def _flat_circuit(parsed: ParsedFile, top: Definition, source_file: str, overrid
                 temp_card.value.loc,  # type: ignore[union-attr]
             )
     ac_card = _one(top.body, AcCard)
-    ac_sweep = _sweep(ac_card.sweep, engine, scope) if ac_card is not None else None  # type: ignore[union-attr]
+    ac_sweep = _sweep(ac_card.sweep, engine, scope) if ac_card is not None else None  # type: ignore[union-attr,arg-type]
     circuit_nodes = {n for e in engine.elements for n in e.terminals()}
     noise = _one(top.body, NoiseCard)
     noise_card = _noise_card(noise, engine, scope, circuit_nodes) if noise is not None else None  # type: ignore[arg-type]

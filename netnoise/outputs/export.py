@@ -80,7 +80,7 @@ __all__ = ["result_to_dict", "to_json", "to_csv", "write_json", "write_csv", "cs
 
 
 # --- atomic file writing ----------------------------------------------------
-def atomic_write(path: str | os.PathLike, write: Callable[[IO], None], *, binary: bool = False) -> None:
+def atomic_write(path: str | os.PathLike, write: Callable[[IO], object], *, binary: bool = False) -> None:
     """Call ``write(file)`` on a temporary file beside ``path``, then move it
     into place.  On any failure the temporary file is removed and ``path`` is
     left as it was.
@@ -92,7 +92,7 @@ def atomic_write(path: str | os.PathLike, write: Callable[[IO], None], *, binary
     IsADirectoryError."""
     target = os.fspath(path)
     mode = "wb" if binary else "w"
-    kwargs = {} if binary else {"encoding": "utf-8", "newline": ""}
+    kwargs: dict[str, Any] = {} if binary else {"encoding": "utf-8", "newline": ""}
     try:
         info: os.stat_result | None = os.stat(target)  # links followed
     except FileNotFoundError:
@@ -248,7 +248,9 @@ def result_to_dict(
         "cumulative_rms_V": _floats(result.cumulative_rms),
     }
     if result.input_source is not None and result.gain is not None:
-        density = _amplitude(np.where(result.gain > 0, result.input_referred_density, 0.0))
+        referred_density = result.input_referred_density
+        assert referred_density is not None  # there is a gain
+        density = _amplitude(np.where(result.gain > 0, referred_density, 0.0))
         spectrum["input_referred_density_per_rtHz"] = [
             float(d) if g > 0 else None for d, g in zip(density, result.gain)
         ]
@@ -441,7 +443,7 @@ def spectrum_columns(result: NoiseResult, *, group_by: str | None = None, power:
     """(column names, columns) of the spectrum table: frequency, total, then
     each source (or element/mechanism group with ``group_by``) in rank order;
     amplitudes in V/√Hz, or with ``power`` power densities in V²/Hz."""
-    labels, powers = _grouped_power(result, group_by)
+    labels, powers = _grouped_power(result, group_by or "source")
     unit = "V2_per_Hz" if power else "V_per_rtHz"
     total = result.output_density if power else result.output_density_rt
     names = ["frequency_Hz", f"total_output_{unit}"] + _unique([column_name(label, unit) for label in labels])

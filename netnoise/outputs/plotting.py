@@ -204,6 +204,7 @@ def _density_curves(result: NoiseResult, input_referred: bool) -> tuple[np.ndarr
     if referred is None:
         raise UsageError("an input-referred plot needs the result of an analysis with an input source (--input)")
     gain = result.gain
+    assert gain is not None  # an input-referred density exists only with a gain
     with np.errstate(divide="ignore", invalid="ignore"):
         per_source = np.where(gain > 0, result.source_density / np.where(gain > 0, gain, 1.0) ** 2, np.inf)
     return referred, per_source, result.input_unit or "V", "input-referred noise density"

@@ -43,12 +43,12 @@ class SourceText:
 
     def at(self, node: Tree | Token) -> SourceLocation:
         token = first_token(node)
-        return self.location(token.line, token.column)
+        return self.location(token.line or 1, token.column or 1)
 
     def after(self, node: Tree | Token) -> SourceLocation:
         """Just past the end of ``node`` (for 'missing ...' messages)."""
         token = last_token(node)
-        return self.location(token.end_line, token.end_column)
+        return self.location(token.end_line or 1, token.end_column or 1)
 
 
 def first_token(node: Tree | Token) -> Token:
