@@ -635,7 +635,7 @@ def run_sweep(args: argparse.Namespace) -> int:
 
         drawn = plot_tradeoff(result, units=units, target_rms=target, answer=answer)
         for path in args.plot:
-            _write("--plot", path, lambda: save_figure(drawn.figure, path))
+            _write("--plot", path, lambda path=path: save_figure(drawn.figure, path))
     return 0
 
 
@@ -748,7 +748,7 @@ def run_analyze(args: argparse.Namespace) -> int:
     if csv_text is not None:
         _write("--csv", args.csv, lambda: atomic_write(args.csv, lambda handle: handle.write(csv_text)))
     for path, data in plots:
-        _write("--plot", path, lambda: atomic_write(path, lambda handle: handle.write(data), binary=True))
+        _write("--plot", path, lambda path=path, data=data: atomic_write(path, lambda h: h.write(data), binary=True))
     if html_text is not None:
         _write("--html", args.html, lambda: atomic_write(args.html, lambda handle: handle.write(html_text)))
     return 0
