@@ -9,6 +9,7 @@ that gives the estimate, instead of being left to swap.
 from __future__ import annotations
 
 import os
+import time
 
 from netnoise.errors import CircuitError
 
@@ -26,8 +27,19 @@ def available_memory() -> int:
     when none is known."""
     if _override is not None:
         return _override
+    now = time.monotonic()
+    if _measured and now - _measured[0] < _REMEASURE_S:
+        return _measured[1]
     bounds = [b for b in (_machine_free(), _rlimit_room(), _cgroup_room()) if b is not None]
-    return max(0, min(bounds)) if bounds else 1 << 62
+    room = max(0, min(bounds)) if bounds else 1 << 62
+    _measured[:] = [now, room]
+    return room
+
+
+# reading /proc and the cgroup files costs about half a millisecond, and an analysis asks
+# for every block of frequencies: a measurement is reused for this long
+_REMEASURE_S = 0.25
+_measured: list = []
 
 
 def _machine_free() -> int | None:
@@ -117,6 +129,7 @@ def set_available_memory(nbytes: int | None) -> None:
     """Pretend the machine has ``nbytes`` available (None: measure again)."""
     global _override
     _override = nbytes
+    _measured.clear()
 
 
 def _gib(nbytes: float) -> str:
