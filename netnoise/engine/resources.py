@@ -28,11 +28,11 @@ def available_memory() -> int:
     if _override is not None:
         return _override
     now = time.monotonic()
-    if _measured and now - _measured[0] < _REMEASURE_S:
-        return _measured[1]
+    if _measured and now - _measured[0] < _REMEASURE_S and _measured[1] == CGROUP_ROOT:
+        return _measured[2]
     bounds = [b for b in (_machine_free(), _rlimit_room(), _cgroup_room()) if b is not None]
     room = max(0, min(bounds)) if bounds else 1 << 62
-    _measured[:] = [now, room]
+    _measured[:] = [now, CGROUP_ROOT, room]
     return room
 
 
