@@ -144,6 +144,9 @@ def build_parser() -> argparse.ArgumentParser:
         help="merge the budget's rows by element or by mechanism (default: one row per noise source)",
     )
     out.add_argument("--dc", action="store_true", help="append the DC operating point to the report")
+    from netnoise import cli_montecarlo  # the montecarlo subcommand, in a module of its own
+
+    cli_montecarlo.add_parser(commands, _EPILOG, _count)
     return parser
 
 
@@ -419,6 +422,10 @@ def main(argv: Sequence[str] | None = None) -> int:
     try:
         if args.command == "analyze":
             return run_analyze(args)
+        if args.command == "montecarlo":
+            from netnoise import cli_montecarlo
+
+            return cli_montecarlo.run(args)
         raise UsageError(f"unknown command {args.command!r}")  # argparse rejects these first
     except NetnoiseError as error:
         print(f"{ERROR_PREFIX}{error}", file=sys.stderr)

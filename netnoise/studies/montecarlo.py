@@ -612,6 +612,6 @@ def _worker_count(client, jobs: int) -> int:
 def _chunk_size(trials: int, workers: int, unknowns: int) -> int:
     """Trials per chunk: enough to amortise sending a chunk and a batched
     solve's set-up, small enough for a few chunks per worker (balance, progress)."""
-    cap = max(8, 20000 // max(1, unknowns))
+    cap = max(8, min(256, 20000 // max(1, unknowns)))
     per_worker = math.ceil(trials / (4 * workers)) if workers > 1 else cap
     return int(max(1, min(cap, per_worker, trials)))
