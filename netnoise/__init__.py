@@ -20,6 +20,7 @@ from netnoise.netlist import load_netlist, parse_netlist
 from netnoise.outputs.plotting import plot_noise, save_plot  # matplotlib itself loads only when a plot is drawn
 from netnoise.outputs.report import format_report
 from netnoise.results.result import Contribution, NoiseResult
+from netnoise.studies.montecarlo import MonteCarloResult, Tolerance, montecarlo
 
 __version__ = "0.1.0"
 
@@ -46,4 +47,7 @@ __all__ = [
     "NetlistError",
     "UsageError",
     "CircuitError",
+    "montecarlo",
+    "MonteCarloResult",
+    "Tolerance",
 ]
