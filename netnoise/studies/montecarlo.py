@@ -198,19 +198,74 @@ class _Model:
     keep_density: bool
 
 
-def _trial_problem(model: _Model, values: np.ndarray, temperature_K: float):
-    from netnoise.engine.analysis import _Problem  # the engine's per-circuit state, refilled
-
-    nominal = model.prepared._problem
-    circuit = nominal.system.circuit
+def _trial_circuit(model: _Model, values: np.ndarray) -> ck.Circuit:
+    circuit = model.prepared.circuit
     params = {n: float(v) for n, v, k in zip(model.names, values, model.kinds) if k == "param"}
     elements = {n: float(v) for n, v, k in zip(model.names, values, model.kinds) if k == "element"}
     if params:
         circuit = circuit.with_params(params)
     if elements:
         circuit = circuit.with_values(elements)
+    return circuit
+
+
+def _trial_problem(model: _Model, values: np.ndarray, temperature_K: float):
+    """The engine's full per-circuit state for one trial (the "full" mode)."""
+    from netnoise.engine.analysis import _Problem
+
+    nominal = model.prepared._problem
+    circuit = _trial_circuit(model, values)
     settings = dataclasses.replace(nominal.settings, temperature_K=float(temperature_K))
     return _Problem(circuit, settings, None, nominal.system.refilled(circuit), nominal.options)
+
+
+@dataclass(frozen=True, eq=False)
+class _Trial:
+    """One trial's dense matrices and noise sources (the batched modes)."""
+
+    G: np.ndarray  # (n, n)
+    C: np.ndarray  # (n, n)
+    B: np.ndarray  # (n, K) injection columns
+    sources: Any  # NoiseSources at the trial's temperature
+
+
+def _dense_trial(model: _Model, values: np.ndarray, temperature_K: float) -> _Trial:
+    """One trial stamped straight into dense G and C, in the nominal system's
+    ordering of unknowns (what ``MnaSystem.refilled`` does, without building
+    sparse matrices: for small circuits their construction costs more than
+    the stamping).  Element kinds stamp exactly as in assembly."""
+    from netnoise.engine.mna import _Layout, _Stamps
+    from netnoise.engine.noise_sources import collect_noise_sources
+
+    system = model.prepared.system
+    circuit = _trial_circuit(model, values)
+    n = system.size
+    stamps = _Stamps(circuit, _Layout(system.node_index, system.branch_index, system.internal_index, system.unknowns))
+    by_kind: dict[type, list] = {}
+    for element in circuit.elements:
+        by_kind.setdefault(type(element), []).append(element)
+    for kind, members in by_kind.items():
+        kind.stamp_all(members, stamps)
+    dense = []
+    for which in ("G", "C"):
+        rows, cols, vals = stamps.scalar[which]
+        pieces = [(np.asarray(rows, dtype=np.int64), np.asarray(cols, dtype=np.int64), np.asarray(vals, dtype=float))]
+        pieces += stamps.parts[which]
+        r = np.concatenate([p[0] for p in pieces])
+        c = np.concatenate([p[1] for p in pieces])
+        v = np.concatenate([p[2] for p in pieces])
+        dense.append(np.bincount(r * n + c, weights=v, minlength=n * n).reshape(n, n))
+    # the noise sources need the circuit's rows and elements, and the DC solution only for
+    # excess noise: then (only then) the trial is assembled as a sparse system too
+    view = dataclasses.replace(system, circuit=circuit)
+
+    def dc_solution():
+        from netnoise.engine.dc import solve_operating_point
+
+        return solve_operating_point(system.refilled(circuit))
+
+    sources = collect_noise_sources(view, float(temperature_K), dc_solution)
+    return _Trial(dense[0], dense[1], sources.injection.toarray(), sources)
 
 
 def _pow2(x: np.ndarray) -> np.ndarray:
@@ -255,24 +310,25 @@ def _batched_power(G: np.ndarray, C: np.ndarray, B: np.ndarray, c: np.ndarray, f
 def _run_trials(model: _Model, chunk: tuple[int, np.ndarray, np.ndarray]) -> dict:
     """Per-trial source variances (t, K) and output densities (t, F) of one chunk."""
     first, values, temperature = chunk
-    problems = [_trial_problem(model, values[j], temperature[j]) for j in range(values.shape[0])]
-    names = tuple(s.name for s in problems[0].sources.sources)
-    for j, problem in enumerate(problems):
-        if tuple(s.name for s in problem.sources.sources) != names:
-            raise CircuitError(f"trial {first + j}: the circuit's noise sources changed with its values")
     if model.mode == "full":
         from netnoise.engine.analysis import PreparedAnalysis
 
+        problems = [_trial_problem(model, values[j], temperature[j]) for j in range(values.shape[0])]
+        _same_sources([p.sources for p in problems], first)
         variance = np.array([PreparedAnalysis(p, None).analyze().source_variance for p in problems])
-        density = _densities(model, problems, first).sum(axis=1) if model.keep_density else None
+        trials = [_Trial(p.system.G.toarray(), p.system.C.toarray(), p.sources.injection.toarray(), p.sources)
+                  for p in problems] if model.keep_density else []
+        density = _densities(model, trials, first).sum(axis=1) if model.keep_density else None
         return {"variance": variance, "density": density}
+    trials = [_dense_trial(model, values[j], temperature[j]) for j in range(values.shape[0])]
+    _same_sources([t.sources for t in trials], first)
+    selector = model.prepared._problem.selector
     if model.mode == "exact":
         from netnoise.engine.total_variance import infinite_band_totals
 
         variance = np.array([
-            infinite_band_totals(p.system.G.toarray(), p.system.C.toarray(), p.selector,
-                                 p.sources.injection.toarray(), np.asarray(p.sources.white_density)).variance
-            for p in problems
+            infinite_band_totals(t.G, t.C, selector, t.B, np.asarray(t.sources.white_density)).variance
+            for t in trials
         ])
         if not np.all(np.isfinite(variance)):
             j = int(np.argwhere(~np.isfinite(variance))[0][0])
@@ -280,41 +336,42 @@ def _run_trials(model: _Model, chunk: tuple[int, np.ndarray, np.ndarray]) -> dic
                 f"trial {first + j}: the output noise to infinite bandwidth is unbounded with that trial's values; "
                 "give a finite band"
             )
-        density = _densities(model, problems, first).sum(axis=1) if model.keep_density else None
+        density = _densities(model, trials, first).sum(axis=1) if model.keep_density else None
         return {"variance": variance, "density": density}
     from netnoise.engine.integrate import integrate_band
 
-    t, k = len(problems), len(names)
-    stacks = _stacks(problems)
-    rtol = problems[0].options.rtol
+    t, k = len(trials), len(trials[0].sources)
+    G, C, B = (np.stack([getattr(x, name) for x in trials]) for name in ("G", "C", "B"))
 
     def evaluate(f: np.ndarray) -> np.ndarray:
-        power = _batched_power(*stacks, problems[0].selector, f, first)  # (t, K, F)
-        for j, p in enumerate(problems):
-            power[j] *= p.sources.density(f, "full")
+        power = _batched_power(G, C, B, selector, f, first)  # (t, K, F)
+        for j, x in enumerate(trials):
+            power[j] *= x.sources.density(f, "full")
         return power.reshape(t * k, f.size)
 
     band = integrate_band(
         evaluate, model.low, model.high, points_per_decade=model.points_per_decade,
-        groups=[slice(j * k, (j + 1) * k) for j in range(t)], linear_below=model.linear_below, rtol=rtol,
+        groups=[slice(j * k, (j + 1) * k) for j in range(t)], linear_below=model.linear_below,
+        rtol=model.prepared._problem.options.rtol,
     )
     variance = band.values.reshape(t, k)
     density = band.grid_density.reshape(t, k, -1).sum(axis=1) if model.keep_density else None
     return {"variance": variance, "density": density}
 
 
-def _stacks(problems) -> tuple[np.ndarray, np.ndarray, np.ndarray]:
-    G = np.stack([p.system.G.toarray() for p in problems])
-    C = np.stack([p.system.C.toarray() for p in problems])
-    B = np.stack([p.sources.injection.toarray() for p in problems])
-    return G, C, B
+def _same_sources(all_sources, first: int) -> None:
+    names = tuple(s.name for s in all_sources[0].sources)
+    for j, sources in enumerate(all_sources):
+        if tuple(s.name for s in sources.sources) != names:
+            raise CircuitError(f"trial {first + j}: the circuit's noise sources changed with its values")
 
 
-def _densities(model: _Model, problems, first: int) -> np.ndarray:
+def _densities(model: _Model, trials: list[_Trial], first: int) -> np.ndarray:
     """(t, K, F) per-source output densities on the model's grid."""
-    power = _batched_power(*_stacks(problems), problems[0].selector, model.grid_Hz, first)
-    for j, p in enumerate(problems):
-        power[j] *= p.sources.density(model.grid_Hz, "full")
+    G, C, B = (np.stack([getattr(x, name) for x in trials]) for name in ("G", "C", "B"))
+    power = _batched_power(G, C, B, model.prepared._problem.selector, model.grid_Hz, first)
+    for j, x in enumerate(trials):
+        power[j] *= x.sources.density(model.grid_Hz, "full")
     return power
 
 
