@@ -356,7 +356,7 @@ def _run_trials(model: _Model, chunk: tuple[int, np.ndarray, np.ndarray]) -> dic
     )
     variance = band.values.reshape(t, k)
     density = band.grid_density.reshape(t, k, -1).sum(axis=1) if model.keep_density else None
-    return {"variance": variance, "density": density}
+    return {"variance": variance, "density": density, "solves": t * band.evaluations}
 
 
 def _same_sources(all_sources, first: int) -> None:
@@ -413,6 +413,7 @@ class MonteCarloResult:
     target_rms_V: float | None = None
     method: str = ""
     ran_on: str = ""
+    batched_solves: int = 0  # trial × frequency systems solved in the batched modes
 
     def __post_init__(self) -> None:
         for name in ("nominal_values", "values", "temperature_K", "source_variance", "frequency_Hz", "output_density"):
@@ -654,6 +655,7 @@ def montecarlo(
         source_elements=nominal.source_elements, source_mechanisms=nominal.source_mechanisms,
         source_variance=variance, frequency_Hz=nominal.frequency_Hz, output_density=density, nominal=nominal,
         target_rms_V=None if target_rms is None else float(target_rms), method=method, ran_on=ran_on,
+        batched_solves=int(sum(p.get("solves", 0) for p in parts)),
     )
 
 
