@@ -277,24 +277,27 @@ def _pow2(x: np.ndarray) -> np.ndarray:
 def _batched_power(G: np.ndarray, C: np.ndarray, B: np.ndarray, c: np.ndarray, f: np.ndarray, first: int) -> np.ndarray:
     """(t, K, F) |zᵀ b_k|² for a stack of t circuits at F frequencies, where
     (G + j2πfC)ᵀ z = c: one ``numpy.linalg.solve`` over the stack of t·F
-    matrices (in blocks of ``_BATCH_BYTES``), rows and columns scaled by
-    powers of two first."""
+    matrices (in blocks of ``_BATCH_BYTES``).  Rows are scaled by powers of
+    two first, from the row maxima of |G| and |s|·|C| (within 2x of those of
+    |G + sC|): that steers the partial pivoting; a column scaling by powers
+    of two would not change it, so there is none."""
     t, n, _ = G.shape
     out = np.empty((t, B.shape[2], f.size))
     s = 2j * np.pi * f
+    w_abs = np.abs(s)
     per = max(1, _BATCH_BYTES // (16 * n * n * max(1, f.size)))
     for a in range(0, t, per):
-        y = np.swapaxes(G[a : a + per], 1, 2)[:, None, :, :] + s[None, :, None, None] * np.swapaxes(C[a : a + per], 1, 2)[:, None, :, :]
-        dr = _pow2(np.abs(y).max(axis=3))  # (tb, F, n) row scales
-        y *= dr[..., :, None]
-        dc = _pow2(np.abs(y).max(axis=2))  # column scales of the row-scaled matrix
-        y *= dc[..., None, :]
+        gt = np.swapaxes(G[a : a + per], 1, 2)
+        ct = np.swapaxes(C[a : a + per], 1, 2)
+        row_g, row_c = np.abs(gt).max(axis=2), np.abs(ct).max(axis=2)  # (tb, n)
+        dr = _pow2(np.maximum(row_g[:, None, :], w_abs[None, :, None] * row_c[:, None, :]))  # (tb, F, n)
+        y = gt[:, None, :, :] + s[None, :, None, None] * ct[:, None, :, :]
+        y *= dr[..., None]
         with np.errstate(all="ignore"):
             try:
-                w = np.linalg.solve(y, (dr * c[None, None, :])[..., None])[..., 0]
+                z = np.linalg.solve(y, (dr * c[None, None, :])[..., None])[..., 0]
             except np.linalg.LinAlgError:
-                w = np.full(y.shape[:3], np.nan, dtype=complex)
-        z = w * dc
+                z = np.full(y.shape[:3], np.nan, dtype=complex)
         bad = ~np.isfinite(z).all(axis=2)
         if bad.any():
             j, i = (int(v) for v in np.argwhere(bad)[0])
@@ -302,8 +305,8 @@ def _batched_power(G: np.ndarray, C: np.ndarray, B: np.ndarray, c: np.ndarray, f
                 f"trial {first + a + j}: the circuit equations are singular at {f[i]:.6g} Hz "
                 "with that trial's values"
             )
-        gain = np.einsum("tfn,tnk->tkf", z, B[a : a + per].astype(complex))
-        out[a : a + per] = gain.real**2 + gain.imag**2
+        gain = np.matmul(z, B[a : a + per])  # (tb, F, K)
+        out[a : a + per] = np.swapaxes(gain.real**2 + gain.imag**2, 1, 2)
     return out
 
 
