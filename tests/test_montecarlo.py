@@ -113,6 +113,22 @@ def test_every_trial_of_a_finite_band_matches_the_rc_closed_form():
     np.testing.assert_allclose(result.output_density, density, rtol=1e-9)
 
 
+def test_band_from_above_zero_to_infinity_analyses_each_trial_in_full():
+    result = netnoise.montecarlo(_rc(), trials=12, tolerances={"R1": 0.1, "C1": 0.1}, seed=21, output="n1",
+                                 band=(1e3, math.inf))
+    assert result.method == "each trial analysed in full"
+    r, c = result.values[:, 0], result.values[:, 1]
+    # kT/C minus the stretch below 1 kHz: (2kT/πC)·(π/2 - atan(2π·1k·RC))  (closed form of the RC integral)
+    expected = 2 * K_B * T_DEFAULT / (math.pi * c) * (math.pi / 2 - np.arctan(2 * math.pi * 1e3 * r * c))
+    np.testing.assert_allclose(result.total_variance, expected, rtol=1e-5)
+    assert result.output_density.shape == (12, result.frequency_Hz.size)
+
+
+def test_a_gaussian_draw_that_would_change_a_sign_is_refused():
+    with pytest.raises(UsageError, match="changes sign"):
+        netnoise.montecarlo(_rc(), trials=2000, tolerances={"C1": 0.95}, distribution="gauss", seed=1, output="n1")
+
+
 def test_sensitivity_of_kt_over_c_is_minus_one_half_for_c_and_zero_for_r():
     result = netnoise.montecarlo(_rc(), trials=200, tolerances={"R1": 0.01, "C1": 0.01}, seed=1, output="n1",
                                  keep_density=False)
