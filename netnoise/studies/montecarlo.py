@@ -287,11 +287,11 @@ def _batched_power(G: np.ndarray, C: np.ndarray, B: np.ndarray, c: np.ndarray, f
     w_abs = np.abs(s)
     per = max(1, _BATCH_BYTES // (16 * n * n * max(1, f.size)))
     for a in range(0, t, per):
-        gt = np.swapaxes(G[a : a + per], 1, 2)
-        ct = np.swapaxes(C[a : a + per], 1, 2)
-        row_g, row_c = np.abs(gt).max(axis=2), np.abs(ct).max(axis=2)  # (tb, n)
+        g, cc = G[a : a + per], C[a : a + per]
+        row_g, row_c = np.abs(g).max(axis=1), np.abs(cc).max(axis=1)  # (tb, n): rows of the transposes
         dr = _pow2(np.maximum(row_g[:, None, :], w_abs[None, :, None] * row_c[:, None, :]))  # (tb, F, n)
-        y = gt[:, None, :, :] + s[None, :, None, None] * ct[:, None, :, :]
+        # Y(f)ᵀ as a transposed view of the contiguous G + sC (built in one pass, in memory order)
+        y = np.swapaxes(g[:, None, :, :] + s[None, :, None, None] * cc[:, None, :, :], 2, 3)
         y *= dr[..., None]
         with np.errstate(all="ignore"):
             try:
@@ -305,8 +305,9 @@ def _batched_power(G: np.ndarray, C: np.ndarray, B: np.ndarray, c: np.ndarray, f
                 f"trial {first + a + j}: the circuit equations are singular at {f[i]:.6g} Hz "
                 "with that trial's values"
             )
-        gain = np.matmul(z, B[a : a + per])  # (tb, F, K)
-        out[a : a + per] = np.swapaxes(gain.real**2 + gain.imag**2, 1, 2)
+        b = B[a : a + per]  # real: two real products, not one complex one with a cast (much slower)
+        re, im = np.matmul(np.ascontiguousarray(z.real), b), np.matmul(np.ascontiguousarray(z.imag), b)
+        out[a : a + per] = np.swapaxes(re * re + im * im, 1, 2)  # (tb, K, F)
     return out
 
 
