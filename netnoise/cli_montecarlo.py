@@ -51,7 +51,9 @@ def add_parser(commands, epilog: str, count) -> None:
                        help="draw each trial's temperature uniformly between LOW and HIGH °C")
     study.add_argument("--seed", type=count(0), metavar="S", help="seed of the random draws (default: a fresh one, reported)")
     study.add_argument("--target", metavar="RMS", help="largest acceptable total output noise, V rms (suffixes: 5u), for the yield")
-    study.add_argument("--jobs", type=count(1), default=1, metavar="N", help="local worker processes (default 1)")
+    study.add_argument("--jobs", type=count(1), metavar="N",
+                       help="local worker processes (default: 1 for small circuits, solved batched; "
+                       "every core for larger ones)")
     study.add_argument("--cluster", metavar="ADDRESS", help="run the trials on the dask scheduler at ADDRESS "
                        "(pip install 'netnoise[cluster]')")
     where = mc.add_argument_group("what to analyse (defaults come from the netlist's .noise card)")
@@ -98,7 +100,7 @@ def run(args: argparse.Namespace) -> int:
     from netnoise.studies.montecarlo import parse_tolerance
 
     tolerances = [parse_tolerance(text) for text in args.tol]
-    if args.cluster is not None and args.jobs != 1:
+    if args.cluster is not None and args.jobs is not None:
         raise UsageError("--jobs is for this machine and --cluster sends the trials to a scheduler; give one of them")
     circuit = cli._load(args.netlist)
     cli.check_outputs_against_includes(args, circuit)

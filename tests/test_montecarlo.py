@@ -117,6 +117,10 @@ def test_band_from_above_zero_to_infinity_analyses_each_trial_in_full():
     result = netnoise.montecarlo(_rc(), trials=12, tolerances={"R1": 0.1, "C1": 0.1}, seed=21, output="n1",
                                  band=(1e3, math.inf))
     assert result.method == "each trial analysed in full"
+    from netnoise.studies.execution import usable_cores  # trial-by-trial studies spread over the cores
+
+    cores = min(usable_cores(), 6)  # 12 trials in 6 chunks
+    assert result.ran_on == ("this process" if cores == 1 else f"{cores} local processes")
     r, c = result.values[:, 0], result.values[:, 1]
     # kT/C minus the stretch below 1 kHz: (2kT/πC)·(π/2 - atan(2π·1k·RC))  (closed form of the RC integral)
     expected = 2 * K_B * T_DEFAULT / (math.pi * c) * (math.pi / 2 - np.arctan(2 * math.pi * 1e3 * r * c))

@@ -563,7 +563,7 @@ def montecarlo(
     band: tuple[float, float] | None = None,
     points_per_decade: float | None = None,
     temperature_celsius: float | None = None,
-    jobs: int = 1,
+    jobs: int | None = None,
     client: Any = None,
     chunk_trials: int | None = None,
     keep_density: bool = True,
@@ -582,7 +582,8 @@ def montecarlo(
     uniform over it; else every trial runs at ``temperature_celsius`` (or the
     netlist's/the default).  ``seed``: the root of every trial's random stream
     (None: a fresh one, recorded in the result).  ``target_rms``: V, for the
-    yield.  ``jobs``: local worker processes; ``client``: a
+    yield.  ``jobs``: local worker processes (None: one for circuits solved
+    batched, every usable core for those analysed trial by trial); ``client``: a
     ``dask.distributed.Client`` (wins over ``jobs``).  ``progress`` is called
     with the number of trials just finished.  The other arguments are those of
     :func:`netnoise.analyze`.
@@ -598,7 +599,7 @@ def montecarlo(
         raise UsageError(f"distribution must be one of {', '.join(DISTRIBUTIONS)}, got {distribution!r}")
     if target_rms is not None and not (target_rms > 0 and math.isfinite(target_rms)):
         raise UsageError(f"target rms must be a positive number of volts, got {target_rms!r}")
-    if isinstance(jobs, bool) or int(jobs) != jobs or jobs < 1:
+    if jobs is not None and (isinstance(jobs, bool) or int(jobs) != jobs or jobs < 1):
         raise UsageError(f"jobs must be a whole number of 1 or more, got {jobs!r}")
     range_K = None
     if temperature_range_celsius is not None:
@@ -635,6 +636,10 @@ def montecarlo(
         grid_Hz=np.asarray(nominal.frequency_Hz, dtype=float), low=settings.low, high=settings.high,
         points_per_decade=settings.points_per_decade, linear_below=linear_below, keep_density=keep_density,
     )
+    if jobs is None:  # small circuits: batched in one process; larger ones: spread over the cores
+        from netnoise.studies.execution import usable_cores
+
+        jobs = usable_cores() if mode == "full" and trials > 1 else 1
     workers = _worker_count(client, jobs)
     size = chunk_trials or _chunk_size(trials, workers, prepared._problem.system.size)
     chunks = [(a, values[a : a + size], temperature[a : a + size]) for a in range(0, trials, size)]
