@@ -128,6 +128,34 @@ def test_band_from_above_zero_to_infinity_analyses_each_trial_in_full():
     assert result.output_density.shape == (12, result.frequency_Hz.size)
 
 
+FOLLOWER = """a unity-gain buffer of our own whose amplifier noise is a parameter
+.param en_u1=5n
+.model amp opamp (en={en_u1} gbw=10meg aol=1e6)
+.subckt load a
+R1 a 0 1k
+C1 a 0 1n
+.ends
+V1 in 0 0
+Xu1 in out out amp
+Xl out load
+Xm in load
+.end
+"""
+
+
+def test_amplifier_noise_varied_through_a_param_and_hierarchical_patterns():
+    circuit = netnoise.parse_netlist(FOLLOWER)
+    result = netnoise.montecarlo(circuit, trials=40, tolerances={"en_u1": 0.3, "xl.*": 0.1}, seed=1, output="out",
+                                 band=(1.0, 1e3), keep_density=False)
+    assert result.targets == ("Xl.R1", "Xl.C1", "en_u1")  # X1.* style patterns reach inside instances only
+    en = result.values[:, 2]
+    # a voltage follower passes its amplifier's eₙ with the closed-loop gain A0/(1 + A0) (common practice,
+    # feedback theory); 1 kHz is 1e-4 of the gain-bandwidth, so the roll-off is below 1e-8
+    a0 = 1e6
+    expected = en**2 * (a0 / (1 + a0)) ** 2 * (1e3 - 1.0)
+    np.testing.assert_allclose(result.total_variance, expected, rtol=1e-6)
+
+
 def test_a_gaussian_draw_that_would_change_a_sign_is_refused():
     with pytest.raises(UsageError, match="changes sign"):
         netnoise.montecarlo(_rc(), trials=2000, tolerances={"C1": 0.95}, distribution="gauss", seed=1, output="n1")
