@@ -42,7 +42,7 @@ import dataclasses
 import fnmatch
 import math
 import re
-from dataclasses import dataclass, field
+from dataclasses import dataclass
 from typing import Any, Callable, Mapping, Sequence
 
 import numpy as np
