@@ -20,6 +20,7 @@ import argparse
 import datetime
 import os
 import platform
+import resource
 import sys
 import time
 from pathlib import Path
@@ -41,12 +42,22 @@ TOLERANCES = {"R*": 0.01, "C*": 0.05}
 
 
 def best(fn, repeat):
-    times, out = [], None
+    """Best wall time and best CPU time (this process and its finished children) of ``repeat`` runs."""
+    walls, cpus, out = [], [], None
     for _ in range(repeat):
+        c0 = _cpu()
         t = time.perf_counter()
         out = fn()
-        times.append(time.perf_counter() - t)
-    return min(times), out
+        walls.append(time.perf_counter() - t)
+        cpus.append(_cpu() - c0)
+    return min(walls), min(cpus), out
+
+
+def _cpu() -> float:
+    """User + system CPU seconds of this process and of its children that have ended (workers)."""
+    own = resource.getrusage(resource.RUSAGE_SELF)
+    children = resource.getrusage(resource.RUSAGE_CHILDREN)
+    return own.ru_utime + own.ru_stime + children.ru_utime + children.ru_stime
 
 
 def run_study(circuit, trials, jobs):
@@ -78,7 +89,7 @@ def bare_reference(circuit, result, frequencies_per_trial):
     return solve
 
 
-def main() -> None:
+def main() -> None:  # under a main guard: the jobs=2 workers are spawned and import this module
     parser = argparse.ArgumentParser(description=__doc__, formatter_class=argparse.RawDescriptionHelpFormatter)
     parser.add_argument("--quick", action="store_true")
     parser.add_argument("--repeat", type=int, default=2)
@@ -90,18 +101,26 @@ def main() -> None:
     print(f"# netnoise Monte Carlo benchmark, {datetime.date.today()}, {platform.processor() or platform.machine()}, "
           f"{os.cpu_count()} cores, Python {platform.python_version()}, numpy {np.__version__}")
     with threadpool_limits(limits=1):
-        t1, result = best(lambda: run_study(circuit, trials, 1), args.repeat)
+        t1, c1, result = best(lambda: run_study(circuit, trials, 1), args.repeat)
         per_trial = result.batched_solves / trials
         solve = bare_reference(circuit, result, int(round(per_trial)))
-        tb, _ = best(solve, args.repeat)
-    print(f"{trials} trials of {result.nominal.source_names.__len__()} sources, "
+        tb, cb, _ = best(solve, args.repeat)
+    print(f"{trials} trials of {len(result.nominal.source_names)} sources, "
           f"{netnoise.prepare(circuit, band=BAND).system.size} unknowns, "
-          f"{per_trial:.0f} frequencies per trial ({result.batched_solves} systems)")
-    print(f"montecarlo jobs=1          {t1:8.2f} s")
-    print(f"bare batched numpy.solve   {tb:8.2f} s   ratio {t1 / tb:.2f} (target <= 2)")
-    t2, result2 = best(lambda: run_study(circuit, trials, 2), args.repeat)
+          f"{per_trial:.0f} frequencies per trial ({result.batched_solves} systems); "
+          f"load average {os.getloadavg()[0]:.1f} on {os.cpu_count()} cores")
+    print("                            wall        CPU")
+    print(f"montecarlo jobs=1          {t1:7.2f} s  {c1:7.2f} s")
+    print(f"bare batched numpy.solve   {tb:7.2f} s  {cb:7.2f} s   ratio {t1 / tb:.2f} wall, {c1 / cb:.2f} CPU "
+          "(target <= 2)")
+    t2, c2, result2 = best(lambda: run_study(circuit, trials, 2), args.repeat)
     same = np.array_equal(result.total_rms_V, result2.total_rms_V)
-    print(f"montecarlo jobs=2          {t2:8.2f} s   speed-up {t1 / t2:.2f} (target >= 1.7); same totals: {same}")
+    print(f"montecarlo jobs=2          {t2:7.2f} s  {c2:7.2f} s   speed-up {t1 / t2:.2f} wall (target >= 1.7); "
+          f"same totals: {same}")
+    # on a shared machine the wall speed-up depends on the others' load; the CPU the two workers
+    # needed says what an idle 2-core machine would give, if the chunks balance:
+    print(f"  CPU of jobs=2 / CPU of jobs=1 = {c2 / c1:.2f}: on idle cores a speed-up of about {2 * c1 / c2:.2f}")
+    print(f"load average at end {os.getloadavg()[0]:.1f}")
 
 
 if __name__ == "__main__":

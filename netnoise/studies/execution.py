@@ -23,6 +23,7 @@ from __future__ import annotations
 import multiprocessing
 import os
 from concurrent.futures import FIRST_COMPLETED, ProcessPoolExecutor, wait
+from concurrent.futures.process import BrokenProcessPool
 from typing import Any, Callable, Sequence
 
 from netnoise.errors import UsageError
@@ -100,17 +101,25 @@ def run_chunks(
 
 def _on_processes(jobs: int, work: Work, shared: Any, chunks: Sequence[Any], done) -> None:
     context = multiprocessing.get_context("spawn")
-    with ProcessPoolExecutor(max_workers=jobs, mp_context=context, initializer=_init_worker, initargs=(shared,)) as pool:
-        pending = {pool.submit(_run_in_worker, work, chunk): i for i, chunk in enumerate(chunks)}
-        try:
-            while pending:
-                finished, _ = wait(pending, return_when=FIRST_COMPLETED)
-                for future in finished:
-                    done(pending.pop(future), future.result())
-        except BaseException:
-            for future in pending:
-                future.cancel()
-            raise
+    try:
+        with ProcessPoolExecutor(max_workers=jobs, mp_context=context, initializer=_init_worker,
+                                 initargs=(shared,)) as pool:
+            pending = {pool.submit(_run_in_worker, work, chunk): i for i, chunk in enumerate(chunks)}
+            try:
+                while pending:
+                    finished, _ = wait(pending, return_when=FIRST_COMPLETED)
+                    for future in finished:
+                        done(pending.pop(future), future.result())
+            except BaseException:
+                for future in pending:
+                    future.cancel()
+                raise
+    except BrokenProcessPool:
+        raise UsageError(
+            "a worker process stopped before finishing its work (out of memory, killed, or started from "
+            "a script without a main guard: worker processes are spawned, so a script that calls this "
+            "with jobs > 1 must do so under `if __name__ == \"__main__\":`)"
+        ) from None
 
 
 def _on_dask(client: Any, work: Work, shared: Any, chunks: Sequence[Any], done) -> None:
