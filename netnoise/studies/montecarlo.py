@@ -290,9 +290,10 @@ def _batched_power(G: np.ndarray, C: np.ndarray, B: np.ndarray, c: np.ndarray, f
         g, cc = G[a : a + per], C[a : a + per]
         row_g, row_c = np.abs(g).max(axis=1), np.abs(cc).max(axis=1)  # (tb, n): rows of the transposes
         dr = _pow2(np.maximum(row_g[:, None, :], w_abs[None, :, None] * row_c[:, None, :]))  # (tb, F, n)
-        # Y(f)ᵀ as a transposed view of the contiguous G + sC (built in one pass, in memory order)
-        y = np.swapaxes(g[:, None, :, :] + s[None, :, None, None] * cc[:, None, :, :], 2, 3)
-        y *= dr[..., None]
+        # Y(f)ᵀ as a transposed view of the contiguous G + sC, its rows scaled in memory order
+        full = g[:, None, :, :] + s[None, :, None, None] * cc[:, None, :, :]
+        full *= dr[:, :, None, :]
+        y = np.swapaxes(full, 2, 3)
         with np.errstate(all="ignore"):
             try:
                 z = np.linalg.solve(y, (dr * c[None, None, :])[..., None])[..., 0]
