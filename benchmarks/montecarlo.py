@@ -89,7 +89,7 @@ def bare_reference(circuit, result, frequencies_per_trial):
     return solve
 
 
-def main() -> None:  # under a main guard: the jobs=2 workers are spawned and import this module
+def main() -> None:  # under a main guard: the jobs=2 workers start fresh interpreters that import this module
     parser = argparse.ArgumentParser(description=__doc__, formatter_class=argparse.RawDescriptionHelpFormatter)
     parser.add_argument("--quick", action="store_true")
     parser.add_argument("--repeat", type=int, default=2)

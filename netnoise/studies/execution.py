@@ -8,8 +8,8 @@ parts come back in the order of the chunks, whatever finished first, so a
 study's result does not depend on where it ran.
 
 * ``jobs=1``, no client: a plain loop in this process.
-* ``jobs=N``: N local worker processes (started with ``spawn``, safe beside
-  threads); ``shared`` travels once per worker, through the pool's
+* ``jobs=N``: N local worker processes (forked from a fork server, else
+  spawned; both safe beside threads); ``shared`` travels once per worker, through the pool's
   initializer, and each worker's BLAS is held to one thread (threadpoolctl)
   so N workers do not oversubscribe the cores.
 * ``client``: a ``dask.distributed.Client``; ``shared`` is scattered to every
@@ -99,8 +99,18 @@ def run_chunks(
     return parts
 
 
+def _process_context():
+    """Workers are forked from a fork server that has imported the study modules once (quick to
+    start, and safe beside threads, unlike a plain fork); where there is none (Windows), spawned."""
+    if "forkserver" in multiprocessing.get_all_start_methods():
+        context = multiprocessing.get_context("forkserver")
+        context.set_forkserver_preload(["netnoise.studies.montecarlo"])
+        return context
+    return multiprocessing.get_context("spawn")
+
+
 def _on_processes(jobs: int, work: Work, shared: Any, chunks: Sequence[Any], done) -> None:
-    context = multiprocessing.get_context("spawn")
+    context = _process_context()
     try:
         with ProcessPoolExecutor(max_workers=jobs, mp_context=context, initializer=_init_worker,
                                  initargs=(shared,)) as pool:
@@ -117,8 +127,8 @@ def _on_processes(jobs: int, work: Work, shared: Any, chunks: Sequence[Any], don
     except BrokenProcessPool:
         raise UsageError(
             "a worker process stopped before finishing its work (out of memory, killed, or started from "
-            "a script without a main guard: worker processes are spawned, so a script that calls this "
-            "with jobs > 1 must do so under `if __name__ == \"__main__\":`)"
+            "a script without a main guard: worker processes start from a fresh interpreter, so a script "
+            "that calls this with jobs > 1 must do so under `if __name__ == \"__main__\":`)"
         ) from None
 
 
