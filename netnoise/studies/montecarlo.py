@@ -42,6 +42,7 @@ import dataclasses
 import fnmatch
 import math
 import re
+import time
 from dataclasses import dataclass
 from typing import Any, Callable, Mapping, Sequence
 
@@ -313,7 +314,15 @@ def _batched_power(G: np.ndarray, C: np.ndarray, B: np.ndarray, c: np.ndarray, f
 
 
 def _run_trials(model: _Model, chunk: tuple[int, np.ndarray, np.ndarray]) -> dict:
-    """Per-trial source variances (t, K) and output densities (t, F) of one chunk."""
+    """Per-trial source variances (t, K) and output densities (t, F) of one chunk,
+    and the CPU seconds this thread spent on it."""
+    start = time.thread_time()
+    part = _trials_of_chunk(model, chunk)
+    part["cpu_s"] = time.thread_time() - start
+    return part
+
+
+def _trials_of_chunk(model: _Model, chunk: tuple[int, np.ndarray, np.ndarray]) -> dict:
     first, values, temperature = chunk
     if model.mode == "full":
         from netnoise.engine.analysis import PreparedAnalysis
@@ -419,6 +428,7 @@ class MonteCarloResult:
     method: str = ""
     ran_on: str = ""
     batched_solves: int = 0  # trial × frequency systems solved in the batched modes
+    cpu_seconds: float = 0.0  # CPU time spent on the trials, summed over wherever they ran
 
     def __post_init__(self) -> None:
         for name in ("nominal_values", "values", "temperature_K", "source_variance", "frequency_Hz", "output_density"):
@@ -666,6 +676,7 @@ def montecarlo(
         source_variance=variance, frequency_Hz=nominal.frequency_Hz, output_density=density, nominal=nominal,
         target_rms_V=None if target_rms is None else float(target_rms), method=method, ran_on=ran_on,
         batched_solves=int(sum(p.get("solves", 0) for p in parts)),
+        cpu_seconds=float(sum(p["cpu_s"] for p in parts)),
     )
 
 
