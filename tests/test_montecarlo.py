@@ -205,6 +205,28 @@ def test_one_seed_gives_bit_identical_trials_in_process_on_processes_and_on_a_cl
     assert not np.array_equal(other_seed.values[:, 0], here.values[:, 1])
 
 
+def test_execution_layer_returns_parts_in_chunk_order_wherever_they_ran():
+    import operator
+
+    from dask.distributed import Client, LocalCluster
+
+    from netnoise.studies.execution import run_chunks
+
+    chunks = [np.arange(i, i + 3) for i in range(0, 30, 3)]
+    expected = [100 + c for c in chunks]  # operator.add(shared, chunk): shared sent once per worker
+    seen = []
+    here = run_chunks(operator.add, 100, chunks, jobs=1, on_done=lambda i, part: seen.append(i))
+    two = run_chunks(operator.add, 100, chunks, jobs=2)
+    with LocalCluster(n_workers=2, threads_per_worker=1, processes=False, dashboard_address=None) as cluster:
+        with Client(cluster) as client:
+            remote = run_chunks(operator.add, 100, chunks, client=client)
+    for parts in (here, two, remote):
+        assert [p.tolist() for p in parts] == [e.tolist() for e in expected]
+    assert seen == list(range(10))
+    with pytest.raises(UsageError, match="jobs"):
+        run_chunks(operator.add, 1, chunks, jobs=0)
+
+
 # --- the result set ---------------------------------------------------------------------
 def test_result_is_immutable_and_its_statistics_follow_its_arrays():
     result = netnoise.montecarlo(_rc(), trials=40, tolerances={"C1": 0.2}, seed=8, output="n1", target_rms=2.0e-6,
