@@ -330,9 +330,10 @@ def _trials_of_chunk(model: _Model, chunk: tuple[int, np.ndarray, np.ndarray]) -
         problems = [_trial_problem(model, values[j], temperature[j]) for j in range(values.shape[0])]
         _same_sources([p.sources for p in problems], first)
         variance = np.array([PreparedAnalysis(p, None).analyze().source_variance for p in problems])
-        trials = [_Trial(p.system.G.toarray(), p.system.C.toarray(), p.sources.injection.toarray(), p.sources)
-                  for p in problems] if model.keep_density else []
-        density = _densities(model, trials, first).sum(axis=1) if model.keep_density else None
+        density = None
+        if model.keep_density:  # the engine's own solver path (sparse or banded for large circuits)
+            k = len(problems[0].sources)
+            density = np.array([p.densities(model.grid_Hz)[:k].sum(axis=0) for p in problems])
         return {"variance": variance, "density": density}
     trials = [_dense_trial(model, values[j], temperature[j]) for j in range(values.shape[0])]
     _same_sources([t.sources for t in trials], first)
