@@ -276,7 +276,8 @@ def test_command_line_writes_report_json_and_csv(tmp_path, capsys):
     netlist = tmp_path / "rc.cir"
     netlist.write_text(RC)
     status = main(["montecarlo", str(netlist), "--trials", "30", "--tol", "C*=10%", "--out", "n1",
-                   "--seed", "12", "--target", "2.1u", "--json", "-", "--csv", str(tmp_path / "t.csv")])
+                   "--seed", "12", "--target", "2.1u", "--json", "-", "--csv", str(tmp_path / "t.csv"),
+                   "--plot", str(tmp_path / "spread.png")])
     captured = capsys.readouterr()
     assert status == 0, captured.err
     data = json.loads(captured.out)["montecarlo"]
@@ -289,6 +290,7 @@ def test_command_line_writes_report_json_and_csv(tmp_path, capsys):
     assert "yield" in captured.err and "µV rms" in captured.err
     rows = (tmp_path / "t.csv").read_text().splitlines()
     assert rows[0] == "trial,total_rms_V,temperature_K,C1" and len(rows) == 31
+    assert (tmp_path / "spread.png").read_bytes()[:8] == b"\x89PNG\r\n\x1a\n"
 
 
 @pytest.mark.parametrize(

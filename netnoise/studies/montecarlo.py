@@ -638,6 +638,10 @@ def montecarlo(
     targets = _match(circuit, _as_tolerances(tolerances))
     values, temperature = _draw(targets, trials, seed, distribution, range_K, prepared._problem.settings.temperature_K)
 
+    if keep_density:
+        from netnoise.engine.resources import require_memory
+
+        require_memory(trials * nominal.frequency_Hz.size * 8 * 2, "the per-trial output densities (keep_density)")
     mode, method = _mode(prepared, options)
     settings = prepared._problem.settings
     linear_below = None
