@@ -182,9 +182,10 @@ def test_a_param_tolerance_changes_what_depends_on_it():
 
 # --- reproducibility across execution --------------------------------------------------
 def _repro_run(**where):
+    # default chunks (of 64 trials: 3 here), as a user gets them
     return netnoise.montecarlo(
-        _rc(), trials=24, tolerances={"R1": 0.05, "C1": 0.1}, seed=77, output="n1", band=(10.0, 1e5),
-        temperature_range_celsius=(0, 50), chunk_trials=5, keep_density=False, **where,
+        _rc(), trials=150, tolerances={"R1": 0.05, "C1": 0.1}, seed=77, output="n1", band=(10.0, 1e5),
+        temperature_range_celsius=(0, 50), keep_density=False, **where,
     )
 
 
@@ -201,7 +202,7 @@ def test_one_seed_gives_bit_identical_trials_in_process_on_processes_and_on_a_cl
         assert np.array_equal(here.values, other.values)
         assert np.array_equal(here.temperature_K, other.temperature_K)
         assert np.array_equal(here.total_rms_V, other.total_rms_V)
-    other_seed = netnoise.montecarlo(_rc(), trials=24, tolerances={"C1": 0.1}, seed=78, output="n1", keep_density=False)
+    other_seed = netnoise.montecarlo(_rc(), trials=150, tolerances={"C1": 0.1}, seed=78, output="n1", keep_density=False)
     assert not np.array_equal(other_seed.values[:, 0], here.values[:, 1])
 
 

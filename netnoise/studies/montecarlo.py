@@ -19,13 +19,15 @@ Distributions.  ``"uniform"``: a value within ±PCT of nominal, uniformly.
 ``"gauss"``: normal about nominal with ±PCT = ±3σ.
 
 How a trial is solved.  Trials are solved in chunks.  Within a chunk every
-trial is refilled (``MnaSystem.refilled``, the same ordering of unknowns)
-and then, for circuits up to ``DENSE_LIMIT`` unknowns:
+trial's values are stamped in the nominal system's ordering of unknowns
+(straight into dense matrices for small circuits, ``MnaSystem.refilled``
+otherwise); then, for circuits up to ``DENSE_LIMIT`` unknowns:
 
 * finite band: the trials × frequencies adjoint systems are solved by one
   batched ``numpy.linalg.solve`` on a stack of matrices, and the band is
-  integrated adaptively for every trial at once (the frequencies one trial
-  needs are solved for all);
+  integrated adaptively for every trial of the chunk at once (the
+  frequencies one trial needs are solved for all; chunks of a size set by
+  the circuit alone, so the totals do not depend on where they ran);
 * band to infinity, white noise from 0 Hz: each trial's exact state-space
   total (:mod:`netnoise.engine.total_variance`), the density for the plots
   batched as above;
@@ -597,7 +599,10 @@ def montecarlo(
     yield.  ``jobs``: local worker processes (None: one for circuits solved
     batched, every usable core for those analysed trial by trial); ``client``: a
     ``dask.distributed.Client`` (wins over ``jobs``).  ``progress`` is called
-    with the number of trials just finished.  The other arguments are those of
+    with the number of trials just finished.  ``chunk_trials`` overrides the
+    trials per chunk (with a finite band it changes the integrator's shared
+    frequencies, so the totals' last digits).  ``keep_density=False`` keeps no
+    per-trial spectrum.  The other arguments are those of
     :func:`netnoise.analyze`.
     """
     from netnoise.engine.analysis import _linear_start, _positive, prepare
@@ -657,7 +662,7 @@ def montecarlo(
 
         jobs = usable_cores() if mode == "full" and trials > 1 else 1
     workers = _worker_count(client, jobs)
-    size = chunk_trials or _chunk_size(trials, workers, prepared._problem.system.size)
+    size = chunk_trials or _chunk_size(trials, workers, prepared._problem.system.size, mode)
     chunks = [(a, values[a : a + size], temperature[a : a + size]) for a in range(0, trials, size)]
 
     def on_done(i, part):
@@ -694,9 +699,17 @@ def _worker_count(client, jobs: int) -> int:
         return 1
 
 
-def _chunk_size(trials: int, workers: int, unknowns: int) -> int:
+def _chunk_size(trials: int, workers: int, unknowns: int, mode: str) -> int:
     """Trials per chunk: enough to amortise sending a chunk and a batched
-    solve's set-up, small enough for a few chunks per worker (balance, progress)."""
+    solve's set-up, small enough for a few chunks per worker (balance, progress).
+
+    In the "band" mode the trials of a chunk share the integrator's
+    frequencies (a refinement one trial needs is solved for all), so a trial's
+    total depends, in its last digits, on its chunk: there the size is fixed
+    by the circuit alone, never by where the chunks run, so that a seed gives
+    the same totals bit for bit in one process, on N processes or a cluster."""
+    if mode == "band":
+        return int(max(1, min(64, max(8, 20000 // max(1, unknowns)), trials)))
     cap = max(8, min(256, 20000 // max(1, unknowns)))
     per_worker = math.ceil(trials / (4 * workers)) if workers > 1 else cap
     return int(max(1, min(cap, per_worker, trials)))
