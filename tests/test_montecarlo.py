@@ -294,6 +294,25 @@ def test_command_line_writes_report_json_and_csv(tmp_path, capsys):
     assert (tmp_path / "spread.png").read_bytes()[:8] == b"\x89PNG\r\n\x1a\n"
 
 
+def test_command_line_sends_the_trials_to_a_cluster(tmp_path, capsys):
+    from dask.distributed import LocalCluster
+
+    from netnoise.cli import main
+
+    netlist = tmp_path / "rc.cir"
+    netlist.write_text(RC)
+    args = ["montecarlo", str(netlist), "--trials", "20", "--tol", "C1=10%", "--out", "n1", "--seed", "3",
+            "--json", "-"]
+    assert main(args) == 0
+    here = json.loads(capsys.readouterr().out)["montecarlo"]
+    with LocalCluster(n_workers=1, threads_per_worker=1, processes=False, dashboard_address=None) as cluster:
+        assert main(args + ["--cluster", cluster.scheduler_address]) == 0
+        captured = capsys.readouterr()
+    remote = json.loads(captured.out)["montecarlo"]
+    assert "run in a dask cluster" in captured.err
+    assert remote["total_rms_V"] == here["total_rms_V"]  # one seed, the same trials wherever they ran
+
+
 @pytest.mark.parametrize(
     "extra, message",
     [
