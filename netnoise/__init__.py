@@ -40,6 +40,9 @@ _LAZY = {
     "Circuit": ("netnoise.circuit.flat", "Circuit"),
     "NoiseResult": ("netnoise.results.result", "NoiseResult"),
     "Contribution": ("netnoise.results.result", "Contribution"),
+    "montecarlo": ("netnoise.studies.montecarlo", "montecarlo"),
+    "MonteCarloResult": ("netnoise.studies.montecarlo", "MonteCarloResult"),
+    "Tolerance": ("netnoise.studies.montecarlo", "Tolerance"),
 }
 
 __all__ = [
@@ -68,6 +71,9 @@ __all__ = [
     "NetlistError",
     "UsageError",
     "CircuitError",
+    "montecarlo",
+    "MonteCarloResult",
+    "Tolerance",
     "__version__",
 ]
 
@@ -106,3 +112,4 @@ if TYPE_CHECKING:  # what the lazy names are, for type checkers and readers
     from netnoise.outputs.report import format_report
     from netnoise.results import figures
     from netnoise.results.result import Contribution, NoiseResult
+    from netnoise.studies.montecarlo import MonteCarloResult, Tolerance, montecarlo

@@ -213,6 +213,9 @@ def build_parser() -> argparse.ArgumentParser:
         help="rank every value by its effect on the rms noise (and on the speed, with an input source)",
     )
     _add_sweep_command(commands)
+    from netnoise import cli_montecarlo  # the montecarlo subcommand, in a module of its own
+
+    cli_montecarlo.add_parser(commands, _EPILOG, _count)
     return parser
 
 
@@ -800,6 +803,10 @@ def main(argv: Sequence[str] | None = None) -> int:
             return run_analyze(args)
         if args.command == "sweep":
             return run_sweep(args)
+        if args.command == "montecarlo":
+            from netnoise import cli_montecarlo
+
+            return cli_montecarlo.run(args)
         raise UsageError(f"unknown command {args.command!r}")  # argparse rejects these first
     except NetnoiseError as error:
         print(f"{ERROR_PREFIX}{_message(error)}", file=sys.stderr)

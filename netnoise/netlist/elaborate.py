@@ -26,6 +26,7 @@ from __future__ import annotations
 import contextlib
 import dataclasses
 import difflib
+import functools
 import math
 from dataclasses import dataclass, field
 from typing import Any
@@ -530,6 +531,10 @@ def elaborate(
     return _flat_circuit(parsed, top, source_file, {})
 
 
+def _rebuilt(parsed: ParsedFile, top: Definition, source_file: str, overrides: dict[str, float], new_overrides):
+    return _flat_circuit(parsed, top, source_file, {**overrides, **new_overrides})
+
+
 def _flat_circuit(parsed: ParsedFile, top: Definition, source_file: str, overrides: dict[str, float]) -> c.Circuit:
     notices: list[str] = []
     engine = _Elaborator(notices, overrides)
@@ -557,8 +562,9 @@ def _flat_circuit(parsed: ParsedFile, top: Definition, source_file: str, overrid
         if isinstance(statement, OptionsCard):
             notices.append(f"{_where(statement.loc)}: .options ignored: netnoise has no simulator options to set")
 
-    def rebuild(new_overrides):
-        return _flat_circuit(parsed, top, source_file, {**overrides, **new_overrides})
+    # a partial of module-level functions, not a closure: the circuit can be pickled
+    # (sent to worker processes or a cluster by netnoise.studies)
+    rebuild = functools.partial(_rebuilt, parsed, top, source_file, overrides)
 
     return c.Circuit(
         title=parsed.title,
