@@ -140,18 +140,21 @@ def _match(circuit: ck.Circuit, tolerances: tuple[Tolerance, ...]) -> _Targets:
             chosen.pop(hit, None)
             chosen[hit] = tol.fraction
     items = sorted(chosen.items(), key=lambda kv: kv[0][0] != "element")  # elements first, stable
-    names, kinds, nominal, fraction = [], [], [], []
+    chosen_names: list[str] = []
+    kinds: list[str] = []
+    nominal: list[float] = []
+    fraction: list[float] = []
     for (kind, name), frac in items:
         value = circuit.element(name).primary_value if kind == "element" else circuit.parameters[name]
         if frac == 0.0:
             continue
         if value is None or not math.isfinite(value) or value == 0.0:
             raise UsageError(f"'{name}' has no non-zero nominal value to apply a tolerance to")
-        names.append(name)
+        chosen_names.append(name)
         kinds.append(kind)
         nominal.append(float(value))
         fraction.append(frac)
-    return _Targets(tuple(names), tuple(kinds), np.array(nominal, dtype=float), np.array(fraction, dtype=float))
+    return _Targets(tuple(chosen_names), tuple(kinds), np.array(nominal, dtype=float), np.array(fraction, dtype=float))
 
 
 # --- the draws ----------------------------------------------------------------
@@ -248,7 +251,7 @@ def _dense_trial(model: _Model, values: np.ndarray, temperature_K: float) -> _Tr
     for element in circuit.elements:
         by_kind.setdefault(type(element), []).append(element)
     for kind, members in by_kind.items():
-        kind.stamp_all(members, stamps)
+        kind.stamp_all(members, stamps)  # type: ignore[attr-defined]
     dense = []
     for which in ("G", "C"):
         rows, cols, vals = stamps.scalar[which]
@@ -629,8 +632,8 @@ def montecarlo(
         if temperature_celsius is None:
             temperature_celsius = 0.5 * (low_c + high_c)  # the nominal analysis: the middle of the range
     if seed is None:
-        seed = int(np.random.SeedSequence().entropy)
-    elif isinstance(seed, bool) or int(seed) != seed or seed < 0:
+        seed = int(np.random.SeedSequence().entropy)  # type: ignore[arg-type]  # an int when drawn
+    elif isinstance(seed, bool) or not isinstance(seed, (int, np.integer)) or int(seed) != seed or seed < 0:
         raise UsageError(f"seed must be a whole number of 0 or more, got {seed!r}")
     seed = int(seed)
     options = options or SolverOptions()
