@@ -109,4 +109,6 @@ def small_circuit(nodes: int = 20, seed: int = 1) -> str:
 
 def four_element() -> str:
     """The smallest useful circuit for the start-up figure."""
-    return "start-up\nVin in 0 AC 1\nR1 in out 1k\nC1 out 0 1n\nR2 out 0 1meg\n.noise v(out) Vin dec 20 10 10meg\n.end\n"
+    return (
+        "start-up\nVin in 0 AC 1\nR1 in out 1k\nC1 out 0 1n\nR2 out 0 1meg\n.noise v(out) Vin dec 20 10 10meg\n.end\n"
+    )

@@ -54,8 +54,14 @@ def best(fn, repeat):
 
 def run_study(circuit, trials, jobs):
     return netnoise.montecarlo(
-        circuit, trials=trials, tolerances=TOLERANCES, seed=2026, band=BAND, points_per_decade=POINTS,
-        jobs=jobs, keep_density=False,
+        circuit,
+        trials=trials,
+        tolerances=TOLERANCES,
+        seed=2026,
+        band=BAND,
+        points_per_decade=POINTS,
+        jobs=jobs,
+        keep_density=False,
     )
 
 
@@ -63,7 +69,9 @@ def bare_reference(circuit, result, frequencies_per_trial):
     """The same trials' G and C stacks (built untimed), then only the batched solves, timed."""
     prepared = netnoise.prepare(circuit, band=BAND, points_per_decade=POINTS)
     targets = mc._match(circuit, mc._as_tolerances(TOLERANCES))
-    model = mc._Model(prepared, targets.names, targets.kinds, "band", np.zeros(0), BAND[0], BAND[1], POINTS, None, False)
+    model = mc._Model(
+        prepared, targets.names, targets.kinds, "band", np.zeros(0), BAND[0], BAND[1], POINTS, None, False
+    )
     trials = [mc._dense_trial(model, result.values[j], result.temperature_K[j]) for j in range(result.trials)]
     G = np.stack([t.G.T for t in trials])
     C = np.stack([t.C.T for t in trials])
@@ -90,30 +98,40 @@ def main() -> None:  # under a main guard: the jobs=2 workers start fresh interp
     from threadpoolctl import threadpool_limits
 
     circuit = netnoise.parse_netlist(gen.small_circuit(20))
-    print(f"# netnoise Monte Carlo benchmark, {datetime.date.today()}, {platform.processor() or platform.machine()}, "
-          f"{os.cpu_count()} cores, Python {platform.python_version()}, numpy {np.__version__}")
+    print(
+        f"# netnoise Monte Carlo benchmark, {datetime.date.today()}, {platform.processor() or platform.machine()}, "
+        f"{os.cpu_count()} cores, Python {platform.python_version()}, numpy {np.__version__}"
+    )
     with threadpool_limits(limits=1):
         t1, c1, result = best(lambda: run_study(circuit, trials, 1), args.repeat)
         per_trial = result.batched_solves / trials
         solve = bare_reference(circuit, result, int(round(per_trial)))
         tb, cb, _ = best(solve, args.repeat)
-    print(f"{trials} trials of {len(result.nominal.source_names)} sources, "
-          f"{netnoise.prepare(circuit, band=BAND).system.size} unknowns, "
-          f"{per_trial:.0f} frequencies per trial ({result.batched_solves} systems); "
-          f"load average {os.getloadavg()[0]:.1f} on {os.cpu_count()} cores")
+    print(
+        f"{trials} trials of {len(result.nominal.source_names)} sources, "
+        f"{netnoise.prepare(circuit, band=BAND).system.size} unknowns, "
+        f"{per_trial:.0f} frequencies per trial ({result.batched_solves} systems); "
+        f"load average {os.getloadavg()[0]:.1f} on {os.cpu_count()} cores"
+    )
     print("                            wall        CPU")
     print(f"montecarlo jobs=1          {t1:7.2f} s  {c1:7.2f} s")
-    print(f"bare batched numpy.solve   {tb:7.2f} s  {cb:7.2f} s   ratio {t1 / tb:.2f} wall, {c1 / cb:.2f} CPU "
-          "(target <= 2)")
+    print(
+        f"bare batched numpy.solve   {tb:7.2f} s  {cb:7.2f} s   ratio {t1 / tb:.2f} wall, {c1 / cb:.2f} CPU "
+        "(target <= 2)"
+    )
     t2, _, result2 = best(lambda: run_study(circuit, trials, 2), args.repeat)
     same = np.array_equal(result.total_rms_V, result2.total_rms_V)
-    print(f"montecarlo jobs=2          {t2:7.2f} s              speed-up {t1 / t2:.2f} wall (target >= 1.7); "
-          f"same totals: {same}")
+    print(
+        f"montecarlo jobs=2          {t2:7.2f} s              speed-up {t1 / t2:.2f} wall (target >= 1.7); "
+        f"same totals: {same}"
+    )
     # on a shared machine the wall speed-up depends on the others' load; the CPU the trials took
     # (summed over the workers) says what idle cores would give if the chunks balance
-    print(f"  CPU in the trials: jobs=1 {result.cpu_seconds:.2f} s, jobs=2 {result2.cpu_seconds:.2f} s over both "
-          f"workers: on idle cores a speed-up of about {2 * result.cpu_seconds / result2.cpu_seconds:.2f} "
-          f"(start-up of the workers not counted)")
+    print(
+        f"  CPU in the trials: jobs=1 {result.cpu_seconds:.2f} s, jobs=2 {result2.cpu_seconds:.2f} s over both "
+        f"workers: on idle cores a speed-up of about {2 * result.cpu_seconds / result2.cpu_seconds:.2f} "
+        f"(start-up of the workers not counted)"
+    )
     print(f"load average at end {os.getloadavg()[0]:.1f}")
 
 

@@ -58,7 +58,9 @@ print(first, min(times))
 
 def draw_times(netlist: Path) -> tuple[float, float]:
     """(first save_plot in a process, best later one), seconds: the drawing alone."""
-    out = subprocess.run([sys.executable, "-c", DRAW, str(netlist)], env=ENV, capture_output=True, text=True, check=True)
+    out = subprocess.run(
+        [sys.executable, "-c", DRAW, str(netlist)], env=ENV, capture_output=True, text=True, check=True
+    )
     first, later = out.stdout.split()
     return float(first), float(later)
 
@@ -86,8 +88,12 @@ def main(argv=None) -> int:
     median = {name: float(np.median(values)) for name, values in times.items()}
     print(f"plot run, median of {args.repeat} (interleaved):")
     print(f"  bare imports (numpy, scipy.sparse.linalg, Figure, Agg)  {median['bare']:.3f} s")
-    print(f"  netnoise analyze four.cir --plot out.png              {median['plot']:.3f} s   {median['plot'] / median['bare']:.2f}x bare (target <= 2)")
-    print(f"  netnoise analyze four.cir                             {median['text']:.3f} s   {median['text'] / median['bare']:.2f}x bare")
+    print(
+        f"  netnoise analyze four.cir --plot out.png              {median['plot']:.3f} s   {median['plot'] / median['bare']:.2f}x bare (target <= 2)"
+    )
+    print(
+        f"  netnoise analyze four.cir                             {median['text']:.3f} s   {median['text'] / median['bare']:.2f}x bare"
+    )
     print(f"  save_plot to PNG in-process: first {first * 1e3:.0f} ms (fonts, first draw), then {later * 1e3:.0f} ms")
     return 0
 

@@ -49,7 +49,9 @@ def best(fn, repeat=3):
 
 def run_child(code: str) -> dict:
     """Run ``code`` in a fresh interpreter; it prints one JSON line last."""
-    out = subprocess.run([sys.executable, "-c", textwrap.dedent(code)], env=ENV, capture_output=True, text=True, check=False)
+    out = subprocess.run(
+        [sys.executable, "-c", textwrap.dedent(code)], env=ENV, capture_output=True, text=True, check=False
+    )
     if out.returncode != 0:
         raise RuntimeError(out.stderr)
     return json.loads(out.stdout.strip().splitlines()[-1])
@@ -83,8 +85,24 @@ def ladder(sections: int, tmp: Path) -> dict:
             lu = spla.splu((G + 2j * np.pi * fi * C).tocsc())
             lu.solve(c + 0j, trans="T")
 
-    cmd = [sys.executable, "-m", "netnoise", "analyze", str(path), "--band", "1", "1g", "--points", "40",
-           "--out", f"n{sections}", "--input", "Vin", "--json", str(tmp / "ladder.json")]
+    cmd = [
+        sys.executable,
+        "-m",
+        "netnoise",
+        "analyze",
+        str(path),
+        "--band",
+        "1",
+        "1g",
+        "--points",
+        "40",
+        "--out",
+        f"n{sections}",
+        "--input",
+        "Vin",
+        "--json",
+        str(tmp / "ladder.json"),
+    ]
     refs, clis = [], []
     for _ in range(3):  # interleaved, so both see the same machine load
         refs.append(best(bare, 1))
@@ -221,7 +239,9 @@ def sweep_points(points: int) -> dict:
             yt = g.T[None] + (2j * np.pi * f)[:, None, None] * cc.T[None]
             np.linalg.solve(yt, np.broadcast_to(sel + 0j, (f.size, system.size))[..., None])
 
-    return dict(sweep=t_sweep, ref=best(bare, 3), points=points, elements=len(circuit.elements), frequencies=frequencies)
+    return dict(
+        sweep=t_sweep, ref=best(bare, 3), points=points, elements=len(circuit.elements), frequencies=frequencies
+    )
 
 
 def startup(tmp: Path, repeat: int) -> dict:
@@ -273,7 +293,9 @@ def wideband(n_check: int, n_large: int) -> dict:
 
     circuit = netnoise.parse_netlist(gen.rc_ladder(n_check, source=False))
     # the exact method as the reference, whatever its size
-    exact = netnoise.analyze(circuit, output=f"n{n_check}", band=(0, math.inf), options=SolverOptions(exact_limit=10**9))
+    exact = netnoise.analyze(
+        circuit, output=f"n{n_check}", band=(0, math.inf), options=SolverOptions(exact_limit=10**9)
+    )
     t = time.perf_counter()
     approx = netnoise.analyze(circuit, output=f"n{n_check}", band=(0, math.inf), options=SolverOptions(exact_limit=0))
     t_small = time.perf_counter() - t
@@ -282,8 +304,14 @@ def wideband(n_check: int, n_large: int) -> dict:
     netnoise.analyze(big, output=f"n{n_large}", band=(0, math.inf))
     t_large = time.perf_counter() - t
     v_e, v_a = np.asarray(exact.source_variance), np.asarray(approx.source_variance)
-    return dict(total_rel=abs(approx.total_rms**2 / exact.total_rms**2 - 1), worst_source_rel=float(np.max(np.abs(v_a / v_e - 1))),
-                t_small=t_small, t_large=t_large, n_check=n_check, n_large=n_large)
+    return dict(
+        total_rel=abs(approx.total_rms**2 / exact.total_rms**2 - 1),
+        worst_source_rel=float(np.max(np.abs(v_a / v_e - 1))),
+        t_small=t_small,
+        t_large=t_large,
+        n_check=n_check,
+        n_large=n_large,
+    )
 
 
 def machine() -> str:
@@ -301,22 +329,29 @@ def machine() -> str:
         mem = 0
     import scipy
 
-    return (f"{cpu}, {os.cpu_count()} cores, {mem / 2**30:.1f} GiB; Python {platform.python_version()}, "
-            f"numpy {np.__version__}, scipy {scipy.__version__}, {platform.system()} {platform.release()}")
+    return (
+        f"{cpu}, {os.cpu_count()} cores, {mem / 2**30:.1f} GiB; Python {platform.python_version()}, "
+        f"numpy {np.__version__}, scipy {scipy.__version__}, {platform.system()} {platform.release()}"
+    )
 
 
 def main(argv=None) -> int:
     ap = argparse.ArgumentParser(description=__doc__.split("\n")[0])
     ap.add_argument("--quick", action="store_true", help="smaller circuits (figures not comparable to the targets)")
-    ap.add_argument("--only", nargs="*", default=None,
-                    choices=["startup", "small", "rerun", "sweep", "ladder", "mesh", "parse", "exact", "wideband"], help="run only these figures")
+    ap.add_argument(
+        "--only",
+        nargs="*",
+        default=None,
+        choices=["startup", "small", "rerun", "sweep", "ladder", "mesh", "parse", "exact", "wideband"],
+        help="run only these figures",
+    )
     args = ap.parse_args(argv)
     q = args.quick
     # pip compiles an installed package's bytecode; a checkout under PYTHONDONTWRITEBYTECODE=1 would
     # compile every netnoise module at every start (~100 ms, a quarter of the bare start-up), while
     # numpy, scipy and lark load theirs: compile ours first, as an installation has it
     compileall.compile_dir(str(REPO / "netnoise"), quiet=1)
-    want = (lambda name: args.only is None or name in args.only)
+    want = lambda name: args.only is None or name in args.only
     print(f"netnoise benchmarks, {datetime.date.today().isoformat()}{' (--quick)' if q else ''}")
     print(f"machine: {machine()}")
     print(f"  {'figure':<46} {'netnoise':>12}  {'bare reference':>14}  {'ratio':>7}  target")
@@ -325,69 +360,128 @@ def main(argv=None) -> int:
 
         if want("startup"):
             s = startup(tmp, 5 if q else 11)
-            line("CLI start-up, 4-element circuit (median)", f"{s['cli'] * 1e3:.0f} ms", f"{s['bare'] * 1e3:.0f} ms",
-                 s["cli"] / s["bare"], "<= 1.5x  (bare: python -c 'import numpy, scipy.sparse.linalg, lark')")
+            line(
+                "CLI start-up, 4-element circuit (median)",
+                f"{s['cli'] * 1e3:.0f} ms",
+                f"{s['bare'] * 1e3:.0f} ms",
+                s["cli"] / s["bare"],
+                "<= 1.5x  (bare: python -c 'import numpy, scipy.sparse.linalg, lark')",
+            )
 
         if want("small"):
             sm = small(tmp)
-            line(f"engine, {sm['n']} unknowns x {sm['frequencies']} frequencies", f"{sm['engine'] * 1e3:.1f} ms",
-                 f"{sm['ref'] * 1e3:.1f} ms", sm["engine"] / sm["ref"], "< 30 ms  (bare: one batched np.linalg.solve)")
+            line(
+                f"engine, {sm['n']} unknowns x {sm['frequencies']} frequencies",
+                f"{sm['engine'] * 1e3:.1f} ms",
+                f"{sm['ref'] * 1e3:.1f} ms",
+                sm["engine"] / sm["ref"],
+                "< 30 ms  (bare: one batched np.linalg.solve)",
+            )
 
         if want("rerun"):
             r = rerun()
-            line(f"re-analysis after one value change, {r['elements']} elements", f"{r['again'] * 1e3:.1f} ms",
-                 f"{r['first'] * 1e3:.1f} ms", r["again"] / r["first"],
-                 f"<= 0.3x  (reference: first analysis, parse + analyze; refill alone {r['refill'] * 1e3:.2f} ms)")
+            line(
+                f"re-analysis after one value change, {r['elements']} elements",
+                f"{r['again'] * 1e3:.1f} ms",
+                f"{r['first'] * 1e3:.1f} ms",
+                r["again"] / r["first"],
+                f"<= 0.3x  (reference: first analysis, parse + analyze; refill alone {r['refill'] * 1e3:.2f} ms)",
+            )
 
         if want("sweep"):
             sw = sweep_points(200)
-            line(f"sweep, {sw['points']} points of a {sw['elements']}-element circuit", f"{sw['sweep']:.2f} s",
-                 f"{sw['ref']:.2f} s", sw["sweep"] / sw["ref"],
-                 f"<= 3x  (bare: {sw['points']} batched np.linalg.solve over the {sw['frequencies']} frequencies a point solves)")
+            line(
+                f"sweep, {sw['points']} points of a {sw['elements']}-element circuit",
+                f"{sw['sweep']:.2f} s",
+                f"{sw['ref']:.2f} s",
+                sw["sweep"] / sw["ref"],
+                f"<= 3x  (bare: {sw['points']} batched np.linalg.solve over the {sw['frequencies']} frequencies a point solves)",
+            )
 
         if want("ladder"):
             sections = 2000 if q else 20000
             lad = ladder(sections, tmp)
-            line(f"CLI, RC ladder {sections} sections, {lad['grid']} freq.", f"{lad['cli']:.2f} s", f"{lad['ref']:.2f} s",
-                 lad["cli"] / lad["ref"], f"<= 1.5x  (bare: splu + solve per frequency; best of 3 interleaved, "
-                 f"ratio of medians {lad['median_ratio']:.2f}x)")
+            line(
+                f"CLI, RC ladder {sections} sections, {lad['grid']} freq.",
+                f"{lad['cli']:.2f} s",
+                f"{lad['ref']:.2f} s",
+                lad["cli"] / lad["ref"],
+                f"<= 1.5x  (bare: splu + solve per frequency; best of 3 interleaved, "
+                f"ratio of medians {lad['median_ratio']:.2f}x)",
+            )
             line("  of which parse + elaborate", f"{lad['parse']:.2f} s", "", lad["parse"] / lad["ref"])
-            line(f"  of which analyze() ({lad['sources']} sources)", f"{lad['analyze']:.2f} s", "", lad["analyze"] / lad["ref"])
-            line("  peak memory (analysis process)", f"{lad['rss'] / 2**30:.2f} GiB", "", None,
-                 f"integration error estimate {lad['rel_error']:.1e}")
+            line(
+                f"  of which analyze() ({lad['sources']} sources)",
+                f"{lad['analyze']:.2f} s",
+                "",
+                lad["analyze"] / lad["ref"],
+            )
+            line(
+                "  peak memory (analysis process)",
+                f"{lad['rss'] / 2**30:.2f} GiB",
+                "",
+                None,
+                f"integration error estimate {lad['rel_error']:.1e}",
+            )
 
         if want("mesh"):
             nx, ny = (60, 60) if q else (316, 317)
             m = mesh(nx, ny)
             solved, t_full, grid = m["full"]
             ref_full = m["ref_per_frequency"] * solved
-            line(f"RC mesh {nx}x{ny} ({nx * ny} nodes), analyze(), {solved} freq.", f"{t_full:.1f} s", f"{ref_full:.1f} s",
-                 t_full / ref_full, f"(bare: splu + solve x {solved}; path '{m['method']}'; {grid} grid points + refinements)")
+            line(
+                f"RC mesh {nx}x{ny} ({nx * ny} nodes), analyze(), {solved} freq.",
+                f"{t_full:.1f} s",
+                f"{ref_full:.1f} s",
+                t_full / ref_full,
+                f"(bare: splu + solve x {solved}; path '{m['method']}'; {grid} grid points + refinements)",
+            )
             line("  peak memory (parse + analyses)", f"{m['rss'] / 2**30:.2f} GiB", "", None, "< 4 GiB")
             (f1, t1), (f2, t2), (f3, t3) = m["runs"]
             slope, intercept = np.polyfit([f1, f2, f3], [t1, t2, t3], 1)
             fit = max(abs(t - (intercept + slope * f)) / t for f, t in ((f1, t1), (f2, t2), (f3, t3)))
-            line(f"  solves + gains at {f1}/{f2}/{f3} frequencies", f"{t1:.1f}/{t2:.1f}/{t3:.1f} s",
-                 f"{m['ref_per_frequency'] * 1e3:.0f} ms/freq", None,
-                 f"linear fit {intercept:.1f} s + {slope * 1e3:.0f} ms/freq, worst deviation {100 * fit:.0f} %")
+            line(
+                f"  solves + gains at {f1}/{f2}/{f3} frequencies",
+                f"{t1:.1f}/{t2:.1f}/{t3:.1f} s",
+                f"{m['ref_per_frequency'] * 1e3:.0f} ms/freq",
+                None,
+                f"linear fit {intercept:.1f} s + {slope * 1e3:.0f} ms/freq, worst deviation {100 * fit:.0f} %",
+            )
             line("  parse + elaborate of the mesh", f"{m['parse']:.1f} s")
 
         if want("parse"):
             p = parsing(20000 if q else 100000)
-            line(f"parse + elaborate {p['lines']} lines", f"{p['parse']:.2f} s", f"{p['split']:.2f} s", p["parse"] / p["split"],
-                 "< 5 s  (bare: str.split of every line)")
+            line(
+                f"parse + elaborate {p['lines']} lines",
+                f"{p['parse']:.2f} s",
+                f"{p['split']:.2f} s",
+                p["parse"] / p["split"],
+                "< 5 s  (bare: str.split of every line)",
+            )
 
         if want("exact"):
             for row in exact_cost((50, 100, 200) if q else (100, 300, 600)):
-                line(f"exact total to infinity, {row['n']} unknowns", f"{row['engine']:.2f} s", f"{row['ref']:.2f} s",
-                     row["engine"] / row["ref"], "(bare: scipy.linalg.ordqz of the pencil)")
+                line(
+                    f"exact total to infinity, {row['n']} unknowns",
+                    f"{row['engine']:.2f} s",
+                    f"{row['ref']:.2f} s",
+                    row["engine"] / row["ref"],
+                    "(bare: scipy.linalg.ordqz of the pencil)",
+                )
 
         if want("wideband"):
             w = wideband(100 if q else 1000, 2000 if q else 5000)
             line(f"beyond the exact limit: {w['n_large']} unknowns to infinity", f"{w['t_large']:.2f} s")
-            line(f"  its accuracy vs exact at {w['n_check']} unknowns", f"{w['total_rel']:.1e}", "", None,
-                 f"worst single source {w['worst_source_rel']:.1e}")
-    print(f"peak memory of this benchmark process: {resource.getrusage(resource.RUSAGE_SELF).ru_maxrss / 2**20:.2f} GiB")
+            line(
+                f"  its accuracy vs exact at {w['n_check']} unknowns",
+                f"{w['total_rel']:.1e}",
+                "",
+                None,
+                f"worst single source {w['worst_source_rel']:.1e}",
+            )
+    print(
+        f"peak memory of this benchmark process: {resource.getrusage(resource.RUSAGE_SELF).ru_maxrss / 2**20:.2f} GiB"
+    )
     return 0
 
 

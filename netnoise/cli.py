@@ -182,7 +182,12 @@ def build_parser() -> argparse.ArgumentParser:
     out = analyze.add_argument_group("outputs")
     out.add_argument("--json", metavar="PATH", help="write the result as JSON ('-' for standard output)")
     out.add_argument("--csv", metavar="PATH", help="write the noise spectrum as CSV")
-    out.add_argument("--plot", metavar="PATH", action="append", help="write a plot (.png, .svg or .pdf); give it again for more files")
+    out.add_argument(
+        "--plot",
+        metavar="PATH",
+        action="append",
+        help="write a plot (.png, .svg or .pdf); give it again for more files",
+    )
     out.add_argument(
         "--plot-input-referred",
         action="store_true",
@@ -246,13 +251,19 @@ def _add_sweep_command(commands) -> None:
         help="refuse any .include whose file, links followed, is outside the netlist's own folder tree",
     )
     sweep.add_argument(
-        "--vary", nargs=3, action="append", required=True, metavar=("NAME", "FROM", "TO"),
+        "--vary",
+        nargs=3,
+        action="append",
+        required=True,
+        metavar=("NAME", "FROM", "TO"),
         help="an element, a .param or 'temp' (°C), from FROM to TO (suffixes allowed); give it twice for a grid",
     )
     sweep.add_argument("--steps", type=_count(2), default=11, metavar="N", help="points along each --vary (default 11)")
     sweep.add_argument("--log", action="store_true", help="space the points logarithmically")
     sweep.add_argument("--target", metavar="RMS", help="find the value that just meets this total rms noise (V)")
-    sweep.add_argument("--target-settle", metavar="TIME", help="find the value that just settles in TIME (s); needs --settle")
+    sweep.add_argument(
+        "--target-settle", metavar="TIME", help="find the value that just settles in TIME (s); needs --settle"
+    )
     where = sweep.add_argument_group("what to analyse (as for analyze)")
     where.add_argument("--out", metavar="NODE", help="output node")
     where.add_argument("--ref", metavar="NODE", help="reference node of the output (default ground)")
@@ -265,7 +276,9 @@ def _add_sweep_command(commands) -> None:
     out = sweep.add_argument_group("outputs")
     out.add_argument("--json", metavar="PATH", help="write the sweep as JSON ('-' for standard output)")
     out.add_argument("--csv", metavar="PATH", help="write the sweep's points as CSV")
-    out.add_argument("--plot", metavar="PATH", action="append", help="write the trade-off plot (.png, .svg or .pdf); may repeat")
+    out.add_argument(
+        "--plot", metavar="PATH", action="append", help="write the trade-off plot (.png, .svg or .pdf); may repeat"
+    )
 
 
 # --- option values --------------------------------------------------------
@@ -379,7 +392,9 @@ def parse_settle(text: str | None) -> float | None:
     try:
         value = float(clean[:-1]) / 100.0 if clean.endswith("%") else float(clean)
     except ValueError:
-        raise UsageError(f"--settle: cannot read '{text}'; write a percentage (0.01%) or a resolution (16bit)") from None
+        raise UsageError(
+            f"--settle: cannot read '{text}'; write a percentage (0.01%) or a resolution (16bit)"
+        ) from None
     if not 0 < value < 1:
         raise UsageError(f"--settle: the accuracy must lie between 0 and 100 %, got '{text}'")
     return value
@@ -402,7 +417,9 @@ def _check_writable(option: str, path: str, real: str, folder: str) -> None:
     except FileNotFoundError:  # a new file, or a link to one
         info = None
     except OSError as error:  # a loop of links, a path through a file
-        raise UsageError(f"{option} {path}: cannot write there ({error.strerror or error}); choose another path") from None
+        raise UsageError(
+            f"{option} {path}: cannot write there ({error.strerror or error}); choose another path"
+        ) from None
     if info is not None and not stat.S_ISREG(info.st_mode):
         if not os.access(real, os.W_OK):
             raise UsageError(f"{option} {path}: cannot write to it (no permission); choose another path")
@@ -461,7 +478,6 @@ def _confinement(args: argparse.Namespace) -> str | None:
 
 def _load(path: str, confine: str | None = None):
     from netnoise import netlist
-
     from netnoise.text.source import not_a_file
 
     shown = shorten_line(path, 200)
@@ -549,7 +565,9 @@ def _studies(args: argparse.Namespace, circuit, band, temperature, result) -> di
     if wants_response and problem.input_vector is not None:
         from netnoise.studies.response import speed_of_response
 
-        out["response"] = speed_of_response(problem.system, problem.selector, problem.input_vector, settle, problem.options)
+        out["response"] = speed_of_response(
+            problem.system, problem.selector, problem.input_vector, settle, problem.options
+        )
     if args.sensitivity:
         from netnoise.studies.sensitivity import sensitivities
 
@@ -580,7 +598,9 @@ def run_sweep(args: argparse.Namespace) -> int:
             raise UsageError(f"--vary {name}: cannot read '{start}' or '{stop}' ({error})") from None
         vary.append(Vary.span(name, low, high, args.steps, args.log))
     target = _positive_value("--target", args.target, "a noise rms")[0] if args.target else None
-    deadline = _positive_value("--target-settle", args.target_settle, "a settling time")[0] if args.target_settle else None
+    deadline = (
+        _positive_value("--target-settle", args.target_settle, "a settling time")[0] if args.target_settle else None
+    )
     if target is not None and deadline is not None:
         raise UsageError("give --target or --target-settle, not both")
     if deadline is not None and settle is None:
@@ -589,8 +609,14 @@ def run_sweep(args: argparse.Namespace) -> int:
     check_outputs_against_includes(args, circuit)
     from netnoise.engine import analysis
 
-    options = dict(output=args.out, reference=args.ref, input_source=args.input, band=band,
-                   points_per_decade=args.points, temperature_celsius=temperature)
+    options = dict(
+        output=args.out,
+        reference=args.ref,
+        input_source=args.input,
+        band=band,
+        points_per_decade=args.points,
+        temperature_celsius=temperature,
+    )
     prepared = analysis.prepare(circuit, **options)
     if settle is not None and not prepared.problem.has_input:
         raise UsageError("--settle needs an input source: give --input SOURCE (or name it on .noise)")
@@ -601,8 +627,15 @@ def run_sweep(args: argparse.Namespace) -> int:
             answer = None
             if target is not None or deadline is not None:
                 first = vary[0]
-                answer = meet_target(prepared, first.name, min(first.values), max(first.values),
-                                     noise_rms_V=target, settling_time_s=deadline, settle=settle)
+                answer = meet_target(
+                    prepared,
+                    first.name,
+                    min(first.values),
+                    max(first.values),
+                    noise_rms_V=target,
+                    settling_time_s=deadline,
+                    settle=settle,
+                )
     finally:
         progress.clear()
     units = {v.name: _unit_of(circuit, v.name) for v in vary}

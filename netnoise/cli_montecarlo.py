@@ -46,21 +46,42 @@ def add_parser(commands, epilog: str, count) -> None:
     study = mc.add_argument_group("the trials")
     study.add_argument("--trials", type=count(1), required=True, metavar="N", help="number of trials")
     study.add_argument(
-        "--tol", action="append", default=[], metavar="PATTERN=PCT",
+        "--tol",
+        action="append",
+        default=[],
+        metavar="PATTERN=PCT",
         help="tolerance of the values whose element or .param name matches PATTERN (R*, C3, X1.*; "
         "case-insensitive), in percent; repeat for more; a later one wins for a name two match",
     )
-    study.add_argument("--tol-dist", choices=("uniform", "gauss"), default="uniform",
-                       help="uniform within ±PCT (default), or gaussian with ±PCT = ±3σ")
-    study.add_argument("--temp-range", nargs=2, metavar=("LOW", "HIGH"),
-                       help="draw each trial's temperature uniformly between LOW and HIGH °C")
-    study.add_argument("--seed", type=count(0), metavar="S", help="seed of the random draws (default: a fresh one, reported)")
-    study.add_argument("--target", metavar="RMS", help="largest acceptable total output noise, V rms (suffixes: 5u), for the yield")
-    study.add_argument("--jobs", type=count(1), metavar="N",
-                       help="local worker processes (default: 1 for small circuits, solved batched; "
-                       "every core for larger ones)")
-    study.add_argument("--cluster", metavar="ADDRESS", help="run the trials on the dask scheduler at ADDRESS "
-                       "(pip install 'netnoise[cluster]')")
+    study.add_argument(
+        "--tol-dist",
+        choices=("uniform", "gauss"),
+        default="uniform",
+        help="uniform within ±PCT (default), or gaussian with ±PCT = ±3σ",
+    )
+    study.add_argument(
+        "--temp-range",
+        nargs=2,
+        metavar=("LOW", "HIGH"),
+        help="draw each trial's temperature uniformly between LOW and HIGH °C",
+    )
+    study.add_argument(
+        "--seed", type=count(0), metavar="S", help="seed of the random draws (default: a fresh one, reported)"
+    )
+    study.add_argument(
+        "--target", metavar="RMS", help="largest acceptable total output noise, V rms (suffixes: 5u), for the yield"
+    )
+    study.add_argument(
+        "--jobs",
+        type=count(1),
+        metavar="N",
+        help="local worker processes (default: 1 for small circuits, solved batched; every core for larger ones)",
+    )
+    study.add_argument(
+        "--cluster",
+        metavar="ADDRESS",
+        help="run the trials on the dask scheduler at ADDRESS (pip install 'netnoise[cluster]')",
+    )
     where = mc.add_argument_group("what to analyse (defaults come from the netlist's .noise card)")
     where.add_argument("--out", metavar="NODE", help="output node")
     where.add_argument("--ref", metavar="NODE", help="reference node of the output (default ground)")
@@ -71,11 +92,18 @@ def add_parser(commands, epilog: str, count) -> None:
     out.add_argument("--json", metavar="PATH", help="write the study as JSON ('-' for standard output)")
     out.add_argument("--csv", metavar="PATH", help="write one row per trial as CSV")
     out.add_argument(
-        "--plot", metavar="PATH", action="append",
+        "--plot",
+        metavar="PATH",
+        action="append",
         help="write the histogram and density band (.png, .svg or .pdf); may repeat",
     )
-    out.add_argument("--top", type=count(0), default=DEFAULT_TOP, metavar="N",
-                     help=f"sources listed (default {DEFAULT_TOP}; 0 lists all)")
+    out.add_argument(
+        "--top",
+        type=count(0),
+        default=DEFAULT_TOP,
+        metavar="N",
+        help=f"sources listed (default {DEFAULT_TOP}; 0 lists all)",
+    )
 
 
 def _temperature_range(pair) -> tuple[float, float] | None:
@@ -113,8 +141,8 @@ def run(args: argparse.Namespace) -> int:
     circuit = cli._load(args.netlist, cli._confinement(args))
     cli.check_outputs_against_includes(args, circuit)
 
-    from netnoise.outputs.montecarlo_text import format_montecarlo_report, montecarlo_to_csv, montecarlo_to_json
     from netnoise.outputs.export import atomic_write
+    from netnoise.outputs.montecarlo_text import format_montecarlo_report, montecarlo_to_csv, montecarlo_to_json
     from netnoise.outputs.trial_progress import TrialProgress
     from netnoise.studies.montecarlo import montecarlo
 
@@ -127,10 +155,21 @@ def run(args: argparse.Namespace) -> int:
     try:
         with cli._numeric_warnings_refused():  # numbers from an overflow are never printed
             result = montecarlo(
-                circuit, trials=args.trials, tolerances=tolerances, distribution=args.tol_dist,
-                temperature_range_celsius=temperature_range, seed=args.seed, target_rms=target,
-                output=args.out, reference=args.ref, band=band, points_per_decade=args.points,
-                temperature_celsius=temperature, jobs=args.jobs, client=client, progress=progress,
+                circuit,
+                trials=args.trials,
+                tolerances=tolerances,
+                distribution=args.tol_dist,
+                temperature_range_celsius=temperature_range,
+                seed=args.seed,
+                target_rms=target,
+                output=args.out,
+                reference=args.ref,
+                band=band,
+                points_per_decade=args.points,
+                temperature_celsius=temperature,
+                jobs=args.jobs,
+                client=client,
+                progress=progress,
                 keep_density=bool(args.plot),
             )
     finally:

@@ -101,8 +101,9 @@ def test_prepared_rerun_equals_a_fresh_analysis():
 @pytest.mark.parametrize("cap", [1e-12, 4.7e-12, 100e-12])
 def test_rc_rerun_follows_kT_over_C(cap):
     # Equipartition: kT/C on an RC node whatever R (Johnson 1928; Nyquist 1928).
-    prepared = prepare(parse_netlist("rc\nR1 a 0 10k\nC1 a 0 1p\n"), output="a", band=(0.0, math.inf),
-                       temperature_celsius=26.85)
+    prepared = prepare(
+        parse_netlist("rc\nR1 a 0 10k\nC1 a 0 1p\n"), output="a", band=(0.0, math.inf), temperature_celsius=26.85
+    )
     result = prepared.with_values({"C1": cap}).analyze()
     assert result.total_variance == pytest.approx(K_B * 300.0 / cap, rel=1e-9)
 

@@ -16,15 +16,12 @@ import subprocess
 import sys
 import types
 
+import _output_samples as samples  # tests/ is on sys.path (conftest.py)
 import pytest
 
-from netnoise import __version__
-
-from netnoise import cli
+from netnoise import __version__, cli
 from netnoise.errors import CircuitError, NetlistError, SourceLocation
 
-
-import _output_samples as samples  # tests/ is on sys.path (conftest.py)
 REPO = pathlib.Path(__file__).resolve().parents[1]
 NETLIST_TEXT = "test circuit\nR1 out 0 1k\n.end\n"
 
@@ -92,15 +89,39 @@ def test_analyze_prints_the_report(engine, netlist, capsys):
 def test_defaults_pass_none_to_the_engine(engine, netlist):
     run("analyze", netlist)
     assert engine.calls == [
-        dict(output=None, reference=None, input_source=None, band=None, points_per_decade=None, temperature_celsius=None)
+        dict(
+            output=None, reference=None, input_source=None, band=None, points_per_decade=None, temperature_celsius=None
+        )
     ]
 
 
 def test_options_reach_the_engine(engine, netlist):
-    assert run("analyze", netlist, "--out", "vout", "--ref", "vref", "--input", "VIN",
-               "--band", "1", "20", "--points", "25", "--temp", "-40") == 0
+    assert (
+        run(
+            "analyze",
+            netlist,
+            "--out",
+            "vout",
+            "--ref",
+            "vref",
+            "--input",
+            "VIN",
+            "--band",
+            "1",
+            "20",
+            "--points",
+            "25",
+            "--temp",
+            "-40",
+        )
+        == 0
+    )
     assert engine.calls[-1] == dict(
-        output="vout", reference="vref", input_source="VIN", band=(1.0, 20.0), points_per_decade=25,
+        output="vout",
+        reference="vref",
+        input_source="VIN",
+        band=(1.0, 20.0),
+        points_per_decade=25,
         temperature_celsius=-40.0,
     )
 

@@ -17,12 +17,11 @@ import os
 import re
 import types
 
+import _output_samples as samples  # tests/ is on sys.path (conftest.py)
 import pytest
 
 from netnoise import cli
 
-
-import _output_samples as samples  # tests/ is on sys.path (conftest.py)
 NETLIST_TEXT = "front end\nRs in a 50\nR1 a 0 10\n.end\n"
 
 
@@ -44,7 +43,9 @@ class FakeEngine:
         self.circuit = types.SimpleNamespace(elements=(), source_file="fake", noise_card=None)
         monkeypatch.setattr(_module(monkeypatch, "netnoise.netlist"), "load_netlist", lambda path: self.circuit)
         monkeypatch.setattr(_module(monkeypatch, "netnoise.engine.analysis"), "analyze", self.analyze, raising=False)
-        monkeypatch.setattr(_module(monkeypatch, "netnoise.engine.dc"), "operating_point", self.operating_point, raising=False)
+        monkeypatch.setattr(
+            _module(monkeypatch, "netnoise.engine.dc"), "operating_point", self.operating_point, raising=False
+        )
 
     def analyze(self, circuit, **kwargs):
         assert circuit is self.circuit
@@ -270,15 +271,38 @@ def test_real_engine_noise_figure_of_a_resistive_load(real_engine, tmp_path, cap
     path = tmp_path / "load.cir"
     path.write_text("source into a load\nV1 in 0 dc 1 ac 1\nRs in out 50\nRL out 0 200\n.end\n")
     status = run(
-        "analyze", path, "--out", "out", "--input", "V1", "--band", "10", "10k", "--temp", "16.85",
-        "--source-resistor", "Rs", "--group", "mechanism", "--dc", "--signal", "1m",
-        "--adc", "16", "2", "48k", "--json", "-",
+        "analyze",
+        path,
+        "--out",
+        "out",
+        "--input",
+        "V1",
+        "--band",
+        "10",
+        "10k",
+        "--temp",
+        "16.85",
+        "--source-resistor",
+        "Rs",
+        "--group",
+        "mechanism",
+        "--dc",
+        "--signal",
+        "1m",
+        "--adc",
+        "16",
+        "2",
+        "48k",
+        "--json",
+        "-",
     )
     out, err = capsys.readouterr()
     assert status == 0, err
     data = json.loads(out)
     assert data["noise_figure_dB"] == pytest.approx(10 * math.log10(1.25), rel=1e-6)
-    assert data["noise_figure_spectrum_dB"] == pytest.approx([10 * math.log10(1.25)] * len(data["spectrum"]["frequency_Hz"]), rel=1e-6)
+    assert data["noise_figure_spectrum_dB"] == pytest.approx(
+        [10 * math.log10(1.25)] * len(data["spectrum"]["frequency_Hz"]), rel=1e-6
+    )
     # DC: 1 V across 250 Ω: 4 mA, v(out) = 0.8 V (Ohm's law)
     op = data["operating_point"]
     assert op["node_voltages_V"]["out"] == pytest.approx(0.8, rel=1e-9)

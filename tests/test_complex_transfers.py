@@ -6,8 +6,8 @@ import math
 
 import numpy as np
 import pytest
-
 from circuit_builders import C, I, L, R, butterworth_ladder, circuit
+
 from netnoise.engine.factor import factor, responses, transfers
 from netnoise.engine.mna import assemble
 from netnoise.engine.noise_sources import collect_noise_sources
@@ -79,13 +79,18 @@ def test_solver_options_are_checked():
 def test_the_integrators_tolerance_is_an_option():
     # a single RC pole over a band: 4kTR·fc·(atan(f2/fc) - atan(f1/fc)) (Johnson 1928; Nyquist 1928);
     # a loose tolerance stops earlier, a tight one lands within it
-    import netnoise
     from scipy import constants
+
+    import netnoise
 
     circuit = netnoise.parse_netlist("rc\nR1 a 0 1k\nC1 a 0 1n\n")
     fc = 1 / (2 * math.pi * 1e3 * 1e-9)
     exact = 4 * constants.Boltzmann * 300.15 * 1e3 * fc * (math.atan(1e7 / fc) - math.atan(10.0 / fc))
-    loose = netnoise.analyze(circuit, output="a", band=(10.0, 1e7), points_per_decade=2, options=SolverOptions(rtol=1e-2))
-    tight = netnoise.analyze(circuit, output="a", band=(10.0, 1e7), points_per_decade=2, options=SolverOptions(rtol=1e-9))
+    loose = netnoise.analyze(
+        circuit, output="a", band=(10.0, 1e7), points_per_decade=2, options=SolverOptions(rtol=1e-2)
+    )
+    tight = netnoise.analyze(
+        circuit, output="a", band=(10.0, 1e7), points_per_decade=2, options=SolverOptions(rtol=1e-9)
+    )
     assert tight.total_variance == pytest.approx(exact, rel=1e-8)
     assert loose.integration_rel_error <= 1e-2 and tight.integration_rel_error <= 1e-9

@@ -7,14 +7,14 @@ import pytest
 
 from netnoise.circuit import (
     Capacitor,
+    CurrentControlledCurrentSource,
+    CurrentControlledVoltageSource,
     CurrentSource,
+    Inductor,
+    MutualCoupling,
     NoiseSpec,
     OpAmp,
     OpAmpModel,
-    CurrentControlledCurrentSource,
-    CurrentControlledVoltageSource,
-    Inductor,
-    MutualCoupling,
     Resistor,
     VoltageControlledCurrentSource,
     VoltageControlledVoltageSource,
@@ -251,7 +251,9 @@ def test_example_hierarchy_values():
     assert circuit.element("Xamp.Rout").resistance == pytest.approx(10 + 40 / 2, rel=1e-12)
     assert circuit.element("X3.Cs").capacitance == pytest.approx(1e-9, rel=1e-12)
     assert isinstance(circuit.element("Xamp.Egain"), VoltageControlledVoltageSource)
-    assert all(isinstance(e, (Resistor, Capacitor, VoltageSource, VoltageControlledVoltageSource)) for e in circuit.elements)
+    assert all(
+        isinstance(e, (Resistor, Capacitor, VoltageSource, VoltageControlledVoltageSource)) for e in circuit.elements
+    )
 
 
 # ---- issue 3: resistor options, source noise, amplifier models
@@ -318,9 +320,17 @@ def test_opamp_instance_from_a_model_card():
     )
     got = amp.model
     assert got.name == expected.name and got.second_pole_Hz == pytest.approx(50e6, rel=1e-12)
-    for name in ("voltage_noise", "voltage_noise_corner_Hz", "current_noise", "current_noise_corner_Hz",
-                 "open_loop_gain", "gain_bandwidth_Hz", "input_capacitance", "differential_capacitance",
-                 "output_resistance"):
+    for name in (
+        "voltage_noise",
+        "voltage_noise_corner_Hz",
+        "current_noise",
+        "current_noise_corner_Hz",
+        "open_loop_gain",
+        "gain_bandwidth_Hz",
+        "input_capacitance",
+        "differential_capacitance",
+        "output_resistance",
+    ):
         assert getattr(got, name) == pytest.approx(getattr(expected, name), rel=1e-12), name
     assert "out" in circuit.nodes
 

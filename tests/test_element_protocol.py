@@ -28,7 +28,9 @@ def test_no_isinstance_over_element_kinds_outside_the_element_modules():
         tree = ast.parse(path.read_text(encoding="utf-8"))
         for node in ast.walk(tree):
             if isinstance(node, ast.Call) and getattr(node.func, "id", None) == "isinstance" and len(node.args) == 2:
-                used = {n.attr if isinstance(n, ast.Attribute) else getattr(n, "id", None) for n in ast.walk(node.args[1])}
+                used = {
+                    n.attr if isinstance(n, ast.Attribute) else getattr(n, "id", None) for n in ast.walk(node.args[1])
+                }
                 if used & names:
                     offenders.append(f"{path.relative_to(PACKAGE)}:{node.lineno}")
     assert offenders == []

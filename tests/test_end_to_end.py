@@ -74,8 +74,18 @@ def test_every_shipped_circuit_runs_and_writes_the_json_shape(netlist, tmp_path,
     assert run("analyze", netlist, "--json", out) == 0
     data = json.loads(out.read_text())
     assert set(data) >= {
-        "title", "temperature_K", "output", "input_source", "band_Hz", "total_rms_V", "input_referred_rms",
-        "input_referred_unit", "gain_at_max", "enbw_Hz", "contributions", "spectrum",
+        "title",
+        "temperature_K",
+        "output",
+        "input_source",
+        "band_Hz",
+        "total_rms_V",
+        "input_referred_rms",
+        "input_referred_unit",
+        "gain_at_max",
+        "enbw_Hz",
+        "contributions",
+        "spectrum",
     }
     shares = [c["share"] for c in data["contributions"]]
     assert shares == sorted(shares, reverse=True)

@@ -9,6 +9,7 @@ import math
 
 import numpy as np
 import pytest
+from circuit_builders import C, L, R, V, circuit
 from hypothesis import HealthCheck, given, settings
 from hypothesis import strategies as st
 from scipy.integrate import quad
@@ -16,8 +17,6 @@ from scipy.integrate import quad
 import netnoise
 from netnoise.engine.analysis import analyze, output_density_function
 from netnoise.errors import CircuitError
-
-from circuit_builders import C, L, R, V, circuit
 
 K_B = 1.380649e-23  # J/K, exact SI value (2019 redefinition)
 T = 300.0  # K, the temperature every test here analyses at
@@ -28,6 +27,7 @@ def _at_T(ckt, **kwargs):
 
 
 # --- 1. a band [low, inf) far above the poles ---------------------------------------------
+
 
 def _one_pole_tail(r, c, f1):
     """4kTR·fc·(π/2 − atan(f1/fc)): the one-sided density 4kTR/(1+(f/fc)²) of R ∥ C
@@ -54,7 +54,9 @@ def test_band_far_above_the_pole_is_not_zero():
 
 @settings(max_examples=25, deadline=None, suppress_health_check=[HealthCheck.too_slow])
 @given(
-    st.floats(1.0, 1e7), st.floats(1e-12, 1e-6), st.floats(-3.0, 6.0, allow_subnormal=False),
+    st.floats(1.0, 1e7),
+    st.floats(1e-12, 1e-6),
+    st.floats(-3.0, 6.0, allow_subnormal=False),
 )
 def test_band_to_infinity_any_one_pole_circuit(r, c, decades):
     fc = 1.0 / (2 * math.pi * r * c)
@@ -66,9 +68,13 @@ def test_band_to_infinity_any_one_pole_circuit(r, c, decades):
 
 def _three_pole():
     return circuit(
-        R("R1", "a", "0", 1e3), C("C1", "a", "0", 1e-9),
-        R("R2", "a", "b", 4.7e3), C("C2", "b", "0", 220e-12),
-        L("L1", "b", "c", 1e-3), R("R3", "c", "0", 10e3), C("C3", "c", "0", 47e-12),
+        R("R1", "a", "0", 1e3),
+        C("C1", "a", "0", 1e-9),
+        R("R2", "a", "b", 4.7e3),
+        C("C2", "b", "0", 220e-12),
+        L("L1", "b", "c", 1e-3),
+        R("R3", "c", "0", 10e3),
+        C("C3", "c", "0", 47e-12),
     )
 
 
@@ -80,15 +86,21 @@ def test_band_to_infinity_of_a_three_pole_network_matches_quad(low):
     # reference: scipy.integrate.quad of the density, decade by decade, the last piece in
     # u = 1/f (∫_F^∞ S df = ∫_0^{1/F} S(1/u)/u² du); relative tolerance 1e-6
     edges = [low * 10.0**k for k in range(0, 7)]
-    pieces = [quad(lambda f: float(density(np.array([f]))[0]), a, b, limit=200, epsabs=0, epsrel=1e-10)[0]
-              for a, b in zip(edges[:-1], edges[1:])]
+    pieces = [
+        quad(lambda f: float(density(np.array([f]))[0]), a, b, limit=200, epsabs=0, epsrel=1e-10)[0]
+        for a, b in zip(edges[:-1], edges[1:])
+    ]
     top = edges[-1]
-    pieces.append(quad(lambda u: float(density(np.array([1.0 / u]))[0]) / u**2, 0.0, 1.0 / top,
-                       limit=200, epsabs=0, epsrel=1e-10)[0])
+    pieces.append(
+        quad(
+            lambda u: float(density(np.array([1.0 / u]))[0]) / u**2, 0.0, 1.0 / top, limit=200, epsabs=0, epsrel=1e-10
+        )[0]
+    )
     assert result.total_variance == pytest.approx(sum(pieces), rel=1e-6)
 
 
 # --- 2. underflow and overflow: refused naming the element, never shown as a number ------------
+
 
 def _analyze_text(text, **kwargs):
     return netnoise.analyze(netnoise.parse_netlist(text), temperature_celsius=T - 273.15, **kwargs)
@@ -102,10 +114,16 @@ OUT_OF_RANGE = [
     ("R1 a 0 1e-300\nR2 a 0 1e300\nC1 a 0 1n\n", (0.0, math.inf), ["R1", "1e-300 Ω"]),
     ("R1 a 0 1e50\nC1 a 0 1e300\n", (0.0, math.inf), ["C1", "1e+300 F"]),
     ("R1 a 0 1k\nL1 a 0 1e-200\n", (1.0, 1e3), ["L1", "1e-200 H"]),
-    (".model big opamp (en=1e300)\nR1 in 0 1k\nXu1 in a a big\nR2 a 0 1k\nC1 a 0 1n\n", (1.0, 1e3),
-     ["Xu1", "model big", "en = 1e+300 V/√Hz"]),
-    (".model big opamp (in=1e200)\nR1 in 0 1k\nXu1 in a a big\nR2 a 0 1k\nC1 a 0 1n\n", (1.0, 1e3),
-     ["Xu1", "in = 1e+200 A/√Hz"]),
+    (
+        ".model big opamp (en=1e300)\nR1 in 0 1k\nXu1 in a a big\nR2 a 0 1k\nC1 a 0 1n\n",
+        (1.0, 1e3),
+        ["Xu1", "model big", "en = 1e+300 V/√Hz"],
+    ),
+    (
+        ".model big opamp (in=1e200)\nR1 in 0 1k\nXu1 in a a big\nR2 a 0 1k\nC1 a 0 1n\n",
+        (1.0, 1e3),
+        ["Xu1", "in = 1e+200 A/√Hz"],
+    ),
     ("V1 in 0 noise=1e200\nR1 in a 1k\nC1 a 0 1n\n", (1.0, 1e3), ["V1", "1e+200 V/√Hz"]),
     ("V1 in 0 noise=1e-170\nR1 in a 1k\nC1 a 0 1n\n", (1.0, 1e3), ["V1", "1e-170 V/√Hz"]),
     ("V1 in 0 noise=1n corner=1e300 slope=2\nR1 in a 1k\nC1 a 0 1n\n", (1.0, 1e3), ["V1", "corner"]),
@@ -181,8 +199,11 @@ def test_three_coil_couplings_accepted_exactly_when_the_inductance_matrix_can_ex
     lowest = np.linalg.eigvalsh(d[:, None] * matrix * d[None, :])[0]
     if abs(lowest) < 1e-9:  # on the boundary either answer is right
         return
-    text = COUPLED + "".join(f"K{n} {a} {b} {kij!r}\n" for n, ((a, b), kij) in
-                             enumerate(zip([("L1", "L2"), ("L2", "L3"), ("L1", "L3")], k), 1) if kij != 0)
+    text = COUPLED + "".join(
+        f"K{n} {a} {b} {kij!r}\n"
+        for n, ((a, b), kij) in enumerate(zip([("L1", "L2"), ("L2", "L3"), ("L1", "L3")], k), 1)
+        if kij != 0
+    )
     ckt = netnoise.parse_netlist(text + ".end\n")
     if lowest > 0:
         check_couplings(ckt)
@@ -200,11 +221,15 @@ def test_a_perfect_transformer_is_accepted():
 
 # --- 4 (part). negative capacitance and inductance, refused like a negative resistance ---------
 
-@pytest.mark.parametrize("line, words", [
-    ("R2 a 0 -1k\n", ["R2", "negative resistance"]),
-    ("C2 a 0 -1n\n", ["C2", "negative capacitance"]),
-    ("L2 a 0 -1m\n", ["L2", "negative inductance"]),
-])
+
+@pytest.mark.parametrize(
+    "line, words",
+    [
+        ("R2 a 0 -1k\n", ["R2", "negative resistance"]),
+        ("C2 a 0 -1n\n", ["C2", "negative capacitance"]),
+        ("L2 a 0 -1m\n", ["L2", "negative inductance"]),
+    ],
+)
 def test_negative_r_c_l_are_refused_alike(line, words):
     with pytest.raises(CircuitError) as info:
         _analyze_text("t\nR1 a 0 1k\nC1 a 0 1n\n" + line + ".end\n", output="a", band=(1.0, 1e3))
@@ -215,18 +240,22 @@ def test_negative_r_c_l_are_refused_alike(line, words):
 
 # --- 6. the gain peak between grid points, and the noise bandwidth that depends on it ------------
 
+
 def _second_order_low_pass(q, f0=5e3, l_value=1e-3):
     """V1 – R – L – out, C from out to ground: H = 1/(1 − ω²LC + jωRC), Q = √(L/C)/R."""
     c_value = 1.0 / ((2 * math.pi * f0) ** 2 * l_value)
     r_value = math.sqrt(l_value / c_value) / q
-    return circuit(V("V1", "in", "0"), R("R1", "in", "m", r_value), L("L1", "m", "out", l_value),
-                   C("C1", "out", "0", c_value))
+    return circuit(
+        V("V1", "in", "0"), R("R1", "in", "m", r_value), L("L1", "m", "out", l_value), C("C1", "out", "0", c_value)
+    )
 
 
 @pytest.mark.parametrize("points", [1, 2, 3, 7])
 def test_peak_of_a_q2_low_pass_on_a_coarse_grid(points):
     q = 2.0
-    result = _at_T(_second_order_low_pass(q), output="out", input_source="V1", band=(10.0, 1e6), points_per_decade=points)
+    result = _at_T(
+        _second_order_low_pass(q), output="out", input_source="V1", band=(10.0, 1e6), points_per_decade=points
+    )
     # the standard second-order result: |H|max = Q/√(1 − 1/(4Q²)); relative tolerance 1e-6
     assert result.gain_at_max == pytest.approx(q / math.sqrt(1 - 1 / (4 * q * q)), rel=1e-6)
 
@@ -234,8 +263,13 @@ def test_peak_of_a_q2_low_pass_on_a_coarse_grid(points):
 @settings(max_examples=25, deadline=None, suppress_health_check=[HealthCheck.too_slow])
 @given(st.floats(0.75, 100.0), st.floats(1.0, 4.0), st.floats(1e2, 1e7))
 def test_peak_and_noise_bandwidth_of_any_second_order_low_pass(q, points, f0):
-    result = _at_T(_second_order_low_pass(q, f0=f0), output="out", input_source="V1", band=(0.0, math.inf),
-                   points_per_decade=points)
+    result = _at_T(
+        _second_order_low_pass(q, f0=f0),
+        output="out",
+        input_source="V1",
+        band=(0.0, math.inf),
+        points_per_decade=points,
+    )
     peak = q / math.sqrt(1 - 1 / (4 * q * q))  # standard second-order result, relative 1e-6
     assert result.gain_at_max == pytest.approx(peak, rel=1e-6)
     # ∫0^∞ |H|² df = Q·f0·π/2 for H = 1/(1 − (f/f0)² + j f/(Q f0)) (the standard integral of a
@@ -267,10 +301,20 @@ def _quad_to_infinity(density, top_decade=12):
     """scipy.integrate.quad of ``density`` from 0 to infinity: decade pieces up to 10^top_decade Hz,
     then the rest in u = 1/f (∫_F^∞ S df = ∫_0^{1/F} S(1/u)/u² du)."""
     edges = [0.0] + [10.0**k for k in range(0, top_decade + 1)]
-    pieces = [quad(lambda f: float(density(np.array([f]))[0]), a, b, limit=200, epsabs=0, epsrel=1e-10)[0]
-              for a, b in zip(edges[:-1], edges[1:])]
-    pieces.append(quad(lambda u: float(density(np.array([1.0 / u]))[0]) / u**2, 0.0, 1.0 / edges[-1],
-                       limit=200, epsabs=0, epsrel=1e-10)[0])
+    pieces = [
+        quad(lambda f: float(density(np.array([f]))[0]), a, b, limit=200, epsabs=0, epsrel=1e-10)[0]
+        for a, b in zip(edges[:-1], edges[1:])
+    ]
+    pieces.append(
+        quad(
+            lambda u: float(density(np.array([1.0 / u]))[0]) / u**2,
+            0.0,
+            1.0 / edges[-1],
+            limit=200,
+            epsabs=0,
+            epsrel=1e-10,
+        )[0]
+    )
     return sum(pieces)
 
 
@@ -292,10 +336,13 @@ def test_current_pumps_into_rc_are_never_declared_unbounded(aol, gbw, rl, cl):
     assert math.isfinite(result.total_variance) and result.total_variance > 0
 
 
-@pytest.mark.parametrize("extra, named", [
-    ("Ry x y 1k\n", ["Ry"]),
-    ("Ry x y 1k\nRz y 0 2k\n", ["Ry", "Rz"]),
-])
+@pytest.mark.parametrize(
+    "extra, named",
+    [
+        ("Ry x y 1k\n", ["Ry"]),
+        ("Ry x y 1k\nRz y 0 2k\n", ["Ry", "Rz"]),
+    ],
+)
 def test_unbounded_names_exactly_the_sources_that_reach_the_output_unfiltered(extra, named):
     # output y behind resistors with no capacitance at y: their white noise is unfiltered
     # (4kTR flat to any frequency); every other source is filtered by CL
@@ -307,6 +354,7 @@ def test_unbounded_names_exactly_the_sources_that_reach_the_output_unfiltered(ex
 
 
 # --- 4. unstable circuits are refused, with the pole and its growth rate ---------------------
+
 
 @pytest.mark.parametrize("band", [(1.0, 1e6), (1e3, 2e3), (0.0, math.inf), (10.0, math.inf)])
 @pytest.mark.parametrize("r, c", [(1e3, 1e-9), (47e3, 2.2e-6)])
@@ -340,6 +388,7 @@ def test_the_same_amplifier_with_negative_feedback_is_accepted():
 
 # --- 2 (continued). the whole accepted range, and what must not be refused ------------------
 
+
 @settings(max_examples=40, deadline=None)
 @given(st.floats(-60.0, 60.0), st.floats(-15.0, 3.0))
 def test_any_accepted_resistance_gives_kt_over_c(log_r, log_c):
@@ -370,12 +419,18 @@ def test_a_time_scale_beyond_the_doubles_is_refused_by_the_exact_method():
     from netnoise.engine.total_variance import infinite_band_totals
 
     with pytest.raises(CircuitError) as info:
-        infinite_band_totals(np.array([[1e300]]), np.array([[1e-300]]), np.array([1.0]), np.array([[1.0]]), np.array([1.0]))
+        infinite_band_totals(
+            np.array([[1e300]]), np.array([[1e-300]]), np.array([1.0]), np.array([[1.0]]), np.array([1.0])
+        )
     assert "time scale" in str(info.value)
 
 
 @settings(max_examples=40, deadline=None)
-@given(st.floats(1e2, 1e6), st.floats(1e-12, 1e-6), st.floats(-3.0, 3.0).filter(lambda x: abs(x + 1.0) > 1e-3 and (x == 0 or abs(x) > 1e-200)))
+@given(
+    st.floats(1e2, 1e6),
+    st.floats(1e-12, 1e-6),
+    st.floats(-3.0, 3.0).filter(lambda x: abs(x + 1.0) > 1e-3 and (x == 0 or abs(x) > 1e-200)),
+)
 def test_a_node_with_a_controlled_conductance_is_refused_exactly_when_it_grows(r, c, share):
     # G1 adds the conductance share/R at node a: net g = (1 + share)/R.  Negative: one pole at
     # p = -g/C > 0, refused with its frequency |g|/(2πC).  Positive: the noise 4kT/R into g ∥ C

@@ -9,9 +9,9 @@ import math
 
 import numpy as np
 import pytest
+from circuit_builders import C, E, F, H, I, L, R, V, butterworth_ladder, circuit
 from scipy import constants
 
-from circuit_builders import C, E, F, H, I, L, R, V, butterworth_ladder, circuit
 from netnoise.engine.analysis import analyze
 
 K_B = constants.Boltzmann  # exact SI value (2019 redefinition)
@@ -24,10 +24,10 @@ def kelvin(result):
 
 # --- Johnson–Nyquist -----------------------------------------------------------
 
+
 def test_johnson_density_1k_at_300K():
     # 1 kΩ at 300 K: sqrt(4kTR) ≈ 4.07 nV/√Hz (Johnson 1928; Nyquist 1928).
-    res = analyze(circuit(R("R1", "out", "0", 1e3)), output="out", band=(1.0, 1e3),
-                  temperature_celsius=T300)
+    res = analyze(circuit(R("R1", "out", "0", 1e3)), output="out", band=(1.0, 1e3), temperature_celsius=T300)
     assert res.spot_density(100.0) == pytest.approx(4.07e-9, rel=2e-3)
     assert res.spot_density(100.0) == pytest.approx(math.sqrt(4 * K_B * 300.0 * 1e3), rel=1e-9)
 
@@ -36,8 +36,7 @@ def test_white_100nV_over_4Hz_is_200nV():
     # A white density of 100 nV/√Hz over a 4 Hz band is 200 nV rms (common practice).
     t = 300.0
     r = (100e-9) ** 2 / (4 * K_B * t)  # the resistor whose thermal density is 100 nV/√Hz
-    res = analyze(circuit(R("R1", "out", "0", r)), output="out", band=(1000.0, 1004.0),
-                  temperature_celsius=t - 273.15)
+    res = analyze(circuit(R("R1", "out", "0", r)), output="out", band=(1000.0, 1004.0), temperature_celsius=t - 273.15)
     assert res.total_rms == pytest.approx(200e-9, rel=1e-9)
 
 
@@ -49,14 +48,19 @@ def test_default_temperature_is_27C():
 
 # --- kT/C and noise bandwidth -------------------------------------------------------
 
+
 @pytest.mark.parametrize("r", [10.0, 1e3, 1e6])
 def test_rc_total_is_kT_over_C_independent_of_R(r):
     # Equipartition: the integrated noise on an RC node is kT/C whatever R is
     # (Razavi, Design of Analog CMOS Integrated Circuits, noise chapter).
     # The classic slip (noise bandwidth 1/RC instead of 1/(4RC)) gives 4kT/C.
     cap = 1e-12
-    res = analyze(circuit(R("R1", "out", "0", r), C("C1", "out", "0", cap)), output="out",
-                  band=(0.0, math.inf), temperature_celsius=T300)
+    res = analyze(
+        circuit(R("R1", "out", "0", r), C("C1", "out", "0", cap)),
+        output="out",
+        band=(0.0, math.inf),
+        temperature_celsius=T300,
+    )
     assert res.total_variance == pytest.approx(K_B * 300.0 / cap, rel=1e-9)
     # 1 pF at 300 K: 64.36 µV rms (value checked while planning the project).
     assert res.total_rms == pytest.approx(64.36e-6, rel=1e-3)
@@ -70,8 +74,12 @@ def test_rc_total_on_finite_band_numerical_integration():
     r, cap, t = 1e3, 1e-9, 300.0
     fc = 1 / (2 * math.pi * r * cap)
     top = 37.0 * fc
-    res = analyze(circuit(R("R1", "out", "0", r), C("C1", "out", "0", cap)), output="out",
-                  band=(0.0, top), temperature_celsius=t - 273.15)
+    res = analyze(
+        circuit(R("R1", "out", "0", r), C("C1", "out", "0", cap)),
+        output="out",
+        band=(0.0, top),
+        temperature_celsius=t - 273.15,
+    )
     expected = K_B * t / cap * (2 / math.pi) * math.atan(top / fc)
     assert res.total_variance == pytest.approx(expected, rel=1e-6)
     # the cumulative curve ends at the band total
@@ -82,8 +90,12 @@ def test_rc_band_starting_above_zero():
     r, cap, t = 2.2e3, 4.7e-9, 300.0
     fc = 1 / (2 * math.pi * r * cap)
     lo, hi = 0.3 * fc, 8.0 * fc
-    res = analyze(circuit(R("R1", "out", "0", r), C("C1", "out", "0", cap)), output="out",
-                  band=(lo, hi), temperature_celsius=t - 273.15)
+    res = analyze(
+        circuit(R("R1", "out", "0", r), C("C1", "out", "0", cap)),
+        output="out",
+        band=(lo, hi),
+        temperature_celsius=t - 273.15,
+    )
     expected = 4 * K_B * t * r * fc * (math.atan(hi / fc) - math.atan(lo / fc))  # closed form
     assert res.total_variance == pytest.approx(expected, rel=1e-6)
 
@@ -92,8 +104,12 @@ def test_rc_band_from_frequency_to_infinity():
     r, cap, t = 1e3, 1e-9, 300.0
     fc = 1 / (2 * math.pi * r * cap)
     lo = 2.0 * fc
-    res = analyze(circuit(R("R1", "out", "0", r), C("C1", "out", "0", cap)), output="out",
-                  band=(lo, math.inf), temperature_celsius=t - 273.15)
+    res = analyze(
+        circuit(R("R1", "out", "0", r), C("C1", "out", "0", cap)),
+        output="out",
+        band=(lo, math.inf),
+        temperature_celsius=t - 273.15,
+    )
     expected = 4 * K_B * t * r * fc * (math.pi / 2 - math.atan(lo / fc))  # closed form
     assert res.total_variance == pytest.approx(expected, rel=1e-6)
 
@@ -102,8 +118,12 @@ def test_single_pole_enbw_is_pi_over_2_f3db():
     # Single-pole noise bandwidth = (π/2)·f_3dB = 1/(4RC) (common practice).
     r, cap = 1e3, 1e-9
     f3 = 1 / (2 * math.pi * r * cap)
-    res = analyze(circuit(V("Vin", "in", "0"), R("R1", "in", "out", r), C("C1", "out", "0", cap)),
-                  output="out", input_source="Vin", band=(0.0, math.inf))
+    res = analyze(
+        circuit(V("Vin", "in", "0"), R("R1", "in", "out", r), C("C1", "out", "0", cap)),
+        output="out",
+        input_source="Vin",
+        band=(0.0, math.inf),
+    )
     assert res.gain_at_max == pytest.approx(1.0, rel=1e-6)
     assert res.enbw_Hz == pytest.approx(math.pi / 2 * f3, rel=1e-6)
     assert res.enbw_Hz == pytest.approx(1 / (4 * r * cap), rel=1e-6)
@@ -116,8 +136,12 @@ def test_single_pole_enbw_numerically_on_finite_band():
     r, cap = 1e3, 1e-9
     fc = 1 / (2 * math.pi * r * cap)
     top = 1e3 * fc
-    res = analyze(circuit(V("Vin", "in", "0"), R("R1", "in", "out", r), C("C1", "out", "0", cap)),
-                  output="out", input_source="Vin", band=(0.0, top))
+    res = analyze(
+        circuit(V("Vin", "in", "0"), R("R1", "in", "out", r), C("C1", "out", "0", cap)),
+        output="out",
+        input_source="Vin",
+        band=(0.0, top),
+    )
     assert res.enbw_Hz == pytest.approx(fc * math.atan(top / fc), rel=1e-5)
 
 
@@ -150,9 +174,13 @@ def test_exact_infinite_band_agrees_with_quadrature():
     from scipy.integrate import quad
 
     ckt = circuit(
-        R("R1", "a", "0", 1e3), C("C1", "a", "0", 1e-9),
-        R("R2", "a", "b", 4.7e3), C("C2", "b", "0", 220e-12),
-        L("L1", "b", "c", 1e-3), R("R3", "c", "0", 10e3), C("C3", "c", "0", 47e-12),
+        R("R1", "a", "0", 1e3),
+        C("C1", "a", "0", 1e-9),
+        R("R2", "a", "b", 4.7e3),
+        C("C2", "b", "0", 220e-12),
+        L("L1", "b", "c", 1e-3),
+        R("R3", "c", "0", 10e3),
+        C("C3", "c", "0", 47e-12),
     )
     res = analyze(ckt, output="c", band=(0.0, math.inf))
     finite = analyze(ckt, output="c", band=(0.0, 1e9))
@@ -160,12 +188,15 @@ def test_exact_infinite_band_agrees_with_quadrature():
     from netnoise.engine.analysis import output_density_function
 
     density = output_density_function(ckt, output="c")
-    pieces = [quad(lambda f: float(density(np.array([f]))[0]), a, b, limit=200, epsabs=0)[0]
-              for a, b in [(0, 1e4), (1e4, 1e5), (1e5, 1e6), (1e6, 1e7), (1e7, 1e9)]]
+    pieces = [
+        quad(lambda f: float(density(np.array([f]))[0]), a, b, limit=200, epsabs=0)[0]
+        for a, b in [(0, 1e4), (1e4, 1e5), (1e5, 1e6), (1e6, 1e7), (1e7, 1e9)]
+    ]
     assert finite.total_variance == pytest.approx(sum(pieces), rel=1e-6)
 
 
 # --- divider, gain stages, controlled sources -------------------------------------------
+
 
 def test_divider_equal_resistors_parallel_density_half_shares():
     # Two equal resistors seen in parallel: density 4kT(R/2); each carries half
@@ -194,8 +225,10 @@ def test_cccs_transfers_noise_current():
     # into a load Rload: density (B·i_n·Rload)² with i_n² = 4kT/Rs (common practice).
     t, rs, rload, gain = 300.0, 2e3, 500.0, 4.0
     ckt = circuit(
-        R("Rs", "a", "0", rs), V("Vsense", "a", "0", ac=0.0),  # Rs's noise current flows in Vsense
-        F("F1", "out", "0", "Vsense", gain), R("Rload", "out", "0", rload),
+        R("Rs", "a", "0", rs),
+        V("Vsense", "a", "0", ac=0.0),  # Rs's noise current flows in Vsense
+        F("F1", "out", "0", "Vsense", gain),
+        R("Rload", "out", "0", rload),
     )
     res = analyze(ckt, output="out", band=(1.0, 1e3), temperature_celsius=t - 273.15)
     by = {c.source: c for c in res.contributions}
@@ -222,6 +255,7 @@ def test_current_input_source_gain_is_transimpedance():
 
 # --- temperature -------------------------------------------------------------------------
 
+
 @pytest.mark.parametrize("celsius", [-40.0, 27.0, 125.0])
 def test_noise_power_scales_with_absolute_temperature(celsius):
     # Thermal noise power ∝ T (Nyquist 1928).
@@ -232,6 +266,7 @@ def test_noise_power_scales_with_absolute_temperature(celsius):
 
 
 # --- AC transfer against an independent reference ---------------------------------------------
+
 
 def test_three_section_rc_ladder_transfer_matches_sympy():
     # Reference: sympy's symbolic nodal solution of the same ladder, evaluated
@@ -247,9 +282,15 @@ def test_three_section_rc_ladder_transfer_matches_sympy():
         (v3 - v2) / r3 + s * c3 * v3,
     ]
     h = sp.lambdify(s, sp.solve(eqs, [v1, v2, v3])[v3], "numpy")
-    ckt = circuit(V("Vin", "in", "0"), R("R1", "in", "n1", r1), C("C1", "n1", "0", c1),
-                  R("R2", "n1", "n2", r2), C("C2", "n2", "0", c2),
-                  R("R3", "n2", "n3", r3), C("C3", "n3", "0", c3))
+    ckt = circuit(
+        V("Vin", "in", "0"),
+        R("R1", "in", "n1", r1),
+        C("C1", "n1", "0", c1),
+        R("R2", "n1", "n2", r2),
+        C("C2", "n2", "0", c2),
+        R("R3", "n2", "n3", r3),
+        C("C3", "n3", "0", c3),
+    )
     res = analyze(ckt, output="n3", input_source="Vin", band=(10.0, 1e7), points_per_decade=10)
     ref = np.abs(h(2j * np.pi * res.frequency_Hz))
     np.testing.assert_allclose(res.gain, ref, rtol=1e-9)

@@ -7,11 +7,11 @@ import math
 
 import numpy as np
 import pytest
+from circuit_builders import C, R, V, circuit
 from hypothesis import HealthCheck, given, settings
 from hypothesis import strategies as st
 from scipy import constants
 
-from circuit_builders import C, R, V, circuit
 from netnoise.engine.analysis import analyze
 from netnoise.engine.options import SolverOptions
 
@@ -87,7 +87,10 @@ def test_sparse_and_dense_paths_agree(monkeypatch):
     # The same ladder through both solvers: identical to rounding.
     parts = [V("Vin", "n0", "0")]
     for i in range(30):
-        parts += [R(f"R{i}", f"n{i}", f"n{i + 1}", 100.0 * (1 + i % 3)), C(f"C{i}", f"n{i + 1}", "0", 1e-12 * (1 + i % 5))]
+        parts += [
+            R(f"R{i}", f"n{i}", f"n{i + 1}", 100.0 * (1 + i % 3)),
+            C(f"C{i}", f"n{i + 1}", "0", 1e-12 * (1 + i % 5)),
+        ]
     ckt = circuit(*parts)
     kwargs = dict(output="n30", input_source="Vin", band=(1e3, 1e10), points_per_decade=10)
     dense = analyze(ckt, **kwargs)

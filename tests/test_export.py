@@ -8,14 +8,12 @@ import json
 import math
 import os
 
+import _output_samples as samples  # tests/ is on sys.path (conftest.py)
 import numpy as np
 import pytest
 
 from netnoise.errors import CircuitError
 from netnoise.outputs.export import atomic_write, csv_header, result_to_dict, to_json, write_csv, write_json
-
-
-import _output_samples as samples  # tests/ is on sys.path (conftest.py)
 
 # The fixed part of the JSON document: key -> allowed types.
 REQUIRED = {
@@ -67,9 +65,17 @@ def test_white_source_numbers():
     assert data["input_source"] is None and data["input_referred_rms"] is None
     assert data["input_referred_unit"] is None and data["gain_at_max"] is None and data["enbw_Hz"] is None
     assert data["contributions"] == [
-        {"source": "R1", "element": "R1", "mechanism": "thermal", "value": 1e3, "unit": "Ω", "value_text": "1 kΩ",
-         "rms_V": pytest.approx(200e-9, rel=1e-12),
-         "share": 1.0, "cumulative_share": 1.0}
+        {
+            "source": "R1",
+            "element": "R1",
+            "mechanism": "thermal",
+            "value": 1e3,
+            "unit": "Ω",
+            "value_text": "1 kΩ",
+            "rms_V": pytest.approx(200e-9, rel=1e-12),
+            "share": 1.0,
+            "cumulative_share": 1.0,
+        }
     ]
     assert data["spectrum"]["output_density_V_per_rtHz"] == pytest.approx([100e-9] * 41, rel=1e-12)
     assert "input_referred_density_per_rtHz" not in data["spectrum"]
@@ -250,7 +256,9 @@ def test_groups_by_element_and_by_mechanism():
     data = _parsed_with(result, group_by="element")
     assert data["group_by"] == "element"
     assert [(g["name"], g["sources"]) for g in data["groups"]] == [
-        ("Rs", ["Rs"]), ("Xu1", ["Xu1 (voltage)", "Xu1 (in+)"]), ("R1", ["R1"])
+        ("Rs", ["Rs"]),
+        ("Xu1", ["Xu1 (voltage)", "Xu1 (in+)"]),
+        ("R1", ["R1"]),
     ]
     assert data["groups"][1]["mechanisms"] == ["amplifier-voltage", "amplifier-current"]
     # shares by equivalent resistance (sample construction): 50, 40, 10 %
@@ -289,14 +297,18 @@ def test_snr_adc_and_operating_point_keys():
 
     assert enob_bits(data["adc"]["ideal_snr_dB"]) == pytest.approx(16.0, rel=1e-3)
     assert data["operating_point"] == {
-        "node_voltages_V": {"out": 2.5}, "element_currents_A": {"R1": 1e-3}, "element_voltages_V": {"R1": 1.0}
+        "node_voltages_V": {"out": 2.5},
+        "element_currents_A": {"R1": 1e-3},
+        "element_voltages_V": {"R1": 1.0},
     }
 
 
 def test_snr_without_noise_is_null_not_infinity():
     from netnoise.results.figures import signal_to_noise
 
-    quiet = samples.white(source_density=np.zeros((1, 41)), source_variance=np.zeros(1), cumulative_variance=np.zeros(41))
+    quiet = samples.white(
+        source_density=np.zeros((1, 41)), source_variance=np.zeros(1), cumulative_variance=np.zeros(41)
+    )
     data = _parsed_with(quiet, snr=signal_to_noise(quiet, 1.0, at="output"), signal_at="output")
     assert data["snr"]["snr_dB"] is None
 

@@ -9,11 +9,11 @@ import math
 
 import numpy as np
 import pytest
+from circuit_builders import C, E, I, R, V, circuit, opamp
 from scipy import constants
 
-from circuit_builders import E, I, R, V, C, circuit, opamp
-from netnoise.engine.analysis import analyze
 from netnoise.circuit import NoiseSpec
+from netnoise.engine.analysis import analyze
 from netnoise.engine.dc import operating_point
 from netnoise.results.figures import adc_comparison, ideal_adc_snr_dB
 
@@ -29,6 +29,7 @@ def noiseless(r):
 
 # --- amplifier noise ------------------------------------------------------------------------
 
+
 def test_non_inverting_amplifier_textbook_formula():
     # Output noise of a non-inverting stage (Horowitz & Hill, The Art of
     # Electronics, 3rd ed., ch. 8; Motchenbacher & Connelly, Low-Noise
@@ -37,8 +38,10 @@ def test_non_inverting_amplifier_textbook_formula():
     #   G = 1 + R2/R1, R_p = R1 ∥ R2.  Flat band, near-ideal amplifier.
     en, i_n, rs, r1, r2 = 4e-9, 1e-12, 2e3, 1e3, 9e3
     ckt = circuit(
-        V("Vs", "src", "0"), R("Rs", "src", "p", rs),
-        R("R1", "n", "0", r1), R("R2", "n", "out", r2),
+        V("Vs", "src", "0"),
+        R("Rs", "src", "p", rs),
+        R("R1", "n", "0", r1),
+        R("R2", "n", "out", r2),
         opamp("XU1", "p", "n", "out", voltage_noise=en, current_noise=i_n, open_loop_gain=1e8, gain_bandwidth_Hz=1e12),
     )
     res = analyze(ckt, output="out", input_source="Vs", band=(10.0, 1e3), temperature_celsius=T_C)
@@ -57,8 +60,10 @@ def test_non_inverting_amplifier_textbook_formula():
 
 def _transimpedance(cin, cf, rf, en, i_n, a0, gbw, iph):
     return circuit(
-        I("Iph", "0", "n", ac=1.0), C("Cin", "n", "0", cin),
-        R("Rf", "n", "out", rf), C("Cf", "n", "out", cf),
+        I("Iph", "0", "n", ac=1.0),
+        C("Cin", "n", "0", cin),
+        R("Rf", "n", "out", rf),
+        C("Cf", "n", "out", cf),
         opamp("XTIA", "0", "n", "out", voltage_noise=en, current_noise=i_n, open_loop_gain=a0, gain_bandwidth_Hz=gbw),
     )
 
@@ -71,8 +76,14 @@ def test_transimpedance_stage_closed_form_with_finite_gbw():
     # (standard feedback analysis, e.g. Horowitz & Hill ch. 8 on photodiode
     # amplifiers).  Finite GBW is what bounds the e_n·(1 + C_in/C_f) plateau.
     cin, cf, rf, en, i_n, a0, gbw = 100e-12, 1e-12, 1e6, 5e-9, 2e-15, 1e5, 1e9
-    res = analyze(_transimpedance(cin, cf, rf, en, i_n, a0, gbw, 0.0), output="out", input_source="Iph",
-                  band=(10.0, 1e8), points_per_decade=10, temperature_celsius=T_C)
+    res = analyze(
+        _transimpedance(cin, cf, rf, en, i_n, a0, gbw, 0.0),
+        output="out",
+        input_source="Iph",
+        band=(10.0, 1e8),
+        points_per_decade=10,
+        temperature_celsius=T_C,
+    )
     s = 2j * np.pi * res.frequency_Hz
     zf = rf / (1 + s * rf * cf)
     ng = 1 + zf * s * cin
@@ -91,8 +102,19 @@ def test_amplifier_voltage_noise_with_1_over_f_corner_integrates_to_closed_form(
     # Integrated 1/f-plus-white noise from f_L to f_H:
     #   e_n²·(f_c·ln(f_H/f_L) + f_H − f_L)  (common practice)
     en, fc, fl, fh = 10e-9, 200.0, 0.1, 1e4
-    ckt = circuit(R("Rg", "p", "0", 1.0), opamp("XB", "p", "out", "out", voltage_noise=en, voltage_noise_corner_Hz=fc,
-                                              open_loop_gain=1e9, gain_bandwidth_Hz=1e12))
+    ckt = circuit(
+        R("Rg", "p", "0", 1.0),
+        opamp(
+            "XB",
+            "p",
+            "out",
+            "out",
+            voltage_noise=en,
+            voltage_noise_corner_Hz=fc,
+            open_loop_gain=1e9,
+            gain_bandwidth_Hz=1e12,
+        ),
+    )
     ckt = dataclasses.replace(ckt, elements=(noiseless(ckt.elements[0]), ckt.elements[1]))
     res = analyze(ckt, output="out", band=(fl, fh))
     assert res.total_variance == pytest.approx(en**2 * (fc * math.log(fh / fl) + fh - fl), rel=1e-6)
@@ -135,6 +157,7 @@ def test_1_over_f_with_infinite_band_combines_exact_white_and_numeric_flicker():
 
 
 # --- shot and excess noise -----------------------------------------------------------------
+
 
 def test_shot_noise_of_1mA():
     # Shot noise of 1 mA: sqrt(2qI) ≈ 17.9 pA/√Hz (Schottky 1918; common practice).
@@ -200,8 +223,11 @@ def test_noiseless_and_per_element_temperature():
 def test_dc_operating_point_of_a_divider_and_amplifier():
     # Ohm's law and an ideal-ish follower (common practice).
     ckt = circuit(
-        dataclasses.replace(V("Vb", "top", "0"), dc=5.0), R("Ra", "top", "mid", 3e3), R("Rb", "mid", "0", 2e3),
-        opamp("XF", "mid", "out", "out", open_loop_gain=1e6, gain_bandwidth_Hz=1e6), R("Rl", "out", "0", 1e3),
+        dataclasses.replace(V("Vb", "top", "0"), dc=5.0),
+        R("Ra", "top", "mid", 3e3),
+        R("Rb", "mid", "0", 2e3),
+        opamp("XF", "mid", "out", "out", open_loop_gain=1e6, gain_bandwidth_Hz=1e6),
+        R("Rl", "out", "0", 1e3),
     )
     op = operating_point(ckt)
     assert op.node_voltages["mid"] == pytest.approx(2.0, rel=1e-12)
@@ -212,6 +238,7 @@ def test_dc_operating_point_of_a_divider_and_amplifier():
 
 
 # --- noise figure ------------------------------------------------------------------------
+
 
 def _t_pad(loss_db, z0=50.0, prefix=""):
     # Matched T attenuator: K = 10^(dB/20); series arms Z0(K−1)/(K+1), shunt
@@ -225,10 +252,17 @@ def test_matched_attenuator_at_290K_has_noise_figure_equal_to_its_loss(loss_db):
     # F = L for a matched passive attenuator at T0 = 290 K (Friis 1944; IEEE
     # standard temperature T0 = 290 K).  The load is an ideal (noiseless) 50 Ω.
     series, shunt = _t_pad(loss_db)
-    ckt = circuit(V("Vs", "s", "0"), R("Rs", "s", "a", 50.0), R("Ra", "a", "m", series), R("Rsh", "m", "0", shunt),
-                  R("Rb", "m", "out", series), noiseless(R("RL", "out", "0", 50.0)))
-    res = analyze(ckt, output="out", input_source="Vs", band=(1e3, 1e6), temperature_celsius=290.0 - 273.15,
-                  source_resistor="Rs")
+    ckt = circuit(
+        V("Vs", "s", "0"),
+        R("Rs", "s", "a", 50.0),
+        R("Ra", "a", "m", series),
+        R("Rsh", "m", "0", shunt),
+        R("Rb", "m", "out", series),
+        noiseless(R("RL", "out", "0", 50.0)),
+    )
+    res = analyze(
+        ckt, output="out", input_source="Vs", band=(1e3, 1e6), temperature_celsius=290.0 - 273.15, source_resistor="Rs"
+    )
     assert res.noise_figure_dB == pytest.approx(loss_db, rel=1e-9)
     np.testing.assert_allclose(res.noise_figure_spectrum_dB, loss_db, rtol=1e-9)
 
@@ -239,8 +273,14 @@ def test_attenuator_noise_figure_at_another_temperature():
     # resistor is taken at T0 = 290 K whatever the circuit temperature.
     loss_db, t = 6.0, 350.0
     series, shunt = _t_pad(loss_db)
-    ckt = circuit(V("Vs", "s", "0"), R("Rs", "s", "a", 50.0), R("Ra", "a", "m", series), R("Rsh", "m", "0", shunt),
-                  R("Rb", "m", "out", series), noiseless(R("RL", "out", "0", 50.0)))
+    ckt = circuit(
+        V("Vs", "s", "0"),
+        R("Rs", "s", "a", 50.0),
+        R("Ra", "a", "m", series),
+        R("Rsh", "m", "0", shunt),
+        R("Rb", "m", "out", series),
+        noiseless(R("RL", "out", "0", 50.0)),
+    )
     res = analyze(ckt, output="out", band=(1e3, 1e6), temperature_celsius=t - 273.15, source_resistor="Rs")
     loss = 10 ** (loss_db / 10)
     assert res.noise_figure_dB == pytest.approx(10 * math.log10(1 + (loss - 1) * t / 290.0), rel=1e-9)
@@ -249,8 +289,11 @@ def test_attenuator_noise_figure_at_another_temperature():
 def _stage(prefix, node_in, node_out, gain):
     # A matched 50 Ω voltage amplifier: 50 Ω input termination, ideal gain,
     # 50 Ω series output.  Available power gain G = gain²/4 into 50 Ω.
-    return [R(f"{prefix}in", node_in, "0", 50.0), E(f"{prefix}E", f"{prefix.lower()}x", "0", node_in, "0", gain),
-            R(f"{prefix}out", f"{prefix.lower()}x", node_out, 50.0)]
+    return [
+        R(f"{prefix}in", node_in, "0", 50.0),
+        E(f"{prefix}E", f"{prefix.lower()}x", "0", node_in, "0", gain),
+        R(f"{prefix}out", f"{prefix.lower()}x", node_out, 50.0),
+    ]
 
 
 def test_friis_cascade_of_two_gain_stages():
@@ -274,6 +317,7 @@ def test_friis_cascade_of_two_gain_stages():
 
 
 # --- converter ---------------------------------------------------------------------------
+
 
 def test_ideal_16_bit_adc_snr():
     # 6.02N + 1.76 dB: 98.1 dB for 16 bits (common practice).

@@ -61,9 +61,8 @@ def _cache_file_name(cache_home: Path) -> Path:
     import shutil
 
     if "home" not in _BUILT:
-        import tempfile
-
         import atexit
+        import tempfile
 
         home = Path(tempfile.mkdtemp(prefix="netnoise-built-cache-"))
         atexit.register(shutil.rmtree, home, True)
@@ -156,9 +155,9 @@ def test_the_planted_pickle_would_run_if_loaded(tmp_path):
 
 
 def test_grammar_has_no_possessive_quantifiers_or_atomic_groups():
-    from netnoise.text.grammar import grammar_text
-
     import re
+
+    from netnoise.text.grammar import grammar_text
 
     patterns = re.findall(r"/(?:[^/\n\\]|\\.)+/", grammar_text())
     assert patterns
@@ -277,8 +276,12 @@ HOSTILE = [
     ("deep-subcircuits", lambda d: [_deep_chain(d)], 2, ["nested more than 100 deep", "s0 -> s1", "s100"]),
     ("1e8-elements", lambda d: [_exploding(d)], 2, ["100,000,002", "would expand to", "limit of 5,000,000", "'s8'"]),
     ("points-1e20", lambda d: [_rc(d), "--points", "99999999999999999999"], 2, ["would need", "points", "--points"]),
-    ("dec-1e12", lambda d: [str(_write(d, "n.cir", RC.replace("dec 10", "dec 999999999999")))], 2,
-     ["would need 3,999,999,999,996 points", "limit of 1,000,000"]),
+    (
+        "dec-1e12",
+        lambda d: [str(_write(d, "n.cir", RC.replace("dec 10", "dec 999999999999")))],
+        2,
+        ["would need 3,999,999,999,996 points", "limit of 1,000,000"],
+    ),
     ("band-1e-300-1e300", lambda d: [_rc(d), "--band", "1e-300", "1e300", "--points", "2"], 0, []),
     ("adc-overflow", lambda d: [_rc(d), "--adc", "1", "1e308", "1e-300"], 2, ["--adc RANGE", "1e308"]),
     ("adc-rate", lambda d: [_rc(d), "--adc", "1", "1", "1e-300"], 2, ["--adc RATE"]),
@@ -287,12 +290,20 @@ HOSTILE = [
     ("unknown-option", lambda d: [_rc(d), "--frobnicate"], 2, ["unrecognized arguments: --frobnicate"]),
     ("underflow", lambda d: [str(_write(d, "u.cir", RC.replace("1k", "1e-400")))], 2, ["underflows", "1e-400"]),
     ("subnormal", lambda d: [str(_write(d, "s.cir", RC.replace("1k", "1e-310")))], 2, ["underflows", "1e-310"]),
-    ("subnormal-expression", lambda d: [str(_write(d, "e.cir", RC.replace("1k", "{1e-300*1e-10}")))], 2,
-     ["underflows"]),
+    (
+        "subnormal-expression",
+        lambda d: [str(_write(d, "e.cir", RC.replace("1k", "{1e-300*1e-10}")))],
+        2,
+        ["underflows"],
+    ),
     ("temp-nan", lambda d: [_rc(d), "--temp", "nan"], 2, ["is not a number"]),
     ("temp-inf", lambda d: [_rc(d), "--temp=-inf"], 2, ["finite"]),
-    ("k-digits", lambda d: [str(_write(d, "k.cir", RC + "L1 out 0 1m\nL2 x 0 1m\nR2 x 0 1k\nK1 L1 L2 1.0000001\n"))],
-     2, ["not 1.0000001"]),
+    (
+        "k-digits",
+        lambda d: [str(_write(d, "k.cir", RC + "L1 out 0 1m\nL2 x 0 1m\nR2 x 0 1k\nK1 L1 L2 1.0000001\n"))],
+        2,
+        ["not 1.0000001"],
+    ),
     ("cr-only", lambda d: [str(_write(d, "cr.cir", RC.replace("\n", "\r")))], 0, []),
     ("long-option", lambda d: [_rc(d), "--temp", "x" * 100_000], 2, ["characters left out"]),
     ("long-option-argparse", lambda d: [_rc(d), "--points", "9" * 50_000 + "x"], 2, ["characters left out"]),
@@ -571,7 +582,9 @@ def test_an_unwritable_output_folder_is_refused_before_the_report(tmp_path, caps
     folder = tmp_path / "locked"
     folder.mkdir()
     real_access = os.access
-    monkeypatch.setattr(os, "access", lambda p, mode, **k: False if str(p) == str(folder) else real_access(p, mode, **k))
+    monkeypatch.setattr(
+        os, "access", lambda p, mode, **k: False if str(p) == str(folder) else real_access(p, mode, **k)
+    )
     assert cli.main(["analyze", _rc(tmp_path), "--json", str(folder / "r.json")]) == 2
     out, err = capsys.readouterr()
     assert out == "" and "cannot write in the folder" in err  # nothing printed, nothing computed
@@ -647,11 +660,46 @@ from hypothesis import HealthCheck, given, settings
 from hypothesis import strategies as st
 
 FUZZ_VALUES = [
-    "0", "-1", "1e-400", "1e-310", "1e-15", "1f", "1", "1k", "1meg", "1e12", "inf", "nan", "1kk", "{1/0}",
-    "{1e-200*1e-200}", "{-1}", "1M", "abc", "{0}", "1e", "-1e-3", "{2**60}", "1e-9", "1.0000001", "10kOhm",
+    "0",
+    "-1",
+    "1e-400",
+    "1e-310",
+    "1e-15",
+    "1f",
+    "1",
+    "1k",
+    "1meg",
+    "1e12",
+    "inf",
+    "nan",
+    "1kk",
+    "{1/0}",
+    "{1e-200*1e-200}",
+    "{-1}",
+    "1M",
+    "abc",
+    "{0}",
+    "1e",
+    "-1e-3",
+    "{2**60}",
+    "1e-9",
+    "1.0000001",
+    "10kOhm",
 ]
-FUZZ_BANDS = [None, ("0", "inf"), ("1", "1k"), ("0", "1e9"), ("1e-3", "1e9"), ("10", "10.0000001"), ("1", "1"),
-              ("20", "20k"), ("1k", "10"), ("-1", "1"), ("1", "nan"), ("1e-3", "1e12")]
+FUZZ_BANDS = [
+    None,
+    ("0", "inf"),
+    ("1", "1k"),
+    ("0", "1e9"),
+    ("1e-3", "1e9"),
+    ("10", "10.0000001"),
+    ("1", "1"),
+    ("20", "20k"),
+    ("1k", "10"),
+    ("-1", "1"),
+    ("1", "nan"),
+    ("1e-3", "1e12"),
+]
 FUZZ_TEMPS = [None, "-273.15", "-273.14", "-273", "27", "1e3", "nan", "inf", "-inf", "125", "abc"]
 FUZZ_POINTS = [None, 1, 2, 3, 7, 20, 40]
 FUZZ_TOKENS = ["", "0", "gnd", "x", "V1", "{", "=", "noise=1n", "ni=-10", "shot", "noiseless", "+", "dec", "lin 3"]
@@ -751,8 +799,12 @@ def test_portable_terminals_match_what_the_possessive_ones_did(terminal):
     possessive = re.compile(_POSSESSIVE[terminal])
 
     @settings(max_examples=250, deadline=None, derandomize=True)
-    @given(st.lists(st.sampled_from([" ", "\t", "\n", "a", "R1", "b", "=", "(", ")", "+", ",", "'", "1k", "\r"]),
-                    max_size=30).map("".join), st.integers(0, 3))
+    @given(
+        st.lists(
+            st.sampled_from([" ", "\t", "\n", "a", "R1", "b", "=", "(", ")", "+", ",", "'", "1k", "\r"]), max_size=30
+        ).map("".join),
+        st.integers(0, 3),
+    )
     def same(text, start):
         expected = possessive.match(text, min(start, len(text)))
         got = portable.match(text, min(start, len(text)))

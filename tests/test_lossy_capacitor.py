@@ -67,7 +67,9 @@ def test_node_density_is_4kT_re_z(f):
     r_load, c, esr = 10e3, 100e-9, 50.0
     res = analyze(
         parse_netlist(f"esr\nR1 a 0 {r_load}\nC1 a 0 {c} esr={esr}\n"),
-        output="a", band=(1.0, 1e7), temperature_celsius=T - 273.15,
+        output="a",
+        band=(1.0, 1e7),
+        temperature_celsius=T - 273.15,
     )
     expected = 4 * K_B * T * np.real(_z(f, r_load, c, esr))
     assert res.spot_density(f) ** 2 == pytest.approx(expected, rel=1e-3)  # log-log interpolation between grid points
@@ -89,7 +91,9 @@ def test_infinite_band_total_matches_quadrature_of_nyquist_density():
     r_load, c, esr, cp = 10e3, 100e-9, 50.0, 1e-9
     res = analyze(
         parse_netlist(f"esr\nR1 a 0 {r_load}\nC1 a 0 {c} esr={esr}\nCp a 0 {cp}\n"),
-        output="a", band=(0.0, math.inf), temperature_celsius=T - 273.15,
+        output="a",
+        band=(0.0, math.inf),
+        temperature_celsius=T - 273.15,
     )
 
     def density(x):

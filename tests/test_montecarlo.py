@@ -100,12 +100,23 @@ def test_percentiles_of_kt_over_c_for_a_gaussian_capacitance():
 # --- finite band: batched path ------------------------------------------------------
 def test_every_trial_of_a_finite_band_matches_the_rc_closed_form():
     result = netnoise.montecarlo(
-        _rc(), trials=120, tolerances={"R1": 0.05, "C*": 0.2}, seed=9, output="n1", band=(10.0, 100e3),
+        _rc(),
+        trials=120,
+        tolerances={"R1": 0.05, "C*": 0.2},
+        seed=9,
+        output="n1",
+        band=(10.0, 100e3),
     )
     r = result.values[:, result.targets.index("R1")]
     c = result.values[:, result.targets.index("C1")]
     # ∫ 4kTR / (1 + (2πfRC)²) df from f1 to f2 = (2kT/πC)·(atan(2πf2RC) - atan(2πf1RC))  (closed form)
-    expected = 2 * K_B * T_DEFAULT / (math.pi * c) * (np.arctan(2 * math.pi * 100e3 * r * c) - np.arctan(2 * math.pi * 10 * r * c))
+    expected = (
+        2
+        * K_B
+        * T_DEFAULT
+        / (math.pi * c)
+        * (np.arctan(2 * math.pi * 100e3 * r * c) - np.arctan(2 * math.pi * 10 * r * c))
+    )
     np.testing.assert_allclose(result.total_variance, expected, rtol=1e-5)
     # per-trial densities on the grid: 4kTR/(1 + (2πfRC)²)  (Johnson–Nyquist through a first-order RC)
     f = result.frequency_Hz
@@ -114,8 +125,9 @@ def test_every_trial_of_a_finite_band_matches_the_rc_closed_form():
 
 
 def test_band_from_above_zero_to_infinity_analyses_each_trial_in_full():
-    result = netnoise.montecarlo(_rc(), trials=12, tolerances={"R1": 0.1, "C1": 0.1}, seed=21, output="n1",
-                                 band=(1e3, math.inf))
+    result = netnoise.montecarlo(
+        _rc(), trials=12, tolerances={"R1": 0.1, "C1": 0.1}, seed=21, output="n1", band=(1e3, math.inf)
+    )
     assert result.method == "each trial analysed in full"
     from netnoise.studies.execution import usable_cores  # trial-by-trial studies spread over the cores
 
@@ -145,8 +157,15 @@ Xm in load
 
 def test_amplifier_noise_varied_through_a_param_and_hierarchical_patterns():
     circuit = netnoise.parse_netlist(FOLLOWER)
-    result = netnoise.montecarlo(circuit, trials=40, tolerances={"en_u1": 0.3, "xl.*": 0.1}, seed=1, output="out",
-                                 band=(1.0, 1e3), keep_density=False)
+    result = netnoise.montecarlo(
+        circuit,
+        trials=40,
+        tolerances={"en_u1": 0.3, "xl.*": 0.1},
+        seed=1,
+        output="out",
+        band=(1.0, 1e3),
+        keep_density=False,
+    )
     assert result.targets == ("Xl.R1", "Xl.C1", "en_u1")  # X1.* style patterns reach inside instances only
     en = result.values[:, 2]
     # a voltage follower passes its amplifier's eₙ with the closed-loop gain A0/(1 + A0) (common practice,
@@ -162,8 +181,9 @@ def test_a_gaussian_draw_that_would_change_a_sign_is_refused():
 
 
 def test_sensitivity_of_kt_over_c_is_minus_one_half_for_c_and_zero_for_r():
-    result = netnoise.montecarlo(_rc(), trials=200, tolerances={"R1": 0.01, "C1": 0.01}, seed=1, output="n1",
-                                 keep_density=False)
+    result = netnoise.montecarlo(
+        _rc(), trials=200, tolerances={"R1": 0.01, "C1": 0.01}, seed=1, output="n1", keep_density=False
+    )
     slopes = dict(zip(result.sensitivity_names, result.sensitivities))
     # rms = sqrt(kT/C): d ln(rms) / d ln(C) = -1/2 (closed form); the linear fit of a ±1 % spread
     # is off by the curvature, of order the tolerance: 2 % relative
@@ -184,8 +204,15 @@ def test_a_param_tolerance_changes_what_depends_on_it():
 def _repro_run(**where):
     # default chunks (of 64 trials: 3 here), as a user gets them
     return netnoise.montecarlo(
-        _rc(), trials=150, tolerances={"R1": 0.05, "C1": 0.1}, seed=77, output="n1", band=(10.0, 1e5),
-        temperature_range_celsius=(0, 50), keep_density=False, **where,
+        _rc(),
+        trials=150,
+        tolerances={"R1": 0.05, "C1": 0.1},
+        seed=77,
+        output="n1",
+        band=(10.0, 1e5),
+        temperature_range_celsius=(0, 50),
+        keep_density=False,
+        **where,
     )
 
 
@@ -202,7 +229,9 @@ def test_one_seed_gives_bit_identical_trials_in_process_on_processes_and_on_a_cl
         assert np.array_equal(here.values, other.values)
         assert np.array_equal(here.temperature_K, other.temperature_K)
         assert np.array_equal(here.total_rms_V, other.total_rms_V)
-    other_seed = netnoise.montecarlo(_rc(), trials=150, tolerances={"C1": 0.1}, seed=78, output="n1", keep_density=False)
+    other_seed = netnoise.montecarlo(
+        _rc(), trials=150, tolerances={"C1": 0.1}, seed=78, output="n1", keep_density=False
+    )
     assert not np.array_equal(other_seed.values[:, 0], here.values[:, 1])
 
 
@@ -230,8 +259,9 @@ def test_execution_layer_returns_parts_in_chunk_order_wherever_they_ran():
 
 # --- the result set ---------------------------------------------------------------------
 def test_result_is_immutable_and_its_statistics_follow_its_arrays():
-    result = netnoise.montecarlo(_rc(), trials=40, tolerances={"C1": 0.2}, seed=8, output="n1", target_rms=2.0e-6,
-                                 band=(1.0, 1e6))
+    result = netnoise.montecarlo(
+        _rc(), trials=40, tolerances={"C1": 0.2}, seed=8, output="n1", target_rms=2.0e-6, band=(1.0, 1e6)
+    )
     for name in ("values", "temperature_K", "source_variance", "frequency_Hz", "output_density", "total_rms_V"):
         with pytest.raises(ValueError):
             getattr(result, name)[0] = 0.0
@@ -276,9 +306,28 @@ def test_command_line_writes_report_json_and_csv(tmp_path, capsys):
 
     netlist = tmp_path / "rc.cir"
     netlist.write_text(RC)
-    status = main(["montecarlo", str(netlist), "--trials", "30", "--tol", "C*=10%", "--out", "n1",
-                   "--seed", "12", "--target", "2.1u", "--json", "-", "--csv", str(tmp_path / "t.csv"),
-                   "--plot", str(tmp_path / "spread.png")])
+    status = main(
+        [
+            "montecarlo",
+            str(netlist),
+            "--trials",
+            "30",
+            "--tol",
+            "C*=10%",
+            "--out",
+            "n1",
+            "--seed",
+            "12",
+            "--target",
+            "2.1u",
+            "--json",
+            "-",
+            "--csv",
+            str(tmp_path / "t.csv"),
+            "--plot",
+            str(tmp_path / "spread.png"),
+        ]
+    )
     captured = capsys.readouterr()
     assert status == 0, captured.err
     data = json.loads(captured.out)["montecarlo"]
@@ -301,8 +350,20 @@ def test_command_line_sends_the_trials_to_a_cluster(tmp_path, capsys):
 
     netlist = tmp_path / "rc.cir"
     netlist.write_text(RC)
-    args = ["montecarlo", str(netlist), "--trials", "20", "--tol", "C1=10%", "--out", "n1", "--seed", "3",
-            "--json", "-"]
+    args = [
+        "montecarlo",
+        str(netlist),
+        "--trials",
+        "20",
+        "--tol",
+        "C1=10%",
+        "--out",
+        "n1",
+        "--seed",
+        "3",
+        "--json",
+        "-",
+    ]
     assert main(args) == 0
     here = json.loads(capsys.readouterr().out)["montecarlo"]
     with LocalCluster(n_workers=1, threads_per_worker=1, processes=False, dashboard_address=None) as cluster:
@@ -338,8 +399,9 @@ def test_command_line_refuses_bad_options(tmp_path, capsys, extra, message):
 def test_plots_draw_the_trials_and_mark_the_target():
     from netnoise.outputs.montecarlo_plots import plot_density_band, plot_total_histogram
 
-    result = netnoise.montecarlo(_rc(), trials=60, tolerances={"C1": 0.2}, seed=6, output="n1", band=(10.0, 1e5),
-                                 target_rms=1.9e-6)
+    result = netnoise.montecarlo(
+        _rc(), trials=60, tolerances={"C1": 0.2}, seed=6, output="n1", band=(10.0, 1e5), target_rms=1.9e-6
+    )
     histogram = plot_total_histogram(result, bins=10)
     assert histogram.artists["counts"].sum() == 60
     assert histogram.artists["target"].get_xdata()[0] == pytest.approx(1.9, rel=1e-12)  # µV
@@ -381,10 +443,18 @@ def test_trial_progress_is_shown_on_a_terminal_only():
 
 
 def test_importing_netnoise_loads_neither_matplotlib_nor_dask():
-    code = ("import sys, netnoise, netnoise.cli, netnoise.studies.montecarlo, netnoise.outputs.montecarlo_plots; "
-            "print(sorted({n.split('.')[0] for n in sys.modules} & {'matplotlib', 'dask', 'distributed'}))")
+    code = (
+        "import sys, netnoise, netnoise.cli, netnoise.studies.montecarlo, netnoise.outputs.montecarlo_plots; "
+        "print(sorted({n.split('.')[0] for n in sys.modules} & {'matplotlib', 'dask', 'distributed'}))"
+    )
     repo = os.path.dirname(os.path.dirname(os.path.abspath(__file__)))
-    completed = subprocess.run([sys.executable, "-c", code], capture_output=True, text=True, timeout=120,
-                               cwd=repo, env={**os.environ, "PYTHONPATH": repo})
+    completed = subprocess.run(
+        [sys.executable, "-c", code],
+        capture_output=True,
+        text=True,
+        timeout=120,
+        cwd=repo,
+        env={**os.environ, "PYTHONPATH": repo},
+    )
     assert completed.returncode == 0, completed.stderr
     assert completed.stdout.strip() == "[]"

@@ -12,10 +12,10 @@ import numpy as np
 import pytest
 
 import netnoise
-from netnoise.engine.options import SolverOptions
 from netnoise.engine import transfer
-from netnoise.errors import CircuitError
 from netnoise.engine.mna import assemble
+from netnoise.engine.options import SolverOptions
+from netnoise.errors import CircuitError
 
 K_B = 1.380649e-23  # J/K, exact SI value (2019 redefinition)
 
@@ -82,8 +82,14 @@ def test_extreme_ladder_totals_are_finite_and_agree_across_paths():
     circuit = netnoise.parse_netlist(EXTREME)
     results = {}
     for m in ("dense", "banded", "sparse"):
-        results[m] = netnoise.analyze(circuit, output="n6", input_source="Vin", band=(1e-3, 1e11), points_per_decade=10,
-                                      options=SolverOptions(method=m))
+        results[m] = netnoise.analyze(
+            circuit,
+            output="n6",
+            input_source="Vin",
+            band=(1e-3, 1e11),
+            points_per_decade=10,
+            options=SolverOptions(method=m),
+        )
     base = np.asarray(results["dense"].source_variance)
     assert np.all(np.isfinite(base)) and base.sum() > 0
     for m in ("banded", "sparse"):
@@ -107,7 +113,9 @@ def test_lossless_resonance_on_a_grid_frequency_is_refused_naming_it(forced):
     circuit = netnoise.parse_netlist(TANK)
     # 0.1 .. 10 Hz at 20 points/decade: the grid's middle point is 1 Hz (to rounding)
     with pytest.raises(CircuitError) as info:
-        netnoise.analyze(circuit, output="y", band=(0.1, 10.0), points_per_decade=20, options=SolverOptions(method=forced))
+        netnoise.analyze(
+            circuit, output="y", band=(0.1, 10.0), points_per_decade=20, options=SolverOptions(method=forced)
+        )
     message = str(info.value)
     assert "singular" in message and "at 1 Hz" in message
     assert "add a realistic loss" in message

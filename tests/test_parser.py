@@ -5,9 +5,8 @@ from pathlib import Path
 
 import pytest
 
-from netnoise.text.grammar import START_SYMBOLS, grammar_path, netlist_parser
-from netnoise.netlist import load_netlist, parse_netlist
 from netnoise.circuit.elements.amplifier import OPAMP_PARAMS
+from netnoise.netlist import load_netlist, parse_netlist
 from netnoise.netlist.parser import parse_statements
 from netnoise.netlist.statements import (
     Coupling,
@@ -21,6 +20,7 @@ from netnoise.netlist.statements import (
     SubcktCard,
     VoltageControlled,
 )
+from netnoise.text.grammar import START_SYMBOLS, grammar_path, netlist_parser
 
 REPO = Path(__file__).resolve().parent.parent
 EXAMPLES = sorted((REPO / "circuits").glob("*.cir"))

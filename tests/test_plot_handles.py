@@ -14,10 +14,10 @@ import pytest
 matplotlib = pytest.importorskip("matplotlib")
 matplotlib.use("Agg")
 
+import _output_samples as samples  # noqa: E402  (tests/ is on sys.path, conftest.py)
 from matplotlib.backends.backend_agg import FigureCanvasAgg  # noqa: E402
 from matplotlib.figure import Figure  # noqa: E402
 
-import _output_samples as samples  # noqa: E402  (tests/ is on sys.path, conftest.py)
 from netnoise.errors import CircuitError, UsageError  # noqa: E402
 from netnoise.outputs import plotting  # noqa: E402
 
@@ -150,7 +150,9 @@ def test_a_curve_under_the_display_floor_gets_no_legend_entry():
 
 
 def test_no_noise_is_a_message_not_a_plot():
-    silent = samples.white(source_density=np.zeros((1, 41)), source_variance=np.zeros(1), cumulative_variance=np.zeros(41))
+    silent = samples.white(
+        source_density=np.zeros((1, 41)), source_variance=np.zeros(1), cumulative_variance=np.zeros(41)
+    )
     for draw in (plotting.plot_noise, plotting.plot_density, plotting.plot_cumulative):
         with pytest.raises(CircuitError, match="no noise source reaches this output"):
             draw(silent)

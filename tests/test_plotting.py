@@ -11,11 +11,10 @@ import pytest
 matplotlib = pytest.importorskip("matplotlib")
 matplotlib.use("Agg")
 
-from netnoise.outputs import plotting  # noqa: E402
-from netnoise.errors import UsageError  # noqa: E402
-
-
 import _output_samples as samples  # tests/ is on sys.path (conftest.py)
+
+from netnoise.errors import UsageError  # noqa: E402
+from netnoise.outputs import plotting  # noqa: E402
 
 
 def _lines(ax, gid):

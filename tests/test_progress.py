@@ -6,14 +6,16 @@ from __future__ import annotations
 import io
 
 import netnoise
-from netnoise.engine.options import SolverOptions
 from netnoise.engine import transfer
 from netnoise.engine.mna import assemble
+from netnoise.engine.options import SolverOptions
 from netnoise.outputs.progress import ProgressLine
 
-LADDER = "ladder\nVin in 0 AC 1\n" + "".join(
-    f"R{i} {'in' if i == 1 else f'n{i - 1}'} n{i} 1k\nC{i} n{i} 0 1n\n" for i in range(1, 301)
-) + ".end\n"
+LADDER = (
+    "ladder\nVin in 0 AC 1\n"
+    + "".join(f"R{i} {'in' if i == 1 else f'n{i - 1}'} n{i} 1k\nC{i} n{i} 0 1n\n" for i in range(1, 301))
+    + ".end\n"
+)
 
 
 class Terminal(io.StringIO):
@@ -68,6 +70,12 @@ def test_analyze_reports_every_frequency_it_solves(monkeypatch):
     assert len(counts) >= len(result.frequency_Hz)
     # the dense path reports a whole batch at once
     batches: list[int] = []
-    netnoise.analyze(circuit, output="n300", band=(1.0, 1e6), points_per_decade=10, progress=batches.append,
-                     options=SolverOptions(method="dense"))
+    netnoise.analyze(
+        circuit,
+        output="n300",
+        band=(1.0, 1e6),
+        points_per_decade=10,
+        progress=batches.append,
+        options=SolverOptions(method="dense"),
+    )
     assert sum(batches) == len(counts)

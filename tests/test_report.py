@@ -5,6 +5,7 @@ from __future__ import annotations
 import dataclasses
 import math
 
+import _output_samples as samples  # tests/ is on sys.path (conftest.py)
 import numpy as np
 import pytest
 from scipy.constants import k as BOLTZMANN
@@ -12,9 +13,6 @@ from scipy.constants import k as BOLTZMANN
 from netnoise.engformat import format_quantity
 from netnoise.errors import UsageError
 from netnoise.outputs.report import BAR_WIDTH, CAUTION, format_report
-
-
-import _output_samples as samples  # tests/ is on sys.path (conftest.py)
 
 
 def _table_rows(text: str) -> list[str]:
@@ -163,7 +161,9 @@ def test_ends_with_one_short_caution_line():
 
 
 def test_circuit_without_noise():
-    quiet = samples.white(source_density=np.zeros((1, 41)), source_variance=np.zeros(1), cumulative_variance=np.zeros(41))
+    quiet = samples.white(
+        source_density=np.zeros((1, 41)), source_variance=np.zeros(1), cumulative_variance=np.zeros(41)
+    )
     text = format_report(quiet)
     assert "No noise source contributes" in text
     assert "0 V rms" in text
@@ -240,7 +240,9 @@ def test_spot_noise_figure_between_grid_points_is_interpolated_in_log_frequency(
         noise_figure_spectrum_dB=nf,
     )
     section = _section_lines(format_report(result), "Noise figure")
-    spot = {line.split()[1] + " " + line.split()[2]: line.split()[-2] for line in section if line.strip().startswith("at ")}
+    spot = {
+        line.split()[1] + " " + line.split()[2]: line.split()[-2] for line in section if line.strip().startswith("at ")
+    }
     # 2·log10(f): 2 dB at 10 Hz ... 10 dB at 100 kHz (arithmetic)
     assert spot == {"10 Hz": "2.00", "100 Hz": "4.00", "1 kHz": "6.00", "10 kHz": "8.00", "100 kHz": "10.00"}
 
@@ -398,7 +400,11 @@ def test_dc_operating_point_section():
     )
     text = format_report(samples.front_end(), operating_point=op)
     section = _section_lines(text, "DC operating point")
-    assert [line.split() for line in section[1:4]] == [["v(in)", "5", "V"], ["v(out)", "2.5", "V"], ["v(mid)", "0", "V"]]
+    assert [line.split() for line in section[1:4]] == [
+        ["v(in)", "5", "V"],
+        ["v(out)", "2.5", "V"],
+        ["v(mid)", "0", "V"],
+    ]
     rows = {line.split()[0]: line.split()[1:] for line in section[8:] if line.strip()}
     assert rows == {"V1": ["5", "V", "-2.5", "mA"], "R1": ["2.5", "V", "2.5", "mA"], "C1": ["2.5", "V", "0", "A"]}
     assert text.index("DC operating point") > text.index("Dominant source")

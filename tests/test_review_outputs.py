@@ -110,8 +110,14 @@ def _chromium() -> str | None:
 
 def _headless(browser: str, profile, *args) -> subprocess.CompletedProcess:
     flags = [
-        "--headless", "--no-sandbox", "--disable-gpu", "--disable-quic", "--no-first-run",
-        "--disable-background-networking", "--disable-component-update", "--disable-sync",
+        "--headless",
+        "--no-sandbox",
+        "--disable-gpu",
+        "--disable-quic",
+        "--no-first-run",
+        "--disable-background-networking",
+        "--disable-component-update",
+        "--disable-sync",
         f"--user-data-dir={profile}",
     ]
     return subprocess.run([browser, *flags, *args], capture_output=True, text=True, timeout=120, check=True)
@@ -131,7 +137,13 @@ def test_html_report_renders_offline_in_a_browser(divider, tmp_path):
     dom = _headless(browser, profile, "--dump-dom", report.as_uri()).stdout
     # the escaped title, the sections as tables, the budget, the caution
     assert "divider with an excess-noise resistor &amp; &lt;markup&gt; in its title" in dom
-    for heading in ("Conditions", "Totals", "Spot output density", "Budget (ranked by share of output noise power)", "Output noise"):
+    for heading in (
+        "Conditions",
+        "Totals",
+        "Spot output density",
+        "Budget (ranked by share of output noise power)",
+        "Output noise",
+    ):
         assert f"<h2>{heading}</h2>" in dom
     assert "<td>Rc1</td>" in dom and "<td>R2</td>" in dom and "(1 more row)" in dom
     assert "Caution: design estimates only" in dom
@@ -166,6 +178,8 @@ def test_html_sections_keep_labels_values_and_sentences_whole(divider, tmp_path)
     assert "<tr><th>floor set by</th>" in page
     # a sentence wrapped over two lines of the text report is one paragraph here
     remarks = re.findall(r'<p class="remark">(.*?)</p>', page)
-    assert any(r.startswith("Note: the band ends at 100 kHz") and r.endswith("or to infinity).") for r in remarks), remarks
+    assert any(r.startswith("Note: the band ends at 100 kHz") and r.endswith("or to infinity).") for r in remarks), (
+        remarks
+    )
     assert re.findall(r'<p class="headline">(.*?)</p>', page)[0].startswith("Largest sources: Rc1 and R2 tie")
     assert page.rstrip().endswith("</html>") and page.count("Caution: design estimates only") == 1

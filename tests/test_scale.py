@@ -11,11 +11,10 @@ import numpy as np
 import pytest
 
 import netnoise
-from netnoise.engine.options import SolverOptions
-from netnoise.engine import resources
-from netnoise.engine import transfer
-from netnoise.errors import CircuitError
+from netnoise.engine import resources, transfer
 from netnoise.engine.mna import assemble
+from netnoise.engine.options import SolverOptions
+from netnoise.errors import CircuitError
 
 
 def ladder(sections: int, r: str = "100", c: str = "1p") -> str:

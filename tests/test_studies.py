@@ -34,6 +34,7 @@ TAU = 1e3 * 1e-9
 
 # --- speed of response ----------------------------------------------------------
 
+
 @pytest.mark.parametrize("exact_limit", [600, 0])  # the exact path, and time-stepping (BDF2)
 def test_one_pole_rise_settle_and_bandwidth(exact_limit):
     _, path = _path(RC, band=(1.0, 1e6))
@@ -86,6 +87,7 @@ def test_a_path_that_blocks_dc_has_no_settling_time():
 
 # --- sensitivities -------------------------------------------------------------
 
+
 def _by_name(prepared, **kwargs):
     return {s.element: s for s in sensitivities(prepared, **kwargs)}
 
@@ -121,9 +123,14 @@ def _total(text, band, values=None, **kwargs):
 
 @settings(max_examples=12, deadline=None, suppress_health_check=[HealthCheck.too_slow])
 @given(
-    r1=st.floats(100, 1e5), r2=st.floats(100, 1e5), rf=st.floats(1e3, 1e6),
-    c1=st.floats(1e-12, 1e-8), cf=st.floats(1e-12, 1e-9), en=st.floats(1e-9, 30e-9),
-    noise=st.floats(1e-9, 100e-9), finite=st.booleans(),
+    r1=st.floats(100, 1e5),
+    r2=st.floats(100, 1e5),
+    rf=st.floats(1e3, 1e6),
+    c1=st.floats(1e-12, 1e-8),
+    cf=st.floats(1e-12, 1e-9),
+    en=st.floats(1e-9, 30e-9),
+    noise=st.floats(1e-9, 100e-9),
+    finite=st.booleans(),
 )
 def test_every_sensitivity_matches_central_differences_of_the_full_analysis(r1, r2, rf, c1, cf, en, noise, finite):
     # the adjoint sensitivities against central differences of the whole analysis

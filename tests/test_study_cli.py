@@ -19,7 +19,9 @@ REPO = pathlib.Path(__file__).resolve().parents[1]
 TRACK_HOLD = REPO / "circuits" / "track_hold.cir"
 
 
-@pytest.mark.parametrize("text, fraction", [("16bit", 2.0**-17), ("12 bits", 2.0**-13), ("0.01%", 1e-4), ("1e-3", 1e-3)])
+@pytest.mark.parametrize(
+    "text, fraction", [("16bit", 2.0**-17), ("12 bits", 2.0**-13), ("0.01%", 1e-4), ("1e-3", 1e-3)]
+)
 def test_settle_accuracy_words(text, fraction):
     # half an LSB of an N-bit converter is 2^-(N+1) of full scale (common practice)
     assert parse_settle(text) == pytest.approx(fraction, rel=1e-15)
@@ -46,7 +48,14 @@ def test_analyze_with_response_and_sensitivity_reports_and_exports(tmp_path, cap
     by = {s["element"]: s for s in data["sensitivities"]}
     assert by["Chold"]["rms_pct_per_pct"] == pytest.approx(-0.5, rel=1e-6)  # kT/C (equipartition)
     assert by["Chold"]["settling_pct_per_pct"] == pytest.approx(1.0, rel=1e-5)
-    assert set(by["Ron"]) == {"element", "value", "unit", "rms_pct_per_pct", "bandwidth_pct_per_pct", "settling_pct_per_pct"}
+    assert set(by["Ron"]) == {
+        "element",
+        "value",
+        "unit",
+        "rms_pct_per_pct",
+        "bandwidth_pct_per_pct",
+        "settling_pct_per_pct",
+    }
 
 
 def test_response_without_an_input_source_says_what_to_give(tmp_path, capsys):
@@ -58,14 +67,40 @@ def test_response_without_an_input_source_says_what_to_give(tmp_path, capsys):
 
 def test_sweep_with_a_noise_target(tmp_path, capsys):
     json_path, csv_path, plot = tmp_path / "s.json", tmp_path / "s.csv", tmp_path / "s.png"
-    status = main(["sweep", str(TRACK_HOLD), "--vary", "Chold", "1p", "10p", "--steps", "4", "--log", "--settle", "16bit",
-                   "--target", "32u", "--json", str(json_path), "--csv", str(csv_path), "--plot", str(plot)])
+    status = main(
+        [
+            "sweep",
+            str(TRACK_HOLD),
+            "--vary",
+            "Chold",
+            "1p",
+            "10p",
+            "--steps",
+            "4",
+            "--log",
+            "--settle",
+            "16bit",
+            "--target",
+            "32u",
+            "--json",
+            str(json_path),
+            "--csv",
+            str(csv_path),
+            "--plot",
+            str(plot),
+        ]
+    )
     assert status == 0
     text = capsys.readouterr().out
     c = K_B * 300.15 / 32e-6**2  # C = kT/σ² (equipartition)
     assert "Chold must be at least 4.047 pF for 32 µV rms" in text and f"{c * 1e12:.4g}" == "4.047"
     data = json.loads(json_path.read_text())
-    assert data["vary"] == [{"name": "Chold", "values": pytest.approx([1e-12, 10 ** -11.666666666666666, 10 ** -11.333333333333334, 1e-11], rel=1e-12)}]
+    assert data["vary"] == [
+        {
+            "name": "Chold",
+            "values": pytest.approx([1e-12, 10**-11.666666666666666, 10**-11.333333333333334, 1e-11], rel=1e-12),
+        }
+    ]
     assert data["target"]["value"] == pytest.approx(c, rel=1e-3)
     point = data["points"][0]
     assert point["total_rms_V"] == pytest.approx(math.sqrt(K_B * 300.15 / 1e-12), rel=1e-9)
@@ -76,8 +111,24 @@ def test_sweep_with_a_noise_target(tmp_path, capsys):
 
 
 def test_sweep_of_the_temperature_and_a_param_grid(tmp_path, capsys):
-    status = main(["sweep", str(TRACK_HOLD), "--vary", "chold", "1p", "4p", "--vary", "temp", "-73.15", "126.85",
-                   "--steps", "2", "--json", "-"])
+    status = main(
+        [
+            "sweep",
+            str(TRACK_HOLD),
+            "--vary",
+            "chold",
+            "1p",
+            "4p",
+            "--vary",
+            "temp",
+            "-73.15",
+            "126.85",
+            "--steps",
+            "2",
+            "--json",
+            "-",
+        ]
+    )
     assert status == 0
     data = json.loads(capsys.readouterr().out)
     totals = [p["total_rms_V"] for p in data["points"]]  # (1p, 200 K), (1p, 400 K), (4p, 200 K), (4p, 400 K)

@@ -7,11 +7,11 @@ import csv
 import io
 import sys
 
+import _output_samples as samples  # tests/ is on sys.path (conftest.py)
 import numpy as np
 import pandas as pd
 import pytest
 
-import _output_samples as samples  # tests/ is on sys.path (conftest.py)
 from netnoise.errors import UsageError
 from netnoise.outputs.export import column_name, csv_header, frequency_text, to_csv
 
@@ -28,7 +28,13 @@ def test_repr_is_one_short_line_with_the_total_and_the_dominant_source():
 
 def test_html_budget_table_escapes_names():
     result = samples.resistors()
-    result = type(result)(**{**{f: getattr(result, f) for f in result.__dataclass_fields__}, "source_names": ("<b>R1</b>", "R2 & co", "R3"), "source_elements": ()})
+    result = type(result)(
+        **{
+            **{f: getattr(result, f) for f in result.__dataclass_fields__},
+            "source_names": ("<b>R1</b>", "R2 & co", "R3"),
+            "source_elements": (),
+        }
+    )
     page = result._repr_html_()
     assert "&lt;b&gt;R1&lt;/b&gt;" in page and "R2 &amp; co" in page and "<b>R1</b>" not in page
     assert page.count("<tr>") == 4  # header and three ranked rows
@@ -66,7 +72,11 @@ def test_grouped_and_spectrum_dataframes():
     spectrum = result.to_dataframe("spectrum")
     assert spectrum.index.name == "frequency_Hz"
     assert list(spectrum.columns) == [
-        "total_output_V2_per_Hz", "Rs__V2_per_Hz", "Xu1_voltage__V2_per_Hz", "Xu1_in_plus__V2_per_Hz", "R1__V2_per_Hz"
+        "total_output_V2_per_Hz",
+        "Rs__V2_per_Hz",
+        "Xu1_voltage__V2_per_Hz",
+        "Xu1_in_plus__V2_per_Hz",
+        "R1__V2_per_Hz",
     ]
     np.testing.assert_allclose(spectrum.iloc[:, 1:].sum(axis=1), spectrum["total_output_V2_per_Hz"], rtol=1e-12)
 
@@ -84,7 +94,7 @@ def test_dataframe_without_pandas_names_the_extra(monkeypatch):
         ("XU1 (in-)", "XU1_in_minus__V_per_rtHz"),
         ("X1.R2 (excess)", "X1_R2_excess__V_per_rtHz"),
         ("amplifier-voltage", "amplifier_voltage__V_per_rtHz"),
-        ("R 1,\"x\"", "R_1_x__V_per_rtHz"),
+        ('R 1,"x"', "R_1_x__V_per_rtHz"),
         ("", "source__V_per_rtHz"),
     ],
 )
@@ -129,8 +139,13 @@ def test_frequencies_are_written_cleanly():
     # a value 15 digits cannot reach within 4 ulp keeps its exact repr
     odd = 0.1 + 40 * float(np.finfo(float).eps)
     assert frequency_text(odd) == repr(odd)
-    result = samples.white(frequency_Hz=np.array([0.10000000000000002, 0.2, 0.30000000000000004]), low=0.1, high=0.3,
-                           source_density=np.full((1, 3), 1e-14), cumulative_variance=np.array([0.0, 1e-15, 2e-15]))
+    result = samples.white(
+        frequency_Hz=np.array([0.10000000000000002, 0.2, 0.30000000000000004]),
+        low=0.1,
+        high=0.3,
+        source_density=np.full((1, 3), 1e-14),
+        cumulative_variance=np.array([0.0, 1e-15, 2e-15]),
+    )
     column = [line.split(",")[0] for line in to_csv(result).splitlines()[1:]]
     assert column == ["0.1", "0.2", "0.3"]
 
@@ -145,4 +160,7 @@ def test_import_netnoise_loads_neither_pandas_nor_matplotlib():
 
 def test_repr_of_a_one_source_result():
     # 100 nV/√Hz over 4 Hz is 200 nV rms (common practice: white noise power grows with bandwidth)
-    assert repr(samples.white()) == "<NoiseResult 'white check': v(out), 1 Hz..5 Hz, 200 nV rms, 1 source, dominant R1 (thermal, 100.0 %)>"
+    assert (
+        repr(samples.white())
+        == "<NoiseResult 'white check': v(out), 1 Hz..5 Hz, 200 nV rms, 1 source, dominant R1 (thermal, 100.0 %)>"
+    )

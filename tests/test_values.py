@@ -125,7 +125,9 @@ from netnoise.text.values import _split_checked  # noqa: E402
 _VALUE_PIECES = st.tuples(
     st.sampled_from(["", "+", "-"]),
     st.sampled_from(["0", "1", "47", "4.7", ".5", "5.", "1e3", "1E-12", "2e+6", "1e", "x", ""]),
-    st.sampled_from(["", "f", "p", "n", "u", "\u00b5", "\u03bc", "m", "M", "k", "K", "meg", "MEG", "mil", "g", "t", "kk", "q"]),
+    st.sampled_from(
+        ["", "f", "p", "n", "u", "\u00b5", "\u03bc", "m", "M", "k", "K", "meg", "MEG", "mil", "g", "t", "kk", "q"]
+    ),
     st.sampled_from(["", "ohm", "Ohms", "\u03a9", "F", "h", "V", "a", "Hz", "s", "x", "ohmx"]),
     st.sampled_from(["", " ", "\t"]),
 ).map("".join)

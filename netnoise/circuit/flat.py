@@ -19,9 +19,9 @@ from __future__ import annotations
 
 import dataclasses
 import difflib
+from collections.abc import Callable, Mapping
 from dataclasses import dataclass, field
 from functools import cached_property
-from typing import Callable, Mapping
 
 from netnoise.circuit.elements.amplifier import OpAmp, OpAmpModel
 from netnoise.circuit.elements.base import Element
@@ -129,7 +129,7 @@ class Circuit:
     source_file: str = "<text>"
     parameters: Mapping[str, float] = field(default_factory=dict, compare=False)
     value_origins: Mapping[str, ValueOrigin] = field(default_factory=dict, compare=False, repr=False)
-    rebuild: Callable[[Mapping[str, float]], "Circuit"] | None = field(default=None, compare=False, repr=False)
+    rebuild: Callable[[Mapping[str, float]], Circuit] | None = field(default=None, compare=False, repr=False)
 
     @cached_property
     def _index(self) -> dict[str, int]:
@@ -154,7 +154,7 @@ class Circuit:
         return self.value_origins.get(name_key(name))
 
     # ---- values that can change
-    def with_values(self, values: Mapping[str, float]) -> "Circuit":
+    def with_values(self, values: Mapping[str, float]) -> Circuit:
         """A copy with the primary values of the named elements replaced
         (``{"R1": 2.2e3, "C2": 10e-12}``, SI units); nothing is read again."""
         elements = list(self.elements)
@@ -173,7 +173,7 @@ class Circuit:
             origins[name_key(name)] = ValueOrigin("changed", repr(float(value)))
         return dataclasses.replace(self, elements=tuple(elements), value_origins=origins)
 
-    def with_params(self, params: Mapping[str, float]) -> "Circuit":
+    def with_params(self, params: Mapping[str, float]) -> Circuit:
         """A copy with top-level ``.param`` values replaced and every value
         that depends on them evaluated again, from the statements already
         read (the text is not parsed again)."""

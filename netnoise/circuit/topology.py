@@ -6,7 +6,6 @@ float, which part has no ground, rather than "singular matrix".
 
 from __future__ import annotations
 
-
 import numpy as np
 
 from netnoise import circuit as ck

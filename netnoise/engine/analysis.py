@@ -18,28 +18,38 @@ are refused by name (:mod:`netnoise.circuit.topology`, :func:`_Problem.check_sta
 from __future__ import annotations
 
 import math
+from collections.abc import Callable
 from dataclasses import dataclass
-from typing import Callable
 
 import numpy as np
 
 from netnoise import circuit as ck
+from netnoise.circuit.topology import check_element_values, check_topology
+from netnoise.constants import DEFAULT_TEMPERATURE_C, T0_KELVIN, ZERO_CELSIUS_K, canonical_node
 from netnoise.engformat import format_quantity
-from netnoise.errors import CircuitError, UsageError
 from netnoise.engine.integrate import integrate_band
 from netnoise.engine.mna import MnaSystem, assemble
 from netnoise.engine.noise_sources import NoiseSources, collect_noise_sources
+from netnoise.engine.options import SolverOptions
 from netnoise.engine.resources import require_memory
+from netnoise.engine.total_variance import (
+    UnstableCircuit,
+    finite_scaled_eigenvalues,
+    infinite_band_totals,
+    unstable_pole,
+)
+from netnoise.errors import CircuitError, UsageError
 from netnoise.results.notes import Note
 from netnoise.results.result import NoiseResult
-from netnoise.circuit.topology import check_element_values, check_topology
-from netnoise.constants import DEFAULT_TEMPERATURE_C, T0_KELVIN, ZERO_CELSIUS_K, canonical_node
-from netnoise.engine.options import SolverOptions
-from netnoise.engine.total_variance import (
-    UnstableCircuit, finite_scaled_eigenvalues, infinite_band_totals, unstable_pole,
-)
 
-__all__ = ["analyze", "prepare", "PreparedAnalysis", "output_density_function", "DEFAULT_TEMPERATURE_C", "DEFAULT_POINTS_PER_DECADE"]
+__all__ = [
+    "analyze",
+    "prepare",
+    "PreparedAnalysis",
+    "output_density_function",
+    "DEFAULT_TEMPERATURE_C",
+    "DEFAULT_POINTS_PER_DECADE",
+]
 
 DEFAULT_POINTS_PER_DECADE = 20
 DEFAULT_FLICKER_LOW_HZ = 0.1  # low band edge when 1/f noise is present and no band is given
@@ -83,8 +93,13 @@ def _resolve(circuit, output, reference, input_source, band, points_per_decade, 
             band = (sweep.start, sweep.stop)
         else:
             band = (0.0, math.inf)
-            notes.append(Note("band-default", "no band given: integrating from 0 Hz to infinite bandwidth (exact)",
-                              {"low_Hz": 0.0, "high_Hz": math.inf}))
+            notes.append(
+                Note(
+                    "band-default",
+                    "no band given: integrating from 0 Hz to infinite bandwidth (exact)",
+                    {"low_Hz": 0.0, "high_Hz": math.inf},
+                )
+            )
     low, high = (float(x) for x in band)
     if math.isnan(low) or math.isnan(high) or low < 0 or math.isinf(low):
         raise UsageError(f"band low edge must be a finite frequency >= 0 Hz, got {low:g}")
@@ -99,8 +114,13 @@ def _resolve(circuit, output, reference, input_source, band, points_per_decade, 
         else:
             points_per_decade = DEFAULT_POINTS_PER_DECADE
             if sweep is not None:
-                notes.append(Note("sweep-linear", f"linear sweep on the noise card: reported on a log grid of "
-                                  f"{points_per_decade} points/decade", {"points_per_decade": points_per_decade}))
+                notes.append(
+                    Note(
+                        "sweep-linear",
+                        f"linear sweep on the noise card: reported on a log grid of {points_per_decade} points/decade",
+                        {"points_per_decade": points_per_decade},
+                    )
+                )
     if not (points_per_decade >= 1):
         raise UsageError(f"points per decade must be at least 1, got {points_per_decade}")
 
@@ -108,13 +128,26 @@ def _resolve(circuit, output, reference, input_source, band, points_per_decade, 
         temperature_celsius = circuit.temperature_celsius
     if temperature_celsius is None:
         temperature_celsius = DEFAULT_TEMPERATURE_C
-        notes.append(Note("temperature-default", f"temperature not given: {DEFAULT_TEMPERATURE_C:g} °C (300.15 K), "
-                          "the customary default", {"temperature_K": DEFAULT_TEMPERATURE_C + ZERO_CELSIUS_K}))
+        notes.append(
+            Note(
+                "temperature-default",
+                f"temperature not given: {DEFAULT_TEMPERATURE_C:g} °C (300.15 K), the customary default",
+                {"temperature_K": DEFAULT_TEMPERATURE_C + ZERO_CELSIUS_K},
+            )
+        )
     temperature_K = float(temperature_celsius) + ZERO_CELSIUS_K
     if not temperature_K > 0 or not math.isfinite(temperature_K):
         raise UsageError(f"temperature {temperature_celsius:g} °C is below absolute zero (-273.15 °C)")
     return _Settings(
-        output, reference, input_source, low, high, float(points_per_decade), temperature_K, tuple(notes), band_defaulted
+        output,
+        reference,
+        input_source,
+        low,
+        high,
+        float(points_per_decade),
+        temperature_K,
+        tuple(notes),
+        band_defaulted,
     )
 
 
@@ -122,8 +155,12 @@ class _Problem:
     """The assembled circuit with its output selector, sources and input."""
 
     def __init__(
-        self, circuit: ck.Circuit, settings: _Settings, progress: Callable[[int], None] | None = None,
-        system: MnaSystem | None = None, options: SolverOptions | None = None,
+        self,
+        circuit: ck.Circuit,
+        settings: _Settings,
+        progress: Callable[[int], None] | None = None,
+        system: MnaSystem | None = None,
+        options: SolverOptions | None = None,
     ):
         self.progress = progress
         self.settings = settings
@@ -141,7 +178,7 @@ class _Problem:
         if settings.input_source is not None:
             self.input_vector, self.input_unit = self.system.excitation_vector(settings.input_source)
 
-    def refilled(self, circuit: ck.Circuit) -> "_Problem":
+    def refilled(self, circuit: ck.Circuit) -> _Problem:
         """The same problem for ``circuit``, a copy of this one's circuit with
         other values: topology, ordering and output kept; G, C and the noise
         densities stamped anew."""
@@ -164,8 +201,14 @@ class _Problem:
         out = np.empty((rows, np.size(frequency_Hz)))  # filled in place: no stacking copy
         with np.errstate(over="ignore", invalid="ignore"):  # an overflow here is refused just below, by name
             _, signal = transfer_power(
-                self.system, self.selector, self.sources.injection, self.input_vector, frequency_Hz,
-                power_out=out[:k], progress=self.progress, options=self.options,
+                self.system,
+                self.selector,
+                self.sources.injection,
+                self.input_vector,
+                frequency_Hz,
+                power_out=out[:k],
+                progress=self.progress,
+                options=self.options,
             )
             power = out[:k]
             if colored.size:
@@ -233,7 +276,8 @@ class _Problem:
             f"; the loop runs through one of the elements that can supply gain: {', '.join(active[:8])}"
             + (f" and {len(active) - 8} more" if len(active) > 8 else "")
             + " (check the feedback signs and gains)"
-            if active else ""
+            if active
+            else ""
         )
         raise CircuitError(str(found) + who) from None
 
@@ -250,12 +294,14 @@ class _Problem:
         if not self.active_elements():
             return
         if self.system.size > self.options.exact_limit:
-            notes.append(Note(
-                "stability-unchecked",
-                f"stability not checked: {self.system.size} unknowns, above the {self.options.exact_limit} of the dense pole "
-                "computation (a circuit with positive feedback would give meaningless totals)",
-                {"unknowns": self.system.size, "exact_limit": self.options.exact_limit},
-            ))
+            notes.append(
+                Note(
+                    "stability-unchecked",
+                    f"stability not checked: {self.system.size} unknowns, above the {self.options.exact_limit} of the dense pole "
+                    "computation (a circuit with positive feedback would give meaningless totals)",
+                    {"unknowns": self.system.size, "exact_limit": self.options.exact_limit},
+                )
+            )
             return
         lam, s0 = self.scaled_eigenvalues()
         found = unstable_pole(lam, s0, lossless_too=False)
@@ -301,9 +347,16 @@ def analyze(
     solver path, the dense and exact limits and the integrator's tolerance.
     """
     return prepare(
-        circuit, output=output, reference=reference, input_source=input_source, band=band,
-        points_per_decade=points_per_decade, temperature_celsius=temperature_celsius,
-        source_resistor=source_resistor, progress=progress, options=options,
+        circuit,
+        output=output,
+        reference=reference,
+        input_source=input_source,
+        band=band,
+        points_per_decade=points_per_decade,
+        temperature_celsius=temperature_celsius,
+        source_resistor=source_resistor,
+        progress=progress,
+        options=options,
     ).analyze()
 
 
@@ -338,16 +391,16 @@ class PreparedAnalysis:
         """The noise result of this circuit with these settings."""
         return _analyze(self._problem, self._source_resistor)
 
-    def with_circuit(self, circuit: ck.Circuit) -> "PreparedAnalysis":
+    def with_circuit(self, circuit: ck.Circuit) -> PreparedAnalysis:
         """This analysis for ``circuit``, the same circuit with other values
         (CircuitError if its structure differs)."""
         return PreparedAnalysis(self._problem.refilled(circuit), self._source_resistor)
 
-    def with_values(self, values: dict[str, float]) -> "PreparedAnalysis":
+    def with_values(self, values: dict[str, float]) -> PreparedAnalysis:
         """This analysis with the primary values of named elements replaced (SI units)."""
         return self.with_circuit(self.circuit.with_values(values))
 
-    def with_params(self, params: dict[str, float]) -> "PreparedAnalysis":
+    def with_params(self, params: dict[str, float]) -> PreparedAnalysis:
         """This analysis with top-level ``.param`` values replaced."""
         return self.with_circuit(self.circuit.with_params(params))
 
@@ -389,12 +442,14 @@ def _analyze(problem: _Problem, source_resistor: str | None) -> NoiseResult:
                 "e.g. --band 0.1 HIGH"
             )
         low = DEFAULT_FLICKER_LOW_HZ
-        notes.append(Note(
-            "flicker-band-start",
-            f"1/f noise present: the default band starts at {DEFAULT_FLICKER_LOW_HZ:g} Hz "
-            "(1/f noise integrated from 0 Hz is unbounded)",
-            {"low_Hz": DEFAULT_FLICKER_LOW_HZ},
-        ))
+        notes.append(
+            Note(
+                "flicker-band-start",
+                f"1/f noise present: the default band starts at {DEFAULT_FLICKER_LOW_HZ:g} Hz "
+                "(1/f noise integrated from 0 Hz is unbounded)",
+                {"low_Hz": DEFAULT_FLICKER_LOW_HZ},
+            )
+        )
     if math.isinf(high):
         if problem.system.size > problem.options.exact_limit:  # the exact method below checks the smaller ones
             problem.check_stable(notes)
@@ -404,9 +459,13 @@ def _analyze(problem: _Problem, source_resistor: str | None) -> NoiseResult:
         start = low if low > 0 else (_decade_floor(poles.min() / 100) if poles.size else top * 1e-9)
         top = max(top, start * 1e3)
         shown = integrate_band(
-            lambda f: problem.densities(f, "full", extra_colored=colored), low, top,
-            points_per_decade=settings.points_per_decade, groups=problem.groups(extra_colored=colored),
-            linear_below=start if low == 0.0 else None, rtol=problem.options.rtol,
+            lambda f: problem.densities(f, "full", extra_colored=colored),
+            low,
+            top,
+            points_per_decade=settings.points_per_decade,
+            groups=problem.groups(extra_colored=colored),
+            linear_below=start if low == 0.0 else None,
+            rtol=problem.options.rtol,
         )
         rel_error = 0.0
         if low > 0.0:
@@ -426,28 +485,41 @@ def _analyze(problem: _Problem, source_resistor: str | None) -> NoiseResult:
         else:
             totals = exact
         totals = np.maximum(totals, 0.0)
-        notes.append(Note(
-            "spectrum-range",
-            f"spectrum shown up to {format_quantity(top, 'Hz')} "
-            + ("(100x the highest pole); " if low * 1e3 < top else "(3 decades above the band's low edge); ") + method
-            + ("; 1/f parts are integrated up to there" if colored else ""),
-            {"top_Hz": top},
-        ))
+        notes.append(
+            Note(
+                "spectrum-range",
+                f"spectrum shown up to {format_quantity(top, 'Hz')} "
+                + ("(100x the highest pole); " if low * 1e3 < top else "(3 decades above the band's low edge); ")
+                + method
+                + ("; 1/f parts are integrated up to there" if colored else ""),
+                {"top_Hz": top},
+            )
+        )
         gain_row = k + (int(sources.colored.sum()) if colored else 0)
     else:
         problem.check_stable(notes)
         poles = _positive(problem.poles_Hz()) if low == 0.0 else None
         shown = integrate_band(
-            problem.densities, low, high, points_per_decade=settings.points_per_decade,
-            groups=problem.groups(), linear_below=_linear_start(poles, high) if low == 0.0 else None,
+            problem.densities,
+            low,
+            high,
+            points_per_decade=settings.points_per_decade,
+            groups=problem.groups(),
+            linear_below=_linear_start(poles, high) if low == 0.0 else None,
             rtol=problem.options.rtol,
         )
         totals = shown.values
         rel_error = shown.rel_error
         gain_row = k
     if rel_error > 1e-4:
-        notes.append(Note("integration-accuracy", f"band integral converged only to about {rel_error:.1e} relative; "
-                          "a denser grid (more points per decade) tightens it", {"rel_error": rel_error}))
+        notes.append(
+            Note(
+                "integration-accuracy",
+                f"band integral converged only to about {rel_error:.1e} relative; "
+                "a denser grid (more points per decade) tightens it",
+                {"rel_error": rel_error},
+            )
+        )
 
     source_variance = totals[:k]
     source_density = shown.grid_density[:k]
@@ -466,7 +538,9 @@ def _analyze(problem: _Problem, source_resistor: str | None) -> NoiseResult:
         temperature_K=settings.temperature_K,
         output_node=settings.output,
         reference_node=settings.reference,
-        input_source=problem.system.circuit.element(settings.input_source).name if settings.input_source and problem.has_input else None,
+        input_source=problem.system.circuit.element(settings.input_source).name
+        if settings.input_source and problem.has_input
+        else None,
         input_unit=problem.input_unit,
         band_low_Hz=low,
         band_high_Hz=high,
@@ -632,7 +706,9 @@ def _infinite_band_totals(problem: _Problem) -> tuple[np.ndarray, np.ndarray | N
                 raise
             problem.refuse_unstable(found)
         variance, poles = exact.variance, exact.poles_Hz
-        method = "the total is exact to infinite bandwidth" + (" for white noise" if problem.sources.colored.any() else "")
+        method = "the total is exact to infinite bandwidth" + (
+            " for white noise" if problem.sources.colored.any() else ""
+        )
     unbounded = [problem.sources.sources[i].name for i in np.flatnonzero(np.isinf(variance[:k]))]
     if unbounded:
         shown = ", ".join(unbounded[:5]) + (f" and {len(unbounded) - 5} more" if len(unbounded) > 5 else "")

@@ -14,9 +14,9 @@ import numpy as np
 import scipy.sparse.linalg as spla
 
 from netnoise import circuit as ck
-from netnoise.errors import CircuitError
-from netnoise.engine.mna import MnaSystem, assemble
 from netnoise.circuit.topology import check_element_values, check_topology
+from netnoise.engine.mna import MnaSystem, assemble
+from netnoise.errors import CircuitError
 
 __all__ = ["OperatingPoint", "operating_point", "solve_operating_point"]
 

@@ -15,8 +15,8 @@ On log stretches the variable is ``u = ln f`` and the integrand ``S(f)·f``.
 from __future__ import annotations
 
 import math
+from collections.abc import Callable, Sequence
 from dataclasses import dataclass
-from typing import Callable, Sequence
 
 import numpy as np
 

@@ -213,19 +213,28 @@ class MnaSystem:
             )
         return out, unit
 
-    def refilled(self, circuit: ck.Circuit) -> "MnaSystem":
+    def refilled(self, circuit: ck.Circuit) -> MnaSystem:
         """This system with ``circuit``'s values: same elements, nodes and
         ordering (CircuitError if the structure differs), new G and C."""
         if len(circuit.elements) != len(self.circuit.elements) or any(
-            type(a) is not type(b) or a.name != b.name or a.terminals() != b.terminals()
+            type(a) is not type(b)
+            or a.name != b.name
+            or a.terminals() != b.terminals()
             or a.internal_nodes() != b.internal_nodes()
             for a, b in zip(circuit.elements, self.circuit.elements)
         ):
             raise CircuitError("the circuit's structure changed; assemble it anew")
         layout = _Layout(self.node_index, self.branch_index, self.internal_index, self.unknowns)
         G, C = _stamp(circuit, layout)
-        return MnaSystem(circuit, _frozen_csr(G), _frozen_csr(C), self.node_index, self.branch_index,
-                         self.unknowns, self.internal_index)
+        return MnaSystem(
+            circuit,
+            _frozen_csr(G),
+            _frozen_csr(C),
+            self.node_index,
+            self.branch_index,
+            self.unknowns,
+            self.internal_index,
+        )
 
 
 def assemble(circuit: ck.Circuit) -> MnaSystem:

@@ -16,8 +16,8 @@ grouped by mechanism, in netlist order within each.
 
 from __future__ import annotations
 
+from collections.abc import Callable
 from dataclasses import dataclass
-from typing import Callable
 
 import numpy as np
 import scipy.sparse as sp

@@ -30,8 +30,13 @@ import numpy as np
 from netnoise.errors import CircuitError
 
 __all__ = [
-    "InfiniteBandTotals", "infinite_band_totals", "EXACT_LIMIT", "finite_poles_Hz", "finite_scaled_eigenvalues",
-    "unstable_pole", "UnstableCircuit",
+    "InfiniteBandTotals",
+    "infinite_band_totals",
+    "EXACT_LIMIT",
+    "finite_poles_Hz",
+    "finite_scaled_eigenvalues",
+    "unstable_pole",
+    "UnstableCircuit",
 ]
 
 EXACT_LIMIT = 600  # unknowns; dense QZ costs O(n³): ~1.3 s at 500, ~1 min at 1500 (benchmarks/)

@@ -41,10 +41,10 @@ import weakref
 
 import numpy as np
 
-from netnoise.errors import CircuitError
 from netnoise.engine.mna import MnaSystem
 from netnoise.engine.options import SolverOptions
 from netnoise.engine.resources import require_memory
+from netnoise.errors import CircuitError
 
 __all__ = ["adjoint_solutions", "transfer_power", "AdjointSolver", "solver_for", "RCOND_MIN"]
 
@@ -57,10 +57,10 @@ _BAND_ALWAYS = 16  # kl + ku up to which the banded path is taken without compar
 _PIVOT_THRESHOLD = 0.1  # SuperLU threshold partial pivoting (1.0 = classical partial pivoting)
 _GAIN_CHUNK = 32  # frequencies per block when gathering source gains
 
-_SOLVERS: "weakref.WeakKeyDictionary[MnaSystem, dict[SolverOptions, AdjointSolver]]" = weakref.WeakKeyDictionary()
+_SOLVERS: weakref.WeakKeyDictionary[MnaSystem, dict[SolverOptions, AdjointSolver]] = weakref.WeakKeyDictionary()
 
 
-def solver_for(system: MnaSystem, options: SolverOptions | None = None) -> "AdjointSolver":
+def solver_for(system: MnaSystem, options: SolverOptions | None = None) -> AdjointSolver:
     """The (cached) solver of ``system`` under ``options``: path, pattern and
     ordering are decided once per circuit and reused for every later frequency."""
     options = options or SolverOptions()
@@ -79,7 +79,13 @@ def adjoint_solutions(
 
 
 def transfer_power(
-    system, selector, injection, input_vector, frequency_Hz, power_out=None, progress=None,
+    system,
+    selector,
+    injection,
+    input_vector,
+    frequency_Hz,
+    power_out=None,
+    progress=None,
     options: SolverOptions | None = None,
 ):
     """``(|zᵀB|² (K, F), |zᵀu|² (F,) or None)``: the power transfer from every
@@ -111,7 +117,11 @@ def transfer_power(
 
 def _singular(f: float, rcond: float | None = None) -> CircuitError:
     where = "at DC (0 Hz)" if f == 0.0 else f"at {f:.6g} Hz"
-    how = "singular" if rcond is None or rcond == 0.0 else f"singular to working precision (estimated condition number {1 / rcond:.1e})"
+    how = (
+        "singular"
+        if rcond is None or rcond == 0.0
+        else f"singular to working precision (estimated condition number {1 / rcond:.1e})"
+    )
     advice = (
         "a node may lack a DC path to ground, or voltage sources/inductors form a loop"
         if f == 0.0
@@ -390,8 +400,14 @@ class AdjointSolver:
             tri = np.zeros(3 * n, dtype=complex)
             tri[self._tri_index] = data
             *_, w, info = self._gtsv(
-                tri[: n - 1], tri[n : 2 * n], tri[2 * n : 3 * n - 1], rhs,
-                overwrite_dl=True, overwrite_d=True, overwrite_du=True, overwrite_b=True,
+                tri[: n - 1],
+                tri[n : 2 * n],
+                tri[2 * n : 3 * n - 1],
+                rhs,
+                overwrite_dl=True,
+                overwrite_d=True,
+                overwrite_du=True,
+                overwrite_b=True,
             )
         else:
             ab = np.zeros((2 * kl + ku + 1, n), dtype=complex, order="F")
@@ -417,7 +433,9 @@ class AdjointSolver:
         a = sp.csc_matrix((data, p.rows, p.indptr), shape=p.shape)
         try:
             lu = spla.splu(
-                a, permc_spec="MMD_AT_PLUS_A" if first else "NATURAL", diag_pivot_thresh=_PIVOT_THRESHOLD,
+                a,
+                permc_spec="MMD_AT_PLUS_A" if first else "NATURAL",
+                diag_pivot_thresh=_PIVOT_THRESHOLD,
                 options=dict(SymmetricMode=True),
             )
         except RuntimeError:

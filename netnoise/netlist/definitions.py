@@ -7,6 +7,7 @@ from __future__ import annotations
 from dataclasses import dataclass, field
 
 from netnoise.constants import GROUND_ALIASES
+from netnoise.errors import NetlistError, SourceLocation
 from netnoise.netlist.statements import (
     AcCard,
     Assignment,
@@ -21,7 +22,6 @@ from netnoise.netlist.statements import (
     TempCard,
     Word,
 )
-from netnoise.errors import NetlistError, SourceLocation
 from netnoise.text.source import bounded
 
 
@@ -33,7 +33,16 @@ def _fail(message: str, location: SourceLocation | None, hint: str = "") -> Netl
 def _where(location: SourceLocation | None) -> str:
     return f"{location.file}:{location.line}" if location is not None else "(unknown place)"
 
-__all__ = ["Definition", "build_definitions", "flat_element_counts", "check_flat_size", "MAX_FLAT_ELEMENTS", "TOP_LEVEL_ONLY", "CARD_NAMES"]
+
+__all__ = [
+    "Definition",
+    "build_definitions",
+    "flat_element_counts",
+    "check_flat_size",
+    "MAX_FLAT_ELEMENTS",
+    "TOP_LEVEL_ONLY",
+    "CARD_NAMES",
+]
 
 # A netlist whose subcircuits would expand to more elements than this is
 # refused before anything is expanded (the count is estimated from the
@@ -43,20 +52,18 @@ TOP_LEVEL_ONLY = (TempCard, AcCard, NoiseCard, OptionsCard)
 CARD_NAMES = {TempCard: ".temp", AcCard: ".ac", NoiseCard: ".noise", OptionsCard: ".options"}
 
 
-
-
 @dataclass
 class Definition:
     name: str  # as written; '' for the top level
     pins: tuple[Word, ...]
     defaults: tuple[Assignment, ...]
     loc: SourceLocation | None
-    parent: "Definition | None"
+    parent: Definition | None
     body: list[Statement] = field(default_factory=list)
-    children: dict[str, "Definition"] = field(default_factory=dict)
+    children: dict[str, Definition] = field(default_factory=dict)
     models: dict[str, ModelCard] = field(default_factory=dict)
 
-    def find(self, key: str) -> "Definition | None":
+    def find(self, key: str) -> Definition | None:
         scope: Definition | None = self
         while scope is not None:
             if key in scope.children:
@@ -64,7 +71,7 @@ class Definition:
             scope = scope.parent
         return None
 
-    def find_model(self, key: str) -> "tuple[ModelCard, Definition] | None":
+    def find_model(self, key: str) -> tuple[ModelCard, Definition] | None:
         """The .model called ``key`` visible here, and the definition it is written in."""
         scope: Definition | None = self
         while scope is not None:
@@ -240,5 +247,3 @@ def check_flat_size(top: Definition) -> None:
         first,
         "; ".join(steps) + ": check the instance counts and nesting",
     )
-
-

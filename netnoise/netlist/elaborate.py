@@ -29,14 +29,27 @@ import difflib
 import functools
 import math
 from dataclasses import dataclass, field
-from typing import Any
 from pathlib import Path
+from typing import Any
 
 from netnoise import circuit as c
+from netnoise.circuit.elements.amplifier import OpAmp, check_opamp_param
 from netnoise.constants import ABSOLUTE_ZERO_C, GROUND_ALIASES
 from netnoise.errors import NetlistError, SourceLocation
-from netnoise.circuit.elements.amplifier import OpAmp
-from netnoise.text.expressions import CONSTANTS, evaluate, referenced_names
+from netnoise.netlist.definitions import (
+    CARD_NAMES as _CARD_NAMES,
+)
+from netnoise.netlist.definitions import (
+    MAX_FLAT_ELEMENTS,
+    Definition,
+    build_definitions,
+    check_flat_size,
+    flat_element_counts,
+)
+from netnoise.netlist.definitions import (
+    TOP_LEVEL_ONLY as _TOP_LEVEL_ONLY,
+)
+from netnoise.netlist.includes import MAX_INCLUDE_DEPTH, expand_includes
 from netnoise.netlist.statements import (
     AcCard,
     Assignment,
@@ -52,22 +65,19 @@ from netnoise.netlist.statements import (
     Value,
     Word,
 )
-from netnoise.circuit.elements.amplifier import check_opamp_param
-from netnoise.netlist.definitions import (
-    CARD_NAMES as _CARD_NAMES,
-    MAX_FLAT_ELEMENTS,
-    TOP_LEVEL_ONLY as _TOP_LEVEL_ONLY,
-    Definition,
-    build_definitions,
-    check_flat_size,
-    flat_element_counts,
-)
-from netnoise.netlist.includes import MAX_INCLUDE_DEPTH, expand_includes
+from netnoise.text.expressions import CONSTANTS, evaluate, referenced_names
 from netnoise.text.fields import shown
 from netnoise.text.source import bounded
 from netnoise.text.values import SMALLEST_NORMAL, exact
 
-__all__ = ["MAX_INCLUDE_DEPTH", "MAX_SUBCKT_DEPTH", "MAX_FLAT_ELEMENTS", "GROUND_ALIASES", "elaborate", "flat_element_counts"]
+__all__ = [
+    "MAX_INCLUDE_DEPTH",
+    "MAX_SUBCKT_DEPTH",
+    "MAX_FLAT_ELEMENTS",
+    "GROUND_ALIASES",
+    "elaborate",
+    "flat_element_counts",
+]
 
 # Subcircuit instances nested deeper than this are refused (the expansion
 # recurses; real designs nest a handful of levels).
@@ -102,7 +112,7 @@ def _naming_instance(instance: str):
 @dataclass
 class _Scope:
     definition: Definition
-    parent: "_Scope | None"  # the scope the definition was written in
+    parent: _Scope | None  # the scope the definition was written in
     element_prefix: str  # 'X1.X2.' ('' at the top)
     node_prefix: str  # 'x1.x2.'
     pin_map: dict[str, str]
@@ -147,7 +157,7 @@ class _BuildContext:
     """What an element kind sees while it builds itself (see
     :class:`netnoise.circuit.elements.base.BuildContext`)."""
 
-    def __init__(self, engine: "_Elaborator", scope: _Scope, name: str, loc: SourceLocation) -> None:
+    def __init__(self, engine: _Elaborator, scope: _Scope, name: str, loc: SourceLocation) -> None:
         self.engine = engine
         self.scope = scope
         self.name = name
@@ -303,7 +313,6 @@ class _Elaborator:
         ctx = _BuildContext(self, scope, name, statement.loc)
         self.add(OpAmp.build_instance(statement, ctx, model.name.text, values), statement.loc)
 
-
     def instance(self, statement: Instance, scope: _Scope) -> None:
         key = statement.subckt.text.lower()
         definition = scope.definition.find(key)
@@ -330,11 +339,15 @@ class _Elaborator:
             )
         if definition in self.active:
             cycle = " -> ".join(d.name for d in (*self.active[self.active.index(definition) :], definition))
-            raise _fail(f"{statement.name}: subcircuit '{definition.name}' instantiates itself ({cycle})", statement.loc)
+            raise _fail(
+                f"{statement.name}: subcircuit '{definition.name}' instantiates itself ({cycle})", statement.loc
+            )
         if len(self.active) >= MAX_SUBCKT_DEPTH:
             names = [d.name for d in (*self.active, definition)]
-            chain = " -> ".join(names) if len(names) <= 8 else (
-                " -> ".join(names[:3]) + f" -> … ({len(names) - 6:,} more) … -> " + " -> ".join(names[-3:])
+            chain = (
+                " -> ".join(names)
+                if len(names) <= 8
+                else (" -> ".join(names[:3]) + f" -> … ({len(names) - 6:,} more) … -> " + " -> ".join(names[-3:]))
             )
             raise _fail(
                 f"{statement.name}: subcircuit instances are nested more than {MAX_SUBCKT_DEPTH} deep ({chain})",
@@ -395,9 +408,7 @@ class _Elaborator:
         for item in self.pending:
             found = self.by_key.get(c.name_key(item.full_name))
             if found is None or not isinstance(found[0], item.wanted):
-                candidates = [
-                    e.name for e, _ in self.by_key.values() if isinstance(e, item.wanted)
-                ]
+                candidates = [e.name for e, _ in self.by_key.values() if isinstance(e, item.wanted)]
                 close = difflib.get_close_matches(item.full_name, candidates, n=3)
                 hint = "did you mean " + " or ".join(f"'{n}'" for n in close) + "?" if close else ""
                 what = "is not a" if found is not None else "names no"
@@ -444,7 +455,9 @@ def _sweep(sweep: Sweep, engine: _Elaborator, scope: _Scope) -> c.Sweep:
     if start < 0:
         raise _fail(f"the start frequency cannot be negative ({exact(start)})", sweep.start.loc)
     if stop < start:
-        raise _fail(f"the stop frequency ({exact(stop)} Hz) is below the start frequency ({exact(start)} Hz)", sweep.stop.loc)
+        raise _fail(
+            f"the stop frequency ({exact(stop)} Hz) is below the start frequency ({exact(start)} Hz)", sweep.stop.loc
+        )
     return c.Sweep(sweep.kind, int(points), start, stop)
 
 
@@ -497,14 +510,16 @@ def _no_elements(parsed: ParsedFile) -> NetlistError:
         )
     where = parsed.source.location(1, 1)
     title = parsed.title
-    if title and title.split()[0][:1].upper() in "RCLKVIEGFHX" and len(title.split()) >= 3 and len(
-        [line for line in lines if line.strip()]
-    ) == 1:
+    if (
+        title
+        and title.split()[0][:1].upper() in "RCLKVIEGFHX"
+        and len(title.split()) >= 3
+        and len([line for line in lines if line.strip()]) == 1
+    ):
         hint = f"the first line is always the title, so '{shown(title)}' was read as one; put a title line first"
     else:
         hint = "the first line is the title; element lines (R1 in out 1k, ...) follow it at the top level"
     return _fail("the netlist has no elements", where, hint)
-
 
 
 def elaborate(

@@ -10,11 +10,10 @@ from __future__ import annotations
 import os
 from pathlib import Path
 
+from netnoise.errors import NetlistError, SourceLocation
 from netnoise.netlist.parser import parse_statements
 from netnoise.netlist.statements import IncludeCard, ParsedFile, Statement
-from netnoise.text.source import read_netlist_text
-from netnoise.errors import NetlistError, SourceLocation
-from netnoise.text.source import bounded
+from netnoise.text.source import bounded, read_netlist_text
 
 
 def _fail(message: str, location: SourceLocation | None, hint: str = "") -> NetlistError:
@@ -25,11 +24,10 @@ def _fail(message: str, location: SourceLocation | None, hint: str = "") -> Netl
 def _where(location: SourceLocation | None) -> str:
     return f"{location.file}:{location.line}" if location is not None else "(unknown place)"
 
+
 __all__ = ["MAX_INCLUDE_DEPTH", "expand_includes"]
 
 MAX_INCLUDE_DEPTH = 16
-
-
 
 
 def expand_includes(
@@ -76,5 +74,3 @@ def expand_includes(
         included = parse_statements(text, str(target), has_title=False)
         out.extend(expand_includes(included, target.parent, (*chain, target), depth + 1, within))
     return out
-
-

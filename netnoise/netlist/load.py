@@ -49,7 +49,10 @@ def parse_netlist(
     try:
         parsed = parse_statements(text, filename, has_title=True)
         return elaborate(
-            parsed, Path(base_dir), source_file=filename, own_path=own_path,
+            parsed,
+            Path(base_dir),
+            source_file=filename,
+            own_path=own_path,
             includes_within=None if includes_within is None else Path(includes_within),
         )
     finally:

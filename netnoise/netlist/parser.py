@@ -12,20 +12,42 @@ __all__ = ["parse_statements", "OPAMP_PARAMS", "SUPPORTED_LETTERS", "SUPPORTED_C
 
 from lark import Token, Tree
 
-from netnoise.errors import SourceLocation
-from netnoise.netlist.statements import (
-    AcCard, Assignment, EndsCard, IncludeCard, Instance,
-    ModelCard, NoiseCard, OptionsCard, ParamCard, ParsedFile, Passive, Statement, SubcktCard, Sweep,
-    TempCard,
-)
 from netnoise.circuit.elements.amplifier import OPAMP_PARAMS, check_opamp_param, opamp_param_list
 from netnoise.circuit.registry import LINE_LETTERS, forms, kind_for_line, kinds_for
-from netnoise.text.fields import (
-    LineReader,
-    Call, Field, FieldReader, Keyed, Quoted, Value, Word, as_assignment, as_value,
-    describe, shown,
+from netnoise.errors import SourceLocation
+from netnoise.netlist.statements import (
+    AcCard,
+    Assignment,
+    EndsCard,
+    IncludeCard,
+    Instance,
+    ModelCard,
+    NoiseCard,
+    OptionsCard,
+    ParamCard,
+    ParsedFile,
+    Passive,
+    Statement,
+    SubcktCard,
+    Sweep,
+    TempCard,
 )
-from netnoise.text.source import SourceText, fail as _fail, prepare
+from netnoise.text.fields import (
+    Call,
+    Field,
+    FieldReader,
+    Keyed,
+    LineReader,
+    Quoted,
+    Value,
+    Word,
+    as_assignment,
+    as_value,
+    describe,
+    shown,
+)
+from netnoise.text.source import SourceText, prepare
+from netnoise.text.source import fail as _fail
 from netnoise.text.syntax import parse_tree
 
 # --------------------------------------------------------------------------
@@ -81,7 +103,9 @@ def _check_letter(name_word: Word) -> None:
         raise _fail(
             f"{name}: {reason}",
             name_word.loc,
-            "netnoise reads linear circuits: " + ", ".join(SUPPORTED_LETTERS[:-1]) + f" and {SUPPORTED_LETTERS[-1]} lines",
+            "netnoise reads linear circuits: "
+            + ", ".join(SUPPORTED_LETTERS[:-1])
+            + f" and {SUPPORTED_LETTERS[-1]} lines",
         )
 
 
@@ -286,7 +310,9 @@ def _model(card: _Card) -> ModelCard:
         kind_loc = kind_item.loc
         raw_params.extend(kind_item.args)
     else:
-        raise _fail(f"expected the model type here, not {describe(kind_item)}", kind_item.loc, f"the form is: {_MODEL_FORM}")
+        raise _fail(
+            f"expected the model type here, not {describe(kind_item)}", kind_item.loc, f"the form is: {_MODEL_FORM}"
+        )
     if kind.lower() != "opamp":
         what = _MODEL_TYPES_REFUSED.get(kind.lower())
         reason = f"{what} models are not supported" if what else f"model type '{shown(kind)}' is not supported"
@@ -325,7 +351,6 @@ def _param_card(tree: Tree, source: SourceText) -> ParamCard:
         value = Value("{...}", source.at(expression), None, expression, source)
         assignments.append(Assignment(key, value, source.at(name_token)))
     return ParamCard(tuple(assignments), source.at(tree.children[0]))
-
 
 
 # --------------------------------------------------------------------------

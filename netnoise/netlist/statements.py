@@ -18,9 +18,25 @@ from netnoise.text.fields import Assignment, Value, Word
 from netnoise.text.source import SourceText
 
 __all__ = [
-    "Sweep", "Passive", "Coupling", "IndependentSource", "VoltageControlled", "CurrentControlled", "Instance",
-    "LossyCapacitorLine", "ModelCard", "ParamCard", "SubcktCard", "EndsCard", "IncludeCard", "TempCard", "AcCard", "NoiseCard",
-    "OptionsCard", "Statement", "ParsedFile",
+    "Sweep",
+    "Passive",
+    "Coupling",
+    "IndependentSource",
+    "VoltageControlled",
+    "CurrentControlled",
+    "Instance",
+    "LossyCapacitorLine",
+    "ModelCard",
+    "ParamCard",
+    "SubcktCard",
+    "EndsCard",
+    "IncludeCard",
+    "TempCard",
+    "AcCard",
+    "NoiseCard",
+    "OptionsCard",
+    "Statement",
+    "ParsedFile",
 ]
 
 

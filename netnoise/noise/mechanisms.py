@@ -21,8 +21,8 @@ within each.
 from __future__ import annotations
 
 import math
+from collections.abc import Mapping
 from dataclasses import dataclass, field
-from typing import Mapping
 
 from netnoise.constants import BOLTZMANN, ELEMENTARY_CHARGE
 from netnoise.errors import CircuitError

@@ -69,14 +69,25 @@ from netnoise.constants import celsius
 from netnoise.errors import CircuitError, UsageError
 from netnoise.outputs.labels import row_value_text
 from netnoise.outputs.merit_text import enob_bits
-from netnoise.results.validation import check_finite
 from netnoise.results.result import NoiseResult
+from netnoise.results.validation import check_finite
 
 if TYPE_CHECKING:  # pragma: no cover
     from netnoise.engine.dc import OperatingPoint
     from netnoise.results.figures import AdcComparison, SignalToNoise
 
-__all__ = ["result_to_dict", "to_json", "to_csv", "write_json", "write_csv", "csv_header", "column_name", "spectrum_columns", "atomic_write", "NOISE_FIGURE_COLUMN"]
+__all__ = [
+    "result_to_dict",
+    "to_json",
+    "to_csv",
+    "write_json",
+    "write_csv",
+    "csv_header",
+    "column_name",
+    "spectrum_columns",
+    "atomic_write",
+    "NOISE_FIGURE_COLUMN",
+]
 
 
 # --- atomic file writing ----------------------------------------------------
@@ -439,7 +450,9 @@ def _grouped_power(result: NoiseResult, group_by: str) -> tuple[list[str], list[
     return labels, powers
 
 
-def spectrum_columns(result: NoiseResult, *, group_by: str | None = None, power: bool = False) -> tuple[list[str], list[np.ndarray]]:
+def spectrum_columns(
+    result: NoiseResult, *, group_by: str | None = None, power: bool = False
+) -> tuple[list[str], list[np.ndarray]]:
     """(column names, columns) of the spectrum table: frequency, total, then
     each source (or element/mechanism group with ``group_by``) in rank order;
     amplitudes in V/√Hz, or with ``power`` power densities in V²/Hz."""

@@ -119,7 +119,9 @@ def _spot_table(body: list[str]) -> str:
     for line in body:
         match = _SPOT.match(line)
         if match:
-            rows.append(f'<tr><td style="text-align:right">{html.escape(match.group(1))}</td><td>{html.escape(match.group(2))}</td></tr>')
+            rows.append(
+                f'<tr><td style="text-align:right">{html.escape(match.group(1))}</td><td>{html.escape(match.group(2))}</td></tr>'
+            )
     return "<table>\n" + "\n".join(rows) + "\n</table>"
 
 
@@ -129,7 +131,11 @@ def _section_html(name: str, body: list[str], result: NoiseResult, top: int | No
     elif name == "Spot output density":
         content = _spot_table(body)
     elif name == "Notes":
-        content = "<ul>\n" + "\n".join(f"<li>{html.escape(line.strip()[2:])}</li>" for line in body if line.strip().startswith("- ")) + "\n</ul>"
+        content = (
+            "<ul>\n"
+            + "\n".join(f"<li>{html.escape(line.strip()[2:])}</li>" for line in body if line.strip().startswith("- "))
+            + "\n</ul>"
+        )
     elif name == "DC operating point":
         content = "<pre>" + html.escape("\n".join(body)) + "</pre>"
     else:
@@ -156,7 +162,9 @@ def _svg(result: NoiseResult, *, input_referred: bool, salt: str, top: int) -> s
     return data[data.index("<svg") :]
 
 
-def to_html(result: NoiseResult, *, top: int | None = 15, group_by: str | None = None, plot_top: int = 5, **extras) -> str:
+def to_html(
+    result: NoiseResult, *, top: int | None = 15, group_by: str | None = None, plot_top: int = 5, **extras
+) -> str:
     """The HTML report of ``result`` (a complete page).  ``top``, ``group_by``
     and ``extras`` (``snr``, ``signal_at``, ``adc``, ``operating_point``) are
     those of :func:`~netnoise.outputs.report.format_report`; a result with an
@@ -184,7 +192,11 @@ def to_html(result: NoiseResult, *, top: int | None = 15, group_by: str | None =
     parts.append('<section class="figure">\n<h2>Output noise</h2>')
     parts.append(_svg(result, input_referred=False, salt="netnoise-output", top=plot_top))
     parts.append("</section>")
-    if result.input_source is not None and result.input_referred_density is not None and (result.gain is not None and (result.gain > 0).any()):
+    if (
+        result.input_source is not None
+        and result.input_referred_density is not None
+        and (result.gain is not None and (result.gain > 0).any())
+    ):
         parts.append('<section class="figure">\n<h2>Input-referred noise</h2>')
         parts.append(_svg(result, input_referred=True, salt="netnoise-input", top=plot_top))
         parts.append("</section>")

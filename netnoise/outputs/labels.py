@@ -7,7 +7,7 @@
 from __future__ import annotations
 
 import math
-from typing import Mapping
+from collections.abc import Mapping
 
 from netnoise.engformat import format_quantity
 from netnoise.noise.mechanisms import SHOT

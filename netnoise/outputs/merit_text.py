@@ -12,7 +12,9 @@ from netnoise.constants import T0_KELVIN
 from netnoise.engformat import format_quantity
 from netnoise.outputs.labels import value_text
 from netnoise.outputs.text_layout import decade_frequencies as _decade_frequencies
-from netnoise.outputs.text_layout import field as _field, hz as _hz, section as _section
+from netnoise.outputs.text_layout import field as _field
+from netnoise.outputs.text_layout import hz as _hz
+from netnoise.outputs.text_layout import section as _section
 from netnoise.outputs.text_layout import wrapped as _wrapped
 from netnoise.results.result import NoiseResult
 

@@ -45,8 +45,9 @@ def plot_total_histogram(result, *, ax=None, bins: int | str = "auto") -> MonteC
     counts, edges, patches = ax.hist(micro, bins=bins, color="tab:blue", alpha=0.75, label=f"{result.trials} trials")
     artists = {"counts": counts, "edges": edges, "patches": patches}
     if result.target_rms_V is not None:
-        artists["target"] = ax.axvline(result.target_rms_V * 1e6, color="tab:red",
-                                       label=f"target (yield {100 * result.yield_fraction:.1f} %)")
+        artists["target"] = ax.axvline(
+            result.target_rms_V * 1e6, color="tab:red", label=f"target (yield {100 * result.yield_fraction:.1f} %)"
+        )
     ax.set_xlabel("total output noise (µV rms)")
     ax.set_ylabel("trials")
     ax.legend(loc="best")
@@ -89,7 +90,9 @@ def save_montecarlo_plot(result, path: str | os.PathLike) -> None:
 
     extension = os.path.splitext(os.fspath(path))[1].lower()
     if extension not in SAVE_FORMATS:
-        raise UsageError(f"cannot write a plot to '{os.fspath(path)}': use a file name ending in {', '.join(SAVE_FORMATS)}")
+        raise UsageError(
+            f"cannot write a plot to '{os.fspath(path)}': use a file name ending in {', '.join(SAVE_FORMATS)}"
+        )
     from matplotlib.backends.backend_agg import FigureCanvasAgg
 
     figure = plot_montecarlo(result).figure

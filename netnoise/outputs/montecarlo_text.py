@@ -17,7 +17,13 @@ import numpy as np
 from netnoise.engformat import format_quantity
 from netnoise.errors import CircuitError
 
-__all__ = ["format_montecarlo_report", "montecarlo_to_dict", "montecarlo_to_json", "montecarlo_to_csv", "montecarlo_html"]
+__all__ = [
+    "format_montecarlo_report",
+    "montecarlo_to_dict",
+    "montecarlo_to_json",
+    "montecarlo_to_csv",
+    "montecarlo_html",
+]
 
 _ENCODER = json.JSONEncoder(ensure_ascii=False, allow_nan=False, separators=(", ", ": "))
 
@@ -42,8 +48,10 @@ def format_montecarlo_report(result, *, top: int | None = 10) -> str:
     lines.append(f"{result.trials} trials ({spread}), seed {result.seed}, run in {result.ran_on}")
     lines.append(f"method: {result.method}")
     band_high = "∞" if math.isinf(result.nominal.band_high_Hz) else format_quantity(result.nominal.band_high_Hz, "Hz")
-    lines.append(f"output v({result.nominal.output_node}), band {format_quantity(result.nominal.band_low_Hz, 'Hz')} "
-                 f"to {band_high}")
+    lines.append(
+        f"output v({result.nominal.output_node}), band {format_quantity(result.nominal.band_low_Hz, 'Hz')} "
+        f"to {band_high}"
+    )
     if result.temperature_range_K is not None:
         low, high = (t - 273.15 for t in result.temperature_range_K)
         lines.append(f"temperature drawn uniformly from {low:g} °C to {high:g} °C")
@@ -65,8 +73,10 @@ def format_montecarlo_report(result, *, top: int | None = 10) -> str:
         lines.append(f"  {p:>4g} % of trials at or below  {_volts(v)} rms")
     if result.target_rms_V is not None:
         passed = int(np.count_nonzero(result.total_rms_V <= result.target_rms_V))
-        lines.append(f"  target {_volts(result.target_rms_V)} rms met by {passed} of {result.trials} trials: "
-                     f"yield {_pct(result.yield_fraction)}")
+        lines.append(
+            f"  target {_volts(result.target_rms_V)} rms met by {passed} of {result.trials} trials: "
+            f"yield {_pct(result.yield_fraction)}"
+        )
     j = result.worst_trial
     lines.append(f"  highest: trial {j}, {_volts(float(result.total_rms_V[j]))} rms, with")
     for name, value in result.worst_values.items():
@@ -86,8 +96,10 @@ def format_montecarlo_report(result, *, top: int | None = 10) -> str:
     width = max([len("source")] + [len(result.source_names[k]) for k in shown])
     lines.append(f"  {'source':<{width}}  largest in   share 1 %   50 %    99 %")
     for k in shown:
-        lines.append(f"  {result.source_names[k]:<{width}}  {_pct(counts[k] / result.trials):>10}  "
-                     f"{_pct(share[0, k]):>8} {_pct(share[1, k]):>7} {_pct(share[2, k]):>7}")
+        lines.append(
+            f"  {result.source_names[k]:<{width}}  {_pct(counts[k] / result.trials):>10}  "
+            f"{_pct(share[0, k]):>8} {_pct(share[1, k]):>7} {_pct(share[2, k]):>7}"
+        )
     if len(shown) < len(order):
         lines.append(f"  ... {len(order) - len(shown)} more sources")
 
@@ -101,8 +113,10 @@ def format_montecarlo_report(result, *, top: int | None = 10) -> str:
         for i in np.argsort(-np.abs(slopes)):
             lines.append(f"  {names[i]:<14} {slopes[i]:+.3f}")
     lines.append("")
-    lines.append("These are design estimates from the stated tolerances; the statistics hold only as far "
-                 "as the drawn distributions describe the parts bought.")
+    lines.append(
+        "These are design estimates from the stated tolerances; the statistics hold only as far "
+        "as the drawn distributions describe the parts bought."
+    )
     return "\n".join(lines) + "\n"
 
 
@@ -115,8 +129,10 @@ def montecarlo_to_dict(result) -> dict:
         "seed": result.seed,
         "distribution": result.distribution,
         "tolerances": [{"pattern": t.pattern, "fraction": t.fraction} for t in result.tolerances],
-        "varied": [{"name": n, "kind": k, "nominal": float(v)}
-                   for n, k, v in zip(result.targets, result.target_kinds, result.nominal_values)],
+        "varied": [
+            {"name": n, "kind": k, "nominal": float(v)}
+            for n, k, v in zip(result.targets, result.target_kinds, result.nominal_values)
+        ],
         "temperature_range_K": list(result.temperature_range_K) if result.temperature_range_K else None,
         "method": result.method,
         "nominal_total_rms_V": result.nominal.total_rms,
@@ -131,10 +147,16 @@ def montecarlo_to_dict(result) -> dict:
         "values": result.values.tolist(),
         "temperature_K": result.temperature_K.tolist(),
         "sources": [
-            {"name": name, "element": element, "mechanism": mechanism, "dominant_trials": int(count),
-             "share_percentiles": {f"{p:g}": float(s) for p, s in zip((1, 50, 99), result.share_percentiles[:, k])}}
+            {
+                "name": name,
+                "element": element,
+                "mechanism": mechanism,
+                "dominant_trials": int(count),
+                "share_percentiles": {f"{p:g}": float(s) for p, s in zip((1, 50, 99), result.share_percentiles[:, k])},
+            }
             for k, (name, element, mechanism, count) in enumerate(
-                zip(result.source_names, result.source_elements, result.source_mechanisms, result.dominant_counts))
+                zip(result.source_names, result.source_elements, result.source_mechanisms, result.dominant_counts)
+            )
         ],
         "sensitivities": None if slopes is None else dict(zip(result.sensitivity_names, slopes.tolist())),
     }
@@ -163,8 +185,12 @@ def montecarlo_to_csv(result) -> str:
 
 def montecarlo_html(result) -> str:
     """A short table for notebooks."""
-    rows = [("trials", str(result.trials)), ("seed", str(result.seed)),
-            ("mean", f"{_volts(result.mean)} rms"), ("std", _volts(result.std))]
+    rows = [
+        ("trials", str(result.trials)),
+        ("seed", str(result.seed)),
+        ("mean", f"{_volts(result.mean)} rms"),
+        ("std", _volts(result.std)),
+    ]
     rows += [(f"{p:g} %", f"{_volts(v)} rms") for p, v in result.percentiles.items()]
     if result.target_rms_V is not None:
         rows.append(("yield", _pct(result.yield_fraction)))

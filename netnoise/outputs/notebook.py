@@ -65,7 +65,11 @@ def budget_table_html(result: NoiseResult, *, group_by: str = "source", rows: in
     contributions = result.grouped(group_by)
     first = {"source": "source", "element": "element", "mechanism": "mechanism"}[group_by]
     head = ["#", first, "mechanism", "value", "rms at output", "share", "cumulative"]
-    lines = ['<table class="netnoise-budget">', "<thead><tr>" + "".join(f"<th>{h}</th>" for h in head) + "</tr></thead>", "<tbody>"]
+    lines = [
+        '<table class="netnoise-budget">',
+        "<thead><tr>" + "".join(f"<th>{h}</th>" for h in head) + "</tr></thead>",
+        "<tbody>",
+    ]
     shown = contributions if rows is None else contributions[:rows]
     for rank, row in enumerate(shown, start=1):
         value = row_value_text(row) if group_by != "mechanism" else f"{row.count} source{'s' if row.count > 1 else ''}"
@@ -83,7 +87,9 @@ def budget_table_html(result: NoiseResult, *, group_by: str = "source", rows: in
     if len(shown) < len(contributions):
         rest = contributions[len(shown) :]
         share = sum(r.share for r in rest)
-        lines.append(f'<tr><td></td><td colspan="4">({len(rest)} more row{"s" if len(rest) > 1 else ""})</td><td style="text-align:right">{100.0 * share:.1f} %</td><td></td></tr>')
+        lines.append(
+            f'<tr><td></td><td colspan="4">({len(rest)} more row{"s" if len(rest) > 1 else ""})</td><td style="text-align:right">{100.0 * share:.1f} %</td><td></td></tr>'
+        )
     lines += ["</tbody>", "</table>"]
     return "\n".join(lines)
 
@@ -92,7 +98,9 @@ def budget_html(result: NoiseResult) -> str:
     """The notebook's rich display: a heading line and the budget table."""
     title = html.escape(result.title.strip() or "noise budget")
     total = format_quantity(result.total_rms, "V") if np.isfinite(result.total_rms) else "not finite"
-    summary = html.escape(f"{_output_text(result)}, band {_band_text(result)}, {result.temperature_K - 273.15:.1f} °C: {total} rms")
+    summary = html.escape(
+        f"{_output_text(result)}, band {_band_text(result)}, {result.temperature_K - 273.15:.1f} °C: {total} rms"
+    )
     return f'<div class="netnoise-result"><p><b>{title}</b><br>{summary}</p>\n{budget_table_html(result)}\n</div>'
 
 

@@ -155,8 +155,7 @@ def _axis_scale(ax: Axes, values) -> tuple[float, str]:
 def _check_has_noise(result: NoiseResult) -> None:
     if not np.any(result.output_density > 0.0) or not result.total_variance > 0.0:
         raise CircuitError(
-            "nothing to plot: no noise source reaches this output (every part is noiseless, or none "
-            "is connected to it)"
+            "nothing to plot: no noise source reaches this output (every part is noiseless, or none is connected to it)"
         )
 
 
@@ -211,7 +210,9 @@ def _density_curves(result: NoiseResult, input_referred: bool) -> tuple[np.ndarr
 
 
 # --- drawing, one function per thing drawn ---------------------------------
-def _draw_density(ax: Axes, result: NoiseResult, top: int, *, input_referred: bool = False, label: str | None = None) -> list:
+def _draw_density(
+    ax: Axes, result: NoiseResult, top: int, *, input_referred: bool = False, label: str | None = None
+) -> list:
     show = _positive_grid(result)
     f = result.frequency_Hz[show]
     power, per_source, unit, what = _density_curves(result, input_referred)
@@ -226,7 +227,10 @@ def _draw_density(ax: Axes, result: NoiseResult, top: int, *, input_referred: bo
         color=TOTAL_COLOUR,
         linewidth=TOTAL_WIDTH,
         linestyle="-" if draw == 0 else (0, (6, 2)),
-        label=_fit(f"{prefix_label}total", f"({format_quantity(result.total_rms, 'V')} rms{' at output' if input_referred else ''})"),
+        label=_fit(
+            f"{prefix_label}total",
+            f"({format_quantity(result.total_rms, 'V')} rms{' at output' if input_referred else ''})",
+        ),
         gid=GID_TOTAL,
         alpha=0.8,
         zorder=2,  # under the contributors, so a dominant one stays visible on it
@@ -303,8 +307,15 @@ def _draw_cumulative(ax: Axes, result: NoiseResult, *, label: str | None = None)
     f = result.frequency_Hz[show]
     scale, prefix = _axis_scale(ax, max(result.total_rms, float(np.max(result.cumulative_rms, initial=0.0))))
     draw = _next_draw(ax)
-    lines = ax.plot(f, result.cumulative_rms[show] / scale, color=TOTAL_COLOUR, linewidth=TOTAL_WIDTH - 0.8, gid=GID_CUMULATIVE,
-                    linestyle="-" if draw == 0 else (0, (6, 2)), label=label or "_nolegend_")
+    lines = ax.plot(
+        f,
+        result.cumulative_rms[show] / scale,
+        color=TOTAL_COLOUR,
+        linewidth=TOTAL_WIDTH - 0.8,
+        gid=GID_CUMULATIVE,
+        linestyle="-" if draw == 0 else (0, (6, 2)),
+        label=label or "_nolegend_",
+    )
     total = result.total_rms / scale
     lines += [ax.axhline(total, color=CONTRIBUTOR_COLOURS[0], linewidth=0.9, linestyle="--", gid=GID_BAND_TOTAL)]
     ax.annotate(
@@ -386,8 +397,9 @@ def _is_axes(value) -> bool:
     return isinstance(value, Axes)
 
 
-def plot_density(result: NoiseResult, *, ax: Axes | None = None, top: int = 5, input_referred: bool = False,
-                 label: str | None = None) -> NoisePlot:
+def plot_density(
+    result: NoiseResult, *, ax: Axes | None = None, top: int = 5, input_referred: bool = False, label: str | None = None
+) -> NoisePlot:
     """The density panel alone: total and the ``top`` largest contributors
     (output-referred, or divided by |H(f)|² with ``input_referred``), on
     ``ax`` or on a new figure.  ``label`` prefixes the legend entries (to tell
@@ -448,8 +460,9 @@ def _panels(ax):
     return density_ax.figure, density_ax, cumulative_ax, False
 
 
-def plot_noise(result: NoiseResult, *, top: int = 5, ax=None, input_referred: bool = False,
-               label: str | None = None) -> NoisePlot:
+def plot_noise(
+    result: NoiseResult, *, top: int = 5, ax=None, input_referred: bool = False, label: str | None = None
+) -> NoisePlot:
     """Density and cumulative-rms plot of ``result``; returns a :class:`NoisePlot`.
 
     ``top`` is how many individual contributors get their own line.
@@ -496,7 +509,7 @@ def plot_bytes(result: NoiseResult, fmt: str, *, top: int = 5, input_referred: b
     return figure_bytes(plot_noise(result, top=top, input_referred=input_referred).figure, fmt)
 
 
-def figure_bytes(fig: "Figure", fmt: str) -> bytes:
+def figure_bytes(fig: Figure, fmt: str) -> bytes:
     """Any figure as the bytes of a ``png``, ``svg`` or ``pdf`` file, through the
     non-interactive Agg canvas (no dates inside)."""
     from matplotlib.backends.backend_agg import FigureCanvasAgg
@@ -508,7 +521,7 @@ def figure_bytes(fig: "Figure", fmt: str) -> bytes:
     return buffer.getvalue()
 
 
-def save_figure(fig: "Figure", path: str | os.PathLike) -> None:
+def save_figure(fig: Figure, path: str | os.PathLike) -> None:
     """Write any figure (a study's plot, say) to ``path`` as PNG, SVG or PDF, by its extension, atomically."""
     extension = os.path.splitext(os.fspath(path))[1].lower()
     if extension not in SAVE_FORMATS:

@@ -12,7 +12,8 @@ from __future__ import annotations
 
 import math
 import time
-from typing import Callable, TextIO
+from collections.abc import Callable
+from typing import TextIO
 
 __all__ = ["ProgressLine"]
 

@@ -30,28 +30,48 @@ from __future__ import annotations
 
 import dataclasses
 import math
-from typing import TYPE_CHECKING, Any, Mapping
-
+from collections.abc import Mapping
+from typing import TYPE_CHECKING, Any
 
 from netnoise.constants import celsius
 from netnoise.engformat import format_quantity
+from netnoise.errors import CircuitError, UsageError
 from netnoise.outputs import study_text
 from netnoise.outputs.labels import row_value_text, value_text
-from netnoise.outputs.merit_text import T0_K, converter_section, enob_bits, noise_figure_section, signal_to_noise_section
-from netnoise.outputs.text_layout import BAR_WIDTH, RULE as _RULE, bar as _bar, field as _field, gain_unit as _gain_unit
-from netnoise.outputs.text_layout import hz as _hz, output_text as _output_text, percent as _percent, section as _section
+from netnoise.outputs.merit_text import (
+    T0_K,
+    converter_section,
+    enob_bits,
+    noise_figure_section,
+    signal_to_noise_section,
+)
+from netnoise.outputs.text_layout import BAR_WIDTH
+from netnoise.outputs.text_layout import RULE as _RULE
+from netnoise.outputs.text_layout import bar as _bar
 from netnoise.outputs.text_layout import decade_frequencies as _decade_frequencies
-from netnoise.results.validation import check_finite, non_finite_fields
-from netnoise.errors import CircuitError, UsageError
+from netnoise.outputs.text_layout import field as _field
+from netnoise.outputs.text_layout import gain_unit as _gain_unit
+from netnoise.outputs.text_layout import hz as _hz
+from netnoise.outputs.text_layout import output_text as _output_text
+from netnoise.outputs.text_layout import percent as _percent
+from netnoise.outputs.text_layout import section as _section
 from netnoise.results.result import NoiseResult
+from netnoise.results.validation import check_finite, non_finite_fields
 
 if TYPE_CHECKING:  # pragma: no cover
     from netnoise.engine.dc import OperatingPoint
     from netnoise.results.figures import AdcComparison, SignalToNoise
 
 __all__ = [
-    "format_report", "check_finite", "enob_bits", "non_finite_fields", "PEAK_TO_PEAK_SIGMAS", "CAUTION", "T0_K",
-    "GROUPINGS", "BAR_WIDTH",
+    "format_report",
+    "check_finite",
+    "enob_bits",
+    "non_finite_fields",
+    "PEAK_TO_PEAK_SIGMAS",
+    "CAUTION",
+    "T0_K",
+    "GROUPINGS",
+    "BAR_WIDTH",
 ]
 
 #: rms-to-peak-to-peak multiple for Gaussian noise (common practice: the
@@ -72,7 +92,6 @@ CAUTION = (
     "Caution: design estimates only; mains-connected or safety-related "
     "equipment follows local codes and licensed practice."
 )
-
 
 
 def _check_operating_point(op: OperatingPoint) -> None:
@@ -185,8 +204,14 @@ def _element_value(result: NoiseResult, element: str) -> str:
     the part before the first ': ' / ', ' they share ("lnamp: 4 nV/√Hz" and
     "lnamp: 1 pA/√Hz" -> "lnamp")."""
     values = {
-        value_text(float(result.source_values[k]), result.source_units[k], result.source_mechanisms[k], result.source_details[k])
-        for k, e in enumerate(result.source_elements) if e == element
+        value_text(
+            float(result.source_values[k]),
+            result.source_units[k],
+            result.source_mechanisms[k],
+            result.source_details[k],
+        )
+        for k, e in enumerate(result.source_elements)
+        if e == element
     }
     if len(values) <= 1:
         return values.pop() if values else ""
@@ -196,12 +221,20 @@ def _element_value(result: NoiseResult, element: str) -> str:
 
 def _rows_of(result: NoiseResult, group_by: str) -> tuple[_Row, ...]:
     if group_by == "source":
-        return tuple(_Row(c.label, c.mechanism, row_value_text(c), c.rms_V, c.share, c.cumulative_share) for c in result.contributions)
+        return tuple(
+            _Row(c.label, c.mechanism, row_value_text(c), c.rms_V, c.share, c.cumulative_share)
+            for c in result.contributions
+        )
     rows = result.grouped(group_by)
     if group_by == "element":
-        return tuple(_Row(c.label, c.mechanism, _element_value(result, c.label), c.rms_V, c.share, c.cumulative_share) for c in rows)
+        return tuple(
+            _Row(c.label, c.mechanism, _element_value(result, c.label), c.rms_V, c.share, c.cumulative_share)
+            for c in rows
+        )
     return tuple(
-        _Row(c.label, c.mechanism, f"{c.count} source{'s' if c.count > 1 else ''}", c.rms_V, c.share, c.cumulative_share)
+        _Row(
+            c.label, c.mechanism, f"{c.count} source{'s' if c.count > 1 else ''}", c.rms_V, c.share, c.cumulative_share
+        )
         for c in rows
     )
 
@@ -336,8 +369,7 @@ def _notes(result: NoiseResult, advice: Mapping[str, str] | None = None) -> list
     notes = [note.text + (f" ({advice[note.code]})" if note.code in advice else "") for note in result.notes]
     if result.integration_rel_error > ACCURACY_NOTE_THRESHOLD:
         notes.append(
-            f"Band integral accurate to about {100.0 * result.integration_rel_error:.2g} % "
-            "(integrator's own estimate)."
+            f"Band integral accurate to about {100.0 * result.integration_rel_error:.2g} % (integrator's own estimate)."
         )
     if not notes:
         return []
@@ -397,7 +429,9 @@ def format_report(
     lines += _budget(result, top, group_by)
     lines += _headline(result, group_by)
     if response is not None:
-        lines += study_text.response_section(response, result.input_source or "the input", _output_text(result), result.input_unit)
+        lines += study_text.response_section(
+            response, result.input_source or "the input", _output_text(result), result.input_unit
+        )
     if sensitivities is not None:
         lines += study_text.sensitivity_section(sensitivities, result.temperature_K)
     if operating_point is not None:

@@ -5,7 +5,7 @@ only; the studies themselves hold SI numbers."""
 from __future__ import annotations
 
 import math
-from typing import Sequence
+from collections.abc import Sequence
 
 from netnoise.constants import celsius
 from netnoise.engformat import format_quantity

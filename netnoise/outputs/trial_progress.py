@@ -9,7 +9,8 @@ from __future__ import annotations
 
 import math
 import time
-from typing import Callable, TextIO
+from collections.abc import Callable
+from typing import TextIO
 
 __all__ = ["TrialProgress"]
 
@@ -17,8 +18,15 @@ __all__ = ["TrialProgress"]
 class TrialProgress:
     """``progress`` callback of :func:`netnoise.montecarlo`: counts finished trials."""
 
-    def __init__(self, stream: TextIO, total: int, *, delay_s: float = 1.0, interval_s: float = 0.25,
-                 clock: Callable[[], float] = time.monotonic) -> None:
+    def __init__(
+        self,
+        stream: TextIO,
+        total: int,
+        *,
+        delay_s: float = 1.0,
+        interval_s: float = 0.25,
+        clock: Callable[[], float] = time.monotonic,
+    ) -> None:
         self.stream = stream
         self.total = total
         self.enabled = bool(getattr(stream, "isatty", lambda: False)())

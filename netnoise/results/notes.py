@@ -13,8 +13,9 @@ values), ``band-default``, ``sweep-linear``, ``temperature-default``,
 
 from __future__ import annotations
 
+from collections.abc import Mapping
 from dataclasses import dataclass, field
-from typing import Any, Mapping
+from typing import Any
 
 __all__ = ["Note", "as_note"]
 
@@ -31,6 +32,6 @@ class Note:
         return self.text
 
 
-def as_note(item: "Note | str") -> Note:
+def as_note(item: Note | str) -> Note:
     """A note as it is, or a plain sentence as a note of code ``other``."""
     return item if isinstance(item, Note) else Note("other", str(item))

@@ -14,9 +14,9 @@ from __future__ import annotations
 
 import dataclasses
 import math
+from collections.abc import Mapping
 from dataclasses import dataclass, field
 from functools import cached_property
-from typing import Mapping
 
 import numpy as np
 
@@ -206,9 +206,17 @@ class NoiseResult:
     def _row(self, k: int, share: float, cumulative: float, variance: float) -> Contribution:
         value = float(self.source_values[k])
         return Contribution(
-            self.source_names[k], self.source_names[k], self.source_elements[k], self.source_mechanisms[k],
-            None if math.isnan(value) else value, self.source_units[k], variance, share, cumulative,
-            index=k, details=self.source_details[k],
+            self.source_names[k],
+            self.source_names[k],
+            self.source_elements[k],
+            self.source_mechanisms[k],
+            None if math.isnan(value) else value,
+            self.source_units[k],
+            variance,
+            share,
+            cumulative,
+            index=k,
+            details=self.source_details[k],
         )
 
     @cached_property
@@ -254,11 +262,17 @@ class NoiseResult:
             elements = {self.source_elements[k] for k in members}
             out.append(
                 Contribution(
-                    key, None, elements.pop() if len(elements) == 1 else None,
+                    key,
+                    None,
+                    elements.pop() if len(elements) == 1 else None,
                     "+".join(dict.fromkeys(self.source_mechanisms[k] for k in members)),
-                    None if math.isnan(value) or by == "mechanism" else value, unit if by == "element" else "",
-                    variance, share, min(running, 1.0),
-                    details=self.source_details[first] if by == "element" else {}, count=len(members),
+                    None if math.isnan(value) or by == "mechanism" else value,
+                    unit if by == "element" else "",
+                    variance,
+                    share,
+                    min(running, 1.0),
+                    details=self.source_details[first] if by == "element" else {},
+                    count=len(members),
                 )
             )
         return tuple(out)

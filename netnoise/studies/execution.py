@@ -22,9 +22,10 @@ from __future__ import annotations
 
 import multiprocessing
 import os
+from collections.abc import Callable, Sequence
 from concurrent.futures import FIRST_COMPLETED, ProcessPoolExecutor, wait
 from concurrent.futures.process import BrokenProcessPool
-from typing import Any, Callable, Sequence
+from typing import Any
 
 from netnoise.errors import UsageError
 
@@ -112,8 +113,9 @@ def _process_context():
 def _on_processes(jobs: int, work: Work, shared: Any, chunks: Sequence[Any], done) -> None:
     context = _process_context()
     try:
-        with ProcessPoolExecutor(max_workers=jobs, mp_context=context, initializer=_init_worker,
-                                 initargs=(shared,)) as pool:
+        with ProcessPoolExecutor(
+            max_workers=jobs, mp_context=context, initializer=_init_worker, initargs=(shared,)
+        ) as pool:
             pending = {pool.submit(_run_in_worker, work, chunk): i for i, chunk in enumerate(chunks)}
             try:
                 while pending:
@@ -128,7 +130,7 @@ def _on_processes(jobs: int, work: Work, shared: Any, chunks: Sequence[Any], don
         raise UsageError(
             "a worker process stopped before finishing its work (out of memory, killed, or started from "
             "a script without a main guard: worker processes start from a fresh interpreter, so a script "
-            "that calls this with jobs > 1 must do so under `if __name__ == \"__main__\":`)"
+            'that calls this with jobs > 1 must do so under `if __name__ == "__main__":`)'
         ) from None
 
 
@@ -136,9 +138,7 @@ def _on_dask(client: Any, work: Work, shared: Any, chunks: Sequence[Any], done) 
     from dask.distributed import as_completed
 
     shared_future = client.scatter(shared, broadcast=True, hash=False)  # once per worker
-    futures = [
-        client.submit(_run_on_dask_worker, work, shared_future, chunk, pure=False) for chunk in chunks
-    ]
+    futures = [client.submit(_run_on_dask_worker, work, shared_future, chunk, pure=False) for chunk in chunks]
     index = {future.key: i for i, future in enumerate(futures)}
     try:
         for future in as_completed(futures):
@@ -153,9 +153,7 @@ def connect(address: str):
     try:
         from dask.distributed import Client
     except ImportError:
-        raise UsageError(
-            "--cluster needs dask's distributed scheduler: pip install 'netnoise[cluster]'"
-        ) from None
+        raise UsageError("--cluster needs dask's distributed scheduler: pip install 'netnoise[cluster]'") from None
     try:
         return Client(address, timeout="10s")
     except (OSError, TimeoutError) as error:

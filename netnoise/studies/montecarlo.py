@@ -45,8 +45,9 @@ import fnmatch
 import math
 import re
 import time
+from collections.abc import Callable, Mapping, Sequence
 from dataclasses import dataclass
-from typing import Any, Callable, Mapping, Sequence
+from typing import Any
 
 import numpy as np
 
@@ -126,8 +127,11 @@ def _match(circuit: ck.Circuit, tolerances: tuple[Tolerance, ...]) -> _Targets:
     chosen: dict[tuple[str, str], float] = {}
     for tol in tolerances:
         pattern = tol.pattern.lower()
-        hits = [("element", e.name) for e in circuit.elements
-                if e.value_field is not None and fnmatch.fnmatchcase(ck.name_key(e.name), pattern)]
+        hits = [
+            ("element", e.name)
+            for e in circuit.elements
+            if e.value_field is not None and fnmatch.fnmatchcase(ck.name_key(e.name), pattern)
+        ]
         hits += [("param", name) for name in circuit.parameters if fnmatch.fnmatchcase(name.lower(), pattern)]
         if not hits:
             names = ", ".join(e.name for e in circuit.elements if e.value_field is not None)
@@ -159,7 +163,11 @@ def _match(circuit: ck.Circuit, tolerances: tuple[Tolerance, ...]) -> _Targets:
 
 # --- the draws ----------------------------------------------------------------
 def _draw(
-    targets: _Targets, trials: int, seed: int, distribution: str, temperature_range_K: tuple[float, float] | None,
+    targets: _Targets,
+    trials: int,
+    seed: int,
+    distribution: str,
+    temperature_range_K: tuple[float, float] | None,
     nominal_K: float,
 ) -> tuple[np.ndarray, np.ndarray]:
     """(trials, P) values and (trials,) temperatures (K), trial j from stream j."""
@@ -309,8 +317,7 @@ def _batched_power(G: np.ndarray, C: np.ndarray, B: np.ndarray, c: np.ndarray, f
         if bad.any():
             j, i = (int(v) for v in np.argwhere(bad)[0])
             raise CircuitError(
-                f"trial {first + a + j}: the circuit equations are singular at {f[i]:.6g} Hz "
-                "with that trial's values"
+                f"trial {first + a + j}: the circuit equations are singular at {f[i]:.6g} Hz with that trial's values"
             )
         b = B[a : a + per]  # real: two real products, not one complex one with a cast (much slower)
         re, im = np.matmul(np.ascontiguousarray(z.real), b), np.matmul(np.ascontiguousarray(z.imag), b)
@@ -346,10 +353,12 @@ def _trials_of_chunk(model: _Model, chunk: tuple[int, np.ndarray, np.ndarray]) -
     if model.mode == "exact":
         from netnoise.engine.total_variance import infinite_band_totals
 
-        variance = np.array([
-            infinite_band_totals(t.G, t.C, selector, t.B, np.asarray(t.sources.white_density)).variance
-            for t in trials
-        ])
+        variance = np.array(
+            [
+                infinite_band_totals(t.G, t.C, selector, t.B, np.asarray(t.sources.white_density)).variance
+                for t in trials
+            ]
+        )
         if not np.all(np.isfinite(variance)):
             j = int(np.argwhere(~np.isfinite(variance))[0][0])
             raise CircuitError(
@@ -370,8 +379,12 @@ def _trials_of_chunk(model: _Model, chunk: tuple[int, np.ndarray, np.ndarray]) -
         return power.reshape(t * k, f.size)
 
     band = integrate_band(
-        evaluate, model.low, model.high, points_per_decade=model.points_per_decade,
-        groups=[slice(j * k, (j + 1) * k) for j in range(t)], linear_below=model.linear_below,
+        evaluate,
+        model.low,
+        model.high,
+        points_per_decade=model.points_per_decade,
+        groups=[slice(j * k, (j + 1) * k) for j in range(t)],
+        linear_below=model.linear_below,
         rtol=model.prepared._problem.options.rtol,
     )
     variance = band.values.reshape(t, k)
@@ -544,8 +557,10 @@ class MonteCarloResult:
 
     def __repr__(self) -> str:
         extra = f", yield={self.yield_fraction:.3f}" if self.target_rms_V is not None else ""
-        return (f"MonteCarloResult(trials={self.trials}, seed={self.seed}, mean={self.mean:.4g} V, "
-                f"std={self.std:.3g} V{extra})")
+        return (
+            f"MonteCarloResult(trials={self.trials}, seed={self.seed}, mean={self.mean:.4g} V, "
+            f"std={self.std:.3g} V{extra})"
+        )
 
     def _repr_html_(self) -> str:
         from netnoise.outputs.montecarlo_text import montecarlo_html
@@ -560,8 +575,13 @@ def _mode(prepared, options) -> tuple[str, str]:
     dense = problem.system.size <= options.dense_limit
     if math.isfinite(settings.high) and dense:
         return "band", "trials × frequencies solved in batches; band integrated adaptively for every trial"
-    if (not math.isfinite(settings.high) and dense and settings.low == 0.0
-            and not problem.sources.colored.any() and problem.system.size <= options.exact_limit):
+    if (
+        not math.isfinite(settings.high)
+        and dense
+        and settings.low == 0.0
+        and not problem.sources.colored.any()
+        and problem.system.size <= options.exact_limit
+    ):
         return "exact", "each trial's total exact to infinite bandwidth"
     return "full", "each trial analysed in full"
 
@@ -639,8 +659,13 @@ def montecarlo(
     options = options or SolverOptions()
 
     prepared = prepare(
-        circuit, output=output, reference=reference, band=band, points_per_decade=points_per_decade,
-        temperature_celsius=temperature_celsius, options=options,
+        circuit,
+        output=output,
+        reference=reference,
+        band=band,
+        points_per_decade=points_per_decade,
+        temperature_celsius=temperature_celsius,
+        options=options,
     )
     nominal = prepared.analyze()
     targets = _match(circuit, _as_tolerances(tolerances))
@@ -656,9 +681,16 @@ def montecarlo(
     if mode == "band" and settings.low == 0.0:
         linear_below = _linear_start(_positive(prepared._problem.poles_Hz()), settings.high)
     model = _Model(
-        prepared=prepared, names=targets.names, kinds=targets.kinds, mode=mode,
-        grid_Hz=np.asarray(nominal.frequency_Hz, dtype=float), low=settings.low, high=settings.high,
-        points_per_decade=settings.points_per_decade, linear_below=linear_below, keep_density=keep_density,
+        prepared=prepared,
+        names=targets.names,
+        kinds=targets.kinds,
+        mode=mode,
+        grid_Hz=np.asarray(nominal.frequency_Hz, dtype=float),
+        low=settings.low,
+        high=settings.high,
+        points_per_decade=settings.points_per_decade,
+        linear_below=linear_below,
+        keep_density=keep_density,
     )
     if jobs is None:  # small circuits: batched in one process; larger ones: spread over the cores
         from netnoise.studies.execution import usable_cores
@@ -679,15 +711,34 @@ def montecarlo(
         raise CircuitError("a trial produced non-finite noise values; check for extreme values or tolerances")
     if mode == "band" and density is not None and density.shape[1] != nominal.frequency_Hz.size:
         raise CircuitError("internal error: trial densities and the nominal grid differ")  # pragma: no cover
-    ran_on = ("a dask cluster" if client is not None
-              else f"{min(int(jobs), len(chunks))} local processes" if jobs > 1 and len(chunks) > 1 else "this process")
+    ran_on = (
+        "a dask cluster"
+        if client is not None
+        else f"{min(int(jobs), len(chunks))} local processes"
+        if jobs > 1 and len(chunks) > 1
+        else "this process"
+    )
     return MonteCarloResult(
-        trials=trials, seed=seed, distribution=distribution, tolerances=_as_tolerances(tolerances),
-        targets=targets.names, target_kinds=targets.kinds, nominal_values=targets.nominal, values=values,
-        temperature_K=temperature, temperature_range_K=range_K, source_names=nominal.source_names,
-        source_elements=nominal.source_elements, source_mechanisms=nominal.source_mechanisms,
-        source_variance=variance, frequency_Hz=nominal.frequency_Hz, output_density=density, nominal=nominal,
-        target_rms_V=None if target_rms is None else float(target_rms), method=method, ran_on=ran_on,
+        trials=trials,
+        seed=seed,
+        distribution=distribution,
+        tolerances=_as_tolerances(tolerances),
+        targets=targets.names,
+        target_kinds=targets.kinds,
+        nominal_values=targets.nominal,
+        values=values,
+        temperature_K=temperature,
+        temperature_range_K=range_K,
+        source_names=nominal.source_names,
+        source_elements=nominal.source_elements,
+        source_mechanisms=nominal.source_mechanisms,
+        source_variance=variance,
+        frequency_Hz=nominal.frequency_Hz,
+        output_density=density,
+        nominal=nominal,
+        target_rms_V=None if target_rms is None else float(target_rms),
+        method=method,
+        ran_on=ran_on,
         batched_solves=int(sum(p.get("solves", 0) for p in parts)),
         cpu_seconds=float(sum(p["cpu_s"] for p in parts)),
     )

@@ -14,8 +14,8 @@ meets a target, or at which the settling time just meets a deadline.
 from __future__ import annotations
 
 import math
+from collections.abc import Callable, Sequence
 from dataclasses import dataclass
-from typing import Callable, Sequence
 
 import numpy as np
 
@@ -36,7 +36,7 @@ class Vary:
     values: tuple[float, ...]
 
     @classmethod
-    def span(cls, name: str, start: float, stop: float, steps: int = 11, log: bool = False) -> "Vary":
+    def span(cls, name: str, start: float, stop: float, steps: int = 11, log: bool = False) -> Vary:
         if steps < 2:
             raise UsageError(f"a sweep needs at least 2 steps, not {steps}")
         if log and (start <= 0 or stop <= 0):

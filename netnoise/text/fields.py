@@ -12,14 +12,30 @@ from typing import Union
 from lark import Token, Tree
 
 from netnoise.errors import SourceLocation
-from netnoise.text.source import SourceText, fail as _fail
+from netnoise.text.source import SourceText
+from netnoise.text.source import fail as _fail
 from netnoise.text.values import split_value
 
 __all__ = [
-    "Word", "Quoted", "Braced", "Keyed", "Call", "Field", "Value", "Assignment",
-    "FieldReader", "LineReader", "BEHAVIOURAL_KEYS", "shown", "describe", "as_value", "as_assignment", "is_value",
+    "Word",
+    "Quoted",
+    "Braced",
+    "Keyed",
+    "Call",
+    "Field",
+    "Value",
+    "Assignment",
+    "FieldReader",
+    "LineReader",
+    "BEHAVIOURAL_KEYS",
+    "shown",
+    "describe",
+    "as_value",
+    "as_assignment",
+    "is_value",
     "IDENTIFIER",
 ]
+
 
 class Word:
     """One blank-separated word (a node, a value, a keyword).
@@ -72,7 +88,7 @@ class Braced:
 @dataclass(frozen=True)
 class Keyed:
     key: str
-    value: Union[Word, Braced, Quoted]
+    value: Word | Braced | Quoted
     loc: SourceLocation = field(compare=False)
     end: SourceLocation = field(compare=False, repr=False)
 
@@ -80,7 +96,7 @@ class Keyed:
 @dataclass(frozen=True)
 class Call:
     name: str
-    args: tuple[Union[Word, Braced, "Keyed"], ...]
+    args: tuple[Word | Braced | Keyed, ...]
     loc: SourceLocation = field(compare=False)
     end: SourceLocation = field(compare=False, repr=False)
 
@@ -188,7 +204,6 @@ class Assignment:
     loc: SourceLocation = field(compare=False)
 
 
-
 def is_value(item: Field | None) -> bool:
     if isinstance(item, Braced):
         return True
@@ -212,7 +227,6 @@ def as_assignment(item: Keyed, what: str) -> Assignment:
             "parameter names are letters, digits and '_', starting with a letter",
         )
     return Assignment(key, as_value(item.value, f"value of parameter '{key}' {what}"), item.loc)
-
 
 
 class FieldReader:
@@ -257,7 +271,7 @@ class FieldReader:
     def keyed(self, node: Tree) -> Keyed:
         key, raw = node.children
         if isinstance(raw, Tree):
-            value: Union[Word, Braced, Quoted] = self.braced(raw)
+            value: Word | Braced | Quoted = self.braced(raw)
         elif raw.type == "STRING":
             value = Quoted(str(raw)[1:-1], self.source.at(raw), self.source.after(raw))
         else:
@@ -277,7 +291,7 @@ class FieldReader:
             return self.keyed(node)
         if kind == "call":
             name = node.children[0]
-            args: list[Union[Word, Braced, Keyed]] = []
+            args: list[Word | Braced | Keyed] = []
             if len(node.children) > 3:  # name LPAR call_args RPAR
                 for arg in node.children[2].children:
                     if arg.data == "word":
@@ -288,7 +302,6 @@ class FieldReader:
                         args.append(self.braced(arg))
             return Call(str(name), tuple(args), self.source.at(name), self.source.after(node))
         raise _fail(f"unexpected '{kind}'", self.source.at(node))  # grammar and code disagree
-
 
 
 BEHAVIOURAL_KEYS = frozenset({"value", "table", "laplace", "freq", "vol", "cur"})

@@ -34,9 +34,7 @@ def grammar_path() -> Path:
     checkout = Path(__file__).resolve().parents[2] / "grammar" / GRAMMAR_FILE
     if checkout.is_file():
         return checkout
-    raise FileNotFoundError(
-        f"netnoise is installed without its grammar: looked for {packaged} and {checkout}"
-    )
+    raise FileNotFoundError(f"netnoise is installed without its grammar: looked for {packaged} and {checkout}")
 
 
 def grammar_text() -> str:

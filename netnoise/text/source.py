@@ -26,8 +26,17 @@ from lark import Token, Tree
 
 from netnoise.errors import NetlistError, SourceLocation
 
-__all__ = ["SourceText", "MAX_NETLIST_BYTES", "not_a_file", "read_netlist_text", "prepare", "bounded", "fail", "first_token", "last_token"]
-
+__all__ = [
+    "SourceText",
+    "MAX_NETLIST_BYTES",
+    "not_a_file",
+    "read_netlist_text",
+    "prepare",
+    "bounded",
+    "fail",
+    "first_token",
+    "last_token",
+]
 
 
 @dataclass(frozen=True)
@@ -82,7 +91,6 @@ def fail(message: str, location: SourceLocation | None, hint: str = "") -> Netli
     return NetlistError(message, location, hint)
 
 
-
 # --------------------------------------------------------------------------
 # reading files
 
@@ -101,8 +109,7 @@ def _visible(text: str) -> str:
     """Control characters as the Unicode pictures of them (␀, ␛, ␡): a binary
     file's bytes never reach the terminal as they are."""
     return "".join(
-        chr(0x2400 + ord(ch)) if ord(ch) < 0x20 and ch != "\t" else "\u2421" if ch == "\x7f" else ch
-        for ch in text
+        chr(0x2400 + ord(ch)) if ord(ch) < 0x20 and ch != "\t" else "\u2421" if ch == "\x7f" else ch for ch in text
     )
 
 
@@ -312,4 +319,3 @@ def _hidden_character(prepared: str, index: int, source: SourceText) -> NetlistE
         source.location(line, column),
         "netlists are plain text; delete it (a binary file or a copy-paste accident?)",
     )
-

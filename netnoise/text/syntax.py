@@ -7,7 +7,8 @@ from lark.exceptions import UnexpectedCharacters, UnexpectedEOF, UnexpectedInput
 
 from netnoise.errors import NetlistError
 from netnoise.text.grammar import netlist_parser
-from netnoise.text.source import SourceText, fail as _fail
+from netnoise.text.source import SourceText
+from netnoise.text.source import fail as _fail
 
 __all__ = ["parse_tree", "parse_expression"]
 

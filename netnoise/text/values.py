@@ -171,7 +171,4 @@ def milli_slip_notice(name: str, text: str, value: float) -> str | None:
     stripped = text.strip()
     match = _NUMBER.match(stripped)
     written_as = stripped[: match.end()] if match else stripped
-    return (
-        f"{name} = {format_quantity(value, 'Ω')}: 'M' means milli; "
-        f"write {written_as}meg for megohms"
-    )
+    return f"{name} = {format_quantity(value, 'Ω')}: 'M' means milli; write {written_as}meg for megohms"

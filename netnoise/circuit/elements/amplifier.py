@@ -18,16 +18,17 @@ capacitances; the current noise is one source per input pin to ground.
 from __future__ import annotations
 
 import math
+from collections.abc import Iterator
 from dataclasses import dataclass, field
-from typing import Any, ClassVar, Iterator
+from typing import Any, ClassVar
 
 from netnoise.circuit.elements.base import Element
 from netnoise.constants import GROUND
 from netnoise.errors import SourceLocation
 from netnoise.noise.mechanisms import AMPLIFIER_CURRENT, AMPLIFIER_VOLTAGE, NoiseSource, power_density
-from netnoise.text.values import exact
 from netnoise.text.fields import Assignment, shown
 from netnoise.text.source import fail
+from netnoise.text.values import exact
 
 __all__ = ["OpAmpModel", "OpAmp", "OPAMP_PARAMS", "STAGE_CONDUCTANCE", "check_opamp_param", "opamp_param_list"]
 
@@ -105,7 +106,7 @@ class OpAmp(Element):
     supplies_gain: ClassVar[bool] = True
 
     @classmethod
-    def build_instance(cls, statement: Any, ctx: Any, model_name: str, values: dict[str, tuple[float, Any]]) -> "OpAmp":
+    def build_instance(cls, statement: Any, ctx: Any, model_name: str, values: dict[str, tuple[float, Any]]) -> OpAmp:
         """The amplifier of an X line; ``values`` maps parameter names to
         (number, Value), the model card's with the line's overrides on top."""
         name = ctx.name

@@ -30,8 +30,9 @@ with a correlated partner will return a small cross-spectral block from
 from __future__ import annotations
 
 import dataclasses
+from collections.abc import Iterable, Iterator
 from dataclasses import dataclass, field
-from typing import TYPE_CHECKING, Any, ClassVar, Iterable, Iterator, Protocol
+from typing import TYPE_CHECKING, Any, ClassVar, Protocol
 
 from netnoise.errors import SourceLocation
 
@@ -48,12 +49,12 @@ class Stamper(Protocol):
     """What the MNA assembler offers a kind while it stamps (rows: -1 is ground)."""
 
     def node(self, name: str) -> int: ...
-    def branch(self, element: "Element") -> int: ...
-    def internal(self, element: "Element", label: str) -> int: ...
+    def branch(self, element: Element) -> int: ...
+    def internal(self, element: Element, label: str) -> int: ...
     def g(self, row: int, col: int, value: float) -> None: ...
     def c(self, row: int, col: int, value: float) -> None: ...
-    def admittances(self, matrix: str, a: "np.ndarray", b: "np.ndarray", y: "np.ndarray") -> None: ...
-    def element(self, name: str) -> "Element": ...
+    def admittances(self, matrix: str, a: np.ndarray, b: np.ndarray, y: np.ndarray) -> None: ...
+    def element(self, name: str) -> Element: ...
     def fail(self, message: str) -> Exception: ...
 
 
@@ -61,7 +62,7 @@ class SolutionView(Protocol):
     """A solution vector seen by node and element (DC operating point)."""
 
     def v(self, node: str) -> float: ...
-    def branch_current(self, element: "Element | str") -> float: ...
+    def branch_current(self, element: Element | str) -> float: ...
 
 
 class NoiseView(Protocol):
@@ -70,8 +71,8 @@ class NoiseView(Protocol):
     temperature_K: float  # the analysis temperature
 
     def node(self, name: str) -> int: ...
-    def branch(self, element: "Element") -> int: ...
-    def internal(self, element: "Element", label: str) -> int: ...
+    def branch(self, element: Element) -> int: ...
+    def internal(self, element: Element, label: str) -> int: ...
     def current_between(self, a: str, b: str) -> tuple[tuple[int, float], ...]: ...
     def dc_voltage(self, a: str, b: str) -> float: ...
 
@@ -109,11 +110,11 @@ class Element:
 
     # ---- netlist form
     @classmethod
-    def parse(cls, line: "LineReader") -> Any:
+    def parse(cls, line: LineReader) -> Any:
         raise NotImplementedError(f"{cls.__name__} has no netlist form")
 
     @classmethod
-    def build(cls, statement: Any, ctx: BuildContext) -> "Element":
+    def build(cls, statement: Any, ctx: BuildContext) -> Element:
         raise NotImplementedError(f"{cls.__name__} cannot be built from a statement")
 
     # ---- structure
@@ -141,7 +142,7 @@ class Element:
         """Raise CircuitError for a value the engine cannot compute with correctly."""
 
     @classmethod
-    def check_all(cls, elements: "Iterable[Element]", circuit: Any) -> None:
+    def check_all(cls, elements: Iterable[Element], circuit: Any) -> None:
         """Checks of all the elements of this kind together (``circuit`` for their neighbours)."""
         for element in elements:
             element.check_values()
@@ -151,14 +152,14 @@ class Element:
         pass
 
     @classmethod
-    def stamp_all(cls, elements: "Iterable[Element]", s: Stamper) -> None:
+    def stamp_all(cls, elements: Iterable[Element], s: Stamper) -> None:
         for element in elements:
             element.stamp(s)
 
-    def stamp_dc(self, s: Stamper, b: "np.ndarray") -> None:
+    def stamp_dc(self, s: Stamper, b: np.ndarray) -> None:
         """Add this element's DC excitation to ``b``."""
 
-    def excitation(self, s: Stamper, b: "np.ndarray") -> str | None:
+    def excitation(self, s: Stamper, b: np.ndarray) -> str | None:
         """Add a unit small-signal excitation to ``b`` and return its unit
         ("V" or "A"), or None for an element that cannot be an input."""
         return None
@@ -173,11 +174,11 @@ class Element:
         return None
 
     # ---- noise
-    def noise_sources(self, n: NoiseView) -> "Iterator[NoiseSource]":
+    def noise_sources(self, n: NoiseView) -> Iterator[NoiseSource]:
         return iter(())
 
     # ---- values
-    def with_value(self, value: float) -> "Element":
+    def with_value(self, value: float) -> Element:
         """A copy with its primary value replaced (ValueError if it has none)."""
         if self.value_field is None:
             raise ValueError(f"{self.name} has no value that can be changed")
@@ -223,7 +224,7 @@ def value_nodes(ctx: BuildContext, statement: Any) -> tuple[str, str]:
     return (ctx.node(statement.nodes[0]), ctx.node(statement.nodes[1]))
 
 
-def current_into(s: Any, b: "np.ndarray", nodes: tuple[str, str], amount: float) -> None:
+def current_into(s: Any, b: np.ndarray, nodes: tuple[str, str], amount: float) -> None:
     """A current ``amount`` flowing from ``nodes[0]`` through the element to
     ``nodes[1]``, as a right-hand side: it leaves node 0 and enters node 1."""
     first, second = (s.node(x) for x in nodes)

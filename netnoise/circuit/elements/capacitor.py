@@ -10,7 +10,7 @@ from typing import ClassVar
 
 import numpy as np
 
-from netnoise.circuit.elements.base import BuildContext, Passive, TwoTerminal, value_nodes, refuse_negative_reactance
+from netnoise.circuit.elements.base import BuildContext, Passive, TwoTerminal, refuse_negative_reactance, value_nodes
 from netnoise.text.fields import LineReader
 
 __all__ = ["Capacitor"]
@@ -38,7 +38,7 @@ class Capacitor(TwoTerminal):
         return Passive("C", line.name, nodes, value, line.loc, kind=cls)
 
     @classmethod
-    def build(cls, statement: Passive, ctx: BuildContext) -> "Capacitor":
+    def build(cls, statement: Passive, ctx: BuildContext) -> Capacitor:
         return cls(ctx.name, value_nodes(ctx, statement), ctx.loc, capacitance=ctx.number(statement.value))
 
     @classmethod

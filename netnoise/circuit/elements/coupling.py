@@ -13,8 +13,8 @@ import numpy as np
 
 from netnoise.circuit.elements.base import BuildContext, Element
 from netnoise.errors import SourceLocation
-from netnoise.text.values import exact
 from netnoise.text.fields import LineReader, Value, Word
+from netnoise.text.values import exact
 
 __all__ = ["MutualCoupling", "Coupling"]
 
@@ -50,7 +50,7 @@ class MutualCoupling(Element):
         return Coupling(line.name, inductors, value, line.loc, kind=cls)
 
     @classmethod
-    def build(cls, statement: Coupling, ctx: BuildContext) -> "MutualCoupling":
+    def build(cls, statement: Coupling, ctx: BuildContext) -> MutualCoupling:
         from netnoise.circuit.elements.inductor import Inductor
 
         k = ctx.number(statement.value)

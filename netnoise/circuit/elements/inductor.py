@@ -15,8 +15,8 @@ from netnoise.circuit.elements.base import (
     Passive,
     TwoTerminal,
     branch_kcl,
-    value_nodes,
     refuse_negative_reactance,
+    value_nodes,
 )
 from netnoise.text.fields import LineReader
 
@@ -46,7 +46,7 @@ class Inductor(TwoTerminal):
         return Passive("L", line.name, nodes, value, line.loc, kind=cls)
 
     @classmethod
-    def build(cls, statement: Passive, ctx: BuildContext) -> "Inductor":
+    def build(cls, statement: Passive, ctx: BuildContext) -> Inductor:
         return cls(ctx.name, value_nodes(ctx, statement), ctx.loc, inductance=ctx.number(statement.value))
 
     def dc_paths(self) -> tuple[tuple[str, str], ...]:

@@ -13,10 +13,11 @@ temperature (Johnson 1928; Nyquist 1928).  At DC the part is open.
 
 from __future__ import annotations
 
+from collections.abc import Iterator
 from dataclasses import dataclass, field
-from typing import Any, ClassVar, Iterator
+from typing import Any, ClassVar
 
-from netnoise.circuit.elements.base import BuildContext, TwoTerminal, value_nodes, refuse_negative_reactance
+from netnoise.circuit.elements.base import BuildContext, TwoTerminal, refuse_negative_reactance, value_nodes
 from netnoise.errors import SourceLocation
 from netnoise.noise.mechanisms import THERMAL, NoiseSource, thermal_current_density
 from netnoise.text.fields import Keyed, LineReader, Value, Word
@@ -64,7 +65,7 @@ class LossyCapacitor(TwoTerminal):
         return LossyCapacitorLine(line.name, nodes, value, esr, line.loc, kind=cls)
 
     @classmethod
-    def build(cls, statement: LossyCapacitorLine, ctx: BuildContext) -> "LossyCapacitor":
+    def build(cls, statement: LossyCapacitorLine, ctx: BuildContext) -> LossyCapacitor:
         esr = ctx.number(statement.esr)
         if not esr > 0:
             raise ctx.fail(

@@ -6,10 +6,10 @@ Stamp: G[a,a] += 1/R, G[b,b] += 1/R, G[a,b] -= 1/R, G[b,a] -= 1/R.
 
 from __future__ import annotations
 
-from dataclasses import dataclass
-from typing import ClassVar, Iterator
-
 import math
+from collections.abc import Iterator
+from dataclasses import dataclass
+from typing import ClassVar
 
 import numpy as np
 
@@ -88,7 +88,7 @@ class Resistor(TwoTerminal):
         return Passive("R", line.name, nodes, value, line.loc, noiseless, temperature, noise_index, kind=cls)
 
     @classmethod
-    def build(cls, statement: Passive, ctx: BuildContext) -> "Resistor":
+    def build(cls, statement: Passive, ctx: BuildContext) -> Resistor:
         nodes = value_nodes(ctx, statement)
         value = ctx.number(statement.value)
         if statement.value.number is not None and value < 1.0:

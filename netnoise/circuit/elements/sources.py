@@ -12,15 +12,16 @@ v_a - v_b = V.  I has only a right-hand side: positive current flows from
 
 from __future__ import annotations
 
+from collections.abc import Iterator
 from dataclasses import dataclass, field
-from typing import Any, ClassVar, Iterator
+from typing import Any, ClassVar
 
 from netnoise.circuit.elements.base import BuildContext, TwoTerminal, branch_kcl, current_into, value_nodes
 from netnoise.errors import SourceLocation
 from netnoise.noise.mechanisms import SHOT, SOURCE, NoiseSource, power_density, shot_current_density
-from netnoise.text.values import exact
 from netnoise.text.fields import Call, Keyed, LineReader, Value, Word, is_value
 from netnoise.text.source import fail
+from netnoise.text.values import exact
 
 __all__ = ["NoiseSpec", "VoltageSource", "CurrentSource", "IndependentSource"]
 
@@ -233,7 +234,7 @@ class VoltageSource(TwoTerminal):
         return _parse_source(cls, line)
 
     @classmethod
-    def build(cls, statement: IndependentSource, ctx: BuildContext) -> "VoltageSource":
+    def build(cls, statement: IndependentSource, ctx: BuildContext) -> VoltageSource:
         return cls(ctx.name, value_nodes(ctx, statement), ctx.loc, **_build_fields(cls, statement, ctx))
 
     def dc_paths(self) -> tuple[tuple[str, str], ...]:
@@ -289,7 +290,7 @@ class CurrentSource(TwoTerminal):
         return _parse_source(cls, line)
 
     @classmethod
-    def build(cls, statement: IndependentSource, ctx: BuildContext) -> "CurrentSource":
+    def build(cls, statement: IndependentSource, ctx: BuildContext) -> CurrentSource:
         return cls(
             ctx.name, value_nodes(ctx, statement), ctx.loc, shot=statement.shot, **_build_fields(cls, statement, ctx)
         )
