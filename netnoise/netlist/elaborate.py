@@ -119,6 +119,9 @@ class _Scope:
     params: dict[str, float] = field(default_factory=dict)
     param_origin: dict[str, SourceLocation] = field(default_factory=dict)
     overridden: set[str] = field(default_factory=set)  # parameters set on the instance's X line
+    # shared by every scope of one elaboration: node names written at the top level with a dot,
+    # and the internal nodes instances made, so a top-level 'x1.mid' cannot join X1's 'mid' unseen
+    names: _NodeNames = field(default_factory=lambda: _NodeNames())
 
     def visible(self) -> dict[str, float]:
         chain: list[_Scope] = []
@@ -137,7 +140,29 @@ class _Scope:
             return c.GROUND
         if key in self.pin_map:
             return self.pin_map[key]
+        if self.node_prefix:
+            self.names.internal.add(self.node_prefix + key)
+        elif "." in key:
+            self.names.top_dotted.setdefault(key, word)
         return self.node_prefix + key
+
+
+@dataclass
+class _NodeNames:
+    top_dotted: dict[str, Word] = field(default_factory=dict)
+    internal: set[str] = field(default_factory=set)
+
+    def check(self) -> None:
+        """Refuse a top-level node spelled like a subcircuit's internal node: it would join it."""
+        for key, word in self.top_dotted.items():
+            if key in self.internal:
+                instance, inner = key.rsplit(".", 1)
+                raise _fail(
+                    f"the top-level node '{word.text}' is spelled like node '{inner}' inside instance "
+                    f"{instance.upper()}, and would join it unseen",
+                    word.loc,
+                    "rename the top-level node (a dot in a top-level name is read as a path into an instance)",
+                )
 
 
 @dataclass
@@ -373,6 +398,7 @@ class _Elaborator:
             name + ".",
             name.lower() + ".",
             {pin.text.lower(): scope.node(node) for pin, node in zip(definition.pins, statement.nodes)},
+            names=scope.names,
         )
         declared = {a.name.lower(): a for a in definition.defaults}
         overrides: dict[str, Assignment] = {}
@@ -555,6 +581,7 @@ def _flat_circuit(parsed: ParsedFile, top: Definition, source_file: str, overrid
     engine = _Elaborator(notices, overrides)
     scope = _Scope(top, None, "", "", {})
     engine.expand(scope)
+    scope.names.check()
     engine.resolve()
     if not engine.elements:
         raise _no_elements(parsed)

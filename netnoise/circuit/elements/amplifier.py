@@ -120,6 +120,14 @@ class OpAmp(Element):
                 raise ctx.fail(f"{name}: {key} ({what}) cannot be negative ({exact(number)})", value.loc)
             fields[field_name] = number
         model = OpAmpModel(name=model_name, **fields)
+        defaulted = [key for key in ("aol", "gbw") if key not in values]
+        if defaulted:
+            given = {"aol": f"aol={model.open_loop_gain:g}", "gbw": f"gbw={model.gain_bandwidth_Hz:g} Hz"}
+            ctx.notice(
+                f"{name}: model {model_name} gives no {' or '.join(defaulted)}; the defaults "
+                f"{', '.join(given[k] for k in defaulted)} are used, and they set the amplifier's bandwidth "
+                "and so the noise bandwidth: give the part's values"
+            )
         nodes = (ctx.node(statement.nodes[0]), ctx.node(statement.nodes[1]), ctx.node(statement.nodes[2]))
         return cls(name, nodes, model, ctx.loc)
 

@@ -291,9 +291,13 @@ class CurrentSource(TwoTerminal):
 
     @classmethod
     def build(cls, statement: IndependentSource, ctx: BuildContext) -> CurrentSource:
-        return cls(
-            ctx.name, value_nodes(ctx, statement), ctx.loc, shot=statement.shot, **_build_fields(cls, statement, ctx)
-        )
+        fields = _build_fields(cls, statement, ctx)
+        if statement.shot and fields["dc"] == 0.0:
+            ctx.notice(
+                f"{ctx.name}: 'shot' marks a junction current, but its DC current is 0 A, so its shot noise "
+                "2q|I| is zero: give the junction's DC current (the value after the nodes)"
+            )
+        return cls(ctx.name, value_nodes(ctx, statement), ctx.loc, shot=statement.shot, **fields)
 
     def stamp_dc(self, s, b) -> None:
         current_into(s, b, self.nodes, self.dc)
