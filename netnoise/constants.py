@@ -13,6 +13,7 @@ __all__ = [
     "T0_KELVIN",
     "DEFAULT_TEMPERATURE_C",
     "NOMINAL_TEMPERATURE_C",
+    "MAX_TEMPERATURE_C",
     "GROUND",
     "GROUND_ALIASES",
     "canonical_node",
@@ -28,6 +29,11 @@ ABSOLUTE_ZERO_C = -ZERO_CELSIUS_K  # °C
 T0_KELVIN = 290.0  # K, the standard reference temperature of noise figure (IEEE definition of noise figure; Friis 1944)
 DEFAULT_TEMPERATURE_C = 27.0  # °C (300.15 K), the trade's customary analysis temperature (common practice)
 NOMINAL_TEMPERATURE_C = 27.0  # °C, the temperature at which element values are stated (common practice)
+
+# °C: the highest temperature accepted.  Far above anything electronics meets (solder melts near
+# 200 °C, silicon near 1400 °C); beyond it 4kT and its products with squared transfers approach the
+# top of the doubles, and a figure there means a typing slip, not a circuit
+MAX_TEMPERATURE_C = 1e5
 
 GROUND = "0"  # the canonical name of the reference node
 GROUND_ALIASES = frozenset({"0", "gnd"})  # compared lower-cased

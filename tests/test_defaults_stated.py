@@ -34,3 +34,15 @@ def test_a_top_level_node_spelled_like_an_internal_one_is_refused():
     assert info.value.location.line == 8  # R3, the line after the title and the six before it
     fine = text.replace("R3 x1.mid 0 1k", "R3 x1_mid 0 1k")
     assert len(netnoise.parse_netlist(fine).elements) == 5  # V1, X1.R1, X1.R2, R3, R4
+
+
+@pytest.mark.parametrize("temperature", [1e300, 2e5])
+def test_a_temperature_beyond_any_circuits_is_refused(temperature):
+    from netnoise.errors import UsageError
+
+    with pytest.raises(UsageError, match="beyond any circuit"):
+        netnoise.analyze(
+            netnoise.parse_netlist("rc\nR1 a 0 1k\nC1 a 0 1n\n"), output="a", temperature_celsius=temperature
+        )
+    with pytest.raises(NetlistError, match="beyond any part"):
+        netnoise.parse_netlist(f"rc\nR1 a 0 1k temp={temperature!r}\nC1 a 0 1n\n")

@@ -25,7 +25,7 @@ import numpy as np
 
 from netnoise import circuit as ck
 from netnoise.circuit.topology import check_element_values, check_topology
-from netnoise.constants import DEFAULT_TEMPERATURE_C, T0_KELVIN, ZERO_CELSIUS_K, canonical_node
+from netnoise.constants import DEFAULT_TEMPERATURE_C, MAX_TEMPERATURE_C, T0_KELVIN, ZERO_CELSIUS_K, canonical_node
 from netnoise.engformat import format_quantity
 from netnoise.engine.integrate import integrate_band
 from netnoise.engine.mna import MnaSystem, assemble
@@ -138,6 +138,11 @@ def _resolve(circuit, output, reference, input_source, band, points_per_decade, 
     temperature_K = float(temperature_celsius) + ZERO_CELSIUS_K
     if not temperature_K > 0 or not math.isfinite(temperature_K):
         raise UsageError(f"temperature {temperature_celsius:g} °C is below absolute zero (-273.15 °C)")
+    if temperature_celsius > MAX_TEMPERATURE_C:
+        raise UsageError(
+            f"temperature {temperature_celsius:g} °C is above {MAX_TEMPERATURE_C:g} °C, beyond any circuit's: "
+            "give the temperature in degrees Celsius"
+        )
     return _Settings(
         output,
         reference,

@@ -15,7 +15,7 @@ import numpy as np
 
 from netnoise.circuit.elements.base import BuildContext, NoiseView, Passive, SolutionView, TwoTerminal, value_nodes
 from netnoise.circuit.limits import RESISTANCE_RANGE
-from netnoise.constants import ABSOLUTE_ZERO_C, ZERO_CELSIUS_K
+from netnoise.constants import ABSOLUTE_ZERO_C, MAX_TEMPERATURE_C, ZERO_CELSIUS_K
 from netnoise.errors import CircuitError
 from netnoise.noise.mechanisms import (
     EXCESS,
@@ -101,6 +101,12 @@ class Resistor(TwoTerminal):
             if temperature <= ABSOLUTE_ZERO_C:
                 raise ctx.fail(
                     f"{ctx.name}: temp={exact(temperature)} °C is at or below absolute zero (-273.15 °C)",
+                    statement.temperature.loc,
+                    "temp= is the resistor's own temperature in degrees Celsius",
+                )
+            if temperature > MAX_TEMPERATURE_C:
+                raise ctx.fail(
+                    f"{ctx.name}: temp={exact(temperature)} °C is above {MAX_TEMPERATURE_C:g} °C, beyond any part's",
                     statement.temperature.loc,
                     "temp= is the resistor's own temperature in degrees Celsius",
                 )
