@@ -89,7 +89,7 @@ class StepResponse:
         if self.final == 0.0:
             return 0.0
         beyond = (self.output - self.final) / self.final
-        return max(0.0, float(beyond.max()))
+        return max(0.0, float(np.max(beyond)))
 
     def settling_time_s(self, accuracy: float) -> float:
         """The time after which the output stays within ``accuracy`` × |final|

@@ -164,7 +164,7 @@ def noise_sensitivities(prepared: PreparedAnalysis) -> tuple[list[Element], np.n
     if math.isinf(high):
         poles = problem.poles_Hz()
         positive = poles[poles > 0] if poles is not None else np.zeros(0)
-        top = float(positive.max()) * _TOP_FACTOR if positive.size else 1e9
+        top = float(np.max(positive)) * _TOP_FACTOR if positive.size else 1e9
         start = max(low, 0.0)
         band = integrate_band(
             rows,
@@ -172,7 +172,7 @@ def noise_sensitivities(prepared: PreparedAnalysis) -> tuple[list[Element], np.n
             top,
             points_per_decade=settings.points_per_decade,
             groups=[slice(0, 1)],
-            linear_below=(float(positive.min()) / 100 if positive.size else None) if start == 0 else None,
+            linear_below=(float(np.min(positive)) / 100 if positive.size else None) if start == 0 else None,
         )
         values = band.values + top * rows(np.array([top]))[:, 0]  # the tail beyond top, as 1/f²
     else:
