@@ -143,7 +143,7 @@ def run(args: argparse.Namespace) -> int:
 
     from netnoise.outputs.export import atomic_write
     from netnoise.outputs.montecarlo_text import format_montecarlo_report, montecarlo_to_csv, montecarlo_to_json
-    from netnoise.outputs.trial_progress import TrialProgress
+    from netnoise.outputs.progress import ProgressLine
     from netnoise.studies.montecarlo import montecarlo
 
     client = None
@@ -151,7 +151,7 @@ def run(args: argparse.Namespace) -> int:
         from netnoise.studies.execution import connect
 
         client = connect(args.cluster)
-    progress = TrialProgress(sys.stderr, args.trials)
+    progress = ProgressLine(sys.stderr, unit="trials", total=args.trials)
     try:
         with cli._numeric_warnings_refused():  # numbers from an overflow are never printed
             result = montecarlo(

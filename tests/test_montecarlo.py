@@ -411,7 +411,7 @@ def test_plots_draw_the_trials_and_mark_the_target():
 
 
 def test_trial_progress_is_shown_on_a_terminal_only():
-    from netnoise.outputs.trial_progress import TrialProgress
+    from netnoise.outputs.progress import ProgressLine
 
     class Terminal(list):
         def isatty(self):
@@ -425,7 +425,7 @@ def test_trial_progress_is_shown_on_a_terminal_only():
 
     times = iter([0.0, 2.0, 2.1, 3.0])
     shown = Terminal()
-    progress = TrialProgress(shown, 100, clock=lambda: next(times))
+    progress = ProgressLine(shown, unit="trials", total=100, clock=lambda: next(times))
     progress(25)  # at 2 s: 25 of 100 done, 6 s left at that pace
     progress(5)  # 0.1 s later: too soon to redraw
     assert shown == ["\rnetnoise: 25 of 100 trials, about 6 s left"]
@@ -437,7 +437,7 @@ def test_trial_progress_is_shown_on_a_terminal_only():
             return False
 
     quiet = File()
-    silent = TrialProgress(quiet, 10, clock=iter([0.0, 5.0]).__next__)
+    silent = ProgressLine(quiet, unit="trials", total=10, clock=iter([0.0, 5.0]).__next__)
     silent(10)
     assert quiet == []
 

@@ -1,4 +1,4 @@
-"""A one-line count of solved frequencies (or sweep points) on the terminal, for long runs.
+"""A one-line count of solved frequencies (or sweep points, or Monte Carlo trials) on the terminal, for long runs.
 
 A 100,000-node network takes a minute or more; without a sign of life a
 user cannot tell a slow run from a stuck one.  :class:`ProgressLine` is
@@ -26,12 +26,14 @@ class ProgressLine:
         stream: TextIO,
         *,
         unit: str = "frequencies",
+        total: int | None = None,
         delay_s: float = 1.0,
         interval_s: float = 0.25,
         clock: Callable[[], float] = time.monotonic,
     ) -> None:
         self.stream = stream
         self.unit = unit
+        self.total = total
         self.enabled = bool(getattr(stream, "isatty", lambda: False)())
         self.delay_s = delay_s
         self.interval_s = interval_s
@@ -42,8 +44,9 @@ class ProgressLine:
         self._width = 0  # characters now on the line
 
     def __call__(self, count: int, total: int | None = None) -> None:
-        """``count`` more done; with ``total`` (all there are), the time left is estimated."""
+        """``count`` more done; with a total (here or at construction), the time left is estimated."""
         self.solved += count
+        total = total if total is not None else self.total
         if not self.enabled:
             return
         now = self.clock()
@@ -52,8 +55,9 @@ class ProgressLine:
         self._last = now
         elapsed = now - self._start
         if total:
-            left = elapsed / max(self.solved, 1) * max(total - self.solved, 0)
-            text = f"netnoise: {self.solved} of {total} {self.unit} done, about {left:.0f} s left"
+            text = f"netnoise: {self.solved} of {total} {self.unit}"
+            if 0 < self.solved < total:
+                text += f", about {elapsed * (total - self.solved) / self.solved:.0f} s left"
         else:
             text = f"netnoise: {self.solved} {self.unit} solved, {elapsed:.0f} s"
         self.stream.write("\r" + text.ljust(self._width))
