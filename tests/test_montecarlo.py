@@ -458,3 +458,33 @@ def test_importing_netnoise_loads_neither_matplotlib_nor_dask():
     )
     assert completed.returncode == 0, completed.stderr
     assert completed.stdout.strip() == "[]"
+
+
+# --- a tolerance written on the element line ------------------------------------------
+def test_a_tolerance_written_on_the_line_is_drawn_and_a_given_one_overrides_it():
+    text = "an RC node with its parts' tolerances\nR1 n1 0 10k tolerance=1%\nC1 n1 0 1n tolerance=50%\n.end\n"
+    circuit = netnoise.parse_netlist(text)
+    assert circuit.tolerances == {"R1": 0.01, "C1": 0.5}
+    result = netnoise.montecarlo(circuit, trials=1000, seed=11, output="n1", keep_density=False)
+    assert set(result.targets) == {"R1", "C1"}
+    c = result.values[:, list(result.targets).index("C1")]
+    assert c.min() >= 0.5e-9 and c.max() <= 1.5e-9 and np.ptp(c) > 0.9e-9  # uniform within ±50 %
+    # equipartition: each trial's total is kT/C of its own C (kT/C whatever R)
+    np.testing.assert_allclose(result.total_variance, K_B * T_DEFAULT / c, rtol=1e-9)
+    tight = netnoise.montecarlo(circuit, trials=200, tolerances={"C1": 0.0}, seed=11, output="n1", keep_density=False)
+    assert tight.std / tight.mean < 1e-9  # the given 0 % replaced the line's 50 %
+
+
+@pytest.mark.parametrize(
+    "line, fragment",
+    [
+        ("R1 n1 0 10k tolerance=1", "takes a percentage"),
+        ("R1 n1 0 10k tolerance=abc%", "cannot read 'abc%'"),
+        ("R1 n1 0 10k tolerance=150%", "below 100 %"),
+        ("R1 n1 0 10k tolerance=1% tolerance=2%", "two tolerance= values"),
+    ],
+)
+def test_bad_line_tolerances_are_refused_with_their_place(line, fragment):
+    with pytest.raises(netnoise.NetlistError) as info:
+        netnoise.parse_netlist(f"t\n{line}\nC1 n1 0 1n\n")
+    assert fragment in str(info.value) and info.value.location.line == 2

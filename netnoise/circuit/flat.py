@@ -118,6 +118,7 @@ class Circuit:
 
     ``parameters``: the top-level ``.param`` values (lower-case names).
     ``value_origins``: name_key(element) -> :class:`ValueOrigin` of its primary value.
+    ``tolerances``: element name -> the tolerance its line gives (``tolerance=1%``: 0.01).
     """
 
     title: str
@@ -130,6 +131,7 @@ class Circuit:
     parameters: Mapping[str, float] = field(default_factory=dict, compare=False)
     value_origins: Mapping[str, ValueOrigin] = field(default_factory=dict, compare=False, repr=False)
     rebuild: Callable[[Mapping[str, float]], Circuit] | None = field(default=None, compare=False, repr=False)
+    tolerances: Mapping[str, float] = field(default_factory=dict, compare=False)  # element -> tolerance=, a fraction
 
     @cached_property
     def _index(self) -> dict[str, int]:

@@ -62,6 +62,7 @@ from netnoise.netlist.statements import (
     Statement,
     Sweep,
     TempCard,
+    Toleranced,
     Value,
     Word,
 )
@@ -230,6 +231,7 @@ class _Elaborator:
     def __init__(self, notices: list[str], param_overrides: dict[str, float] | None = None) -> None:
         self.param_overrides = param_overrides or {}
         self.origins: dict[str, c.ValueOrigin] = {}
+        self.tolerances: dict[str, float] = {}  # element name -> tolerance=, as a fraction
         self.elements: list[c.Element] = []
         self.by_key: dict[str, tuple[c.Element, SourceLocation]] = {}
         self.pending: list[_Pending] = []
@@ -299,6 +301,9 @@ class _Elaborator:
                 self.element(statement, scope)
 
     def element(self, statement: Any, scope: _Scope) -> None:
+        if isinstance(statement, Toleranced):  # the line's tolerance, kept for Monte Carlo studies
+            self.tolerances[scope.element_prefix + statement.statement.name] = statement.fraction
+            statement = statement.statement
         kind = statement.kind  # an element line's statement names the kind that builds it
         name = scope.element_prefix + statement.name
         ctx = _BuildContext(self, scope, name, statement.loc)
@@ -618,5 +623,6 @@ def _flat_circuit(parsed: ParsedFile, top: Definition, source_file: str, overrid
         source_file=source_file,
         parameters=dict(scope.params),
         value_origins=engine.origins,
+        tolerances=engine.tolerances,
         rebuild=rebuild,
     )

@@ -31,6 +31,7 @@ from netnoise.netlist.statements import (
     SubcktCard,
     Sweep,
     TempCard,
+    Toleranced,
 )
 from netnoise.text.fields import (
     Call,
@@ -113,8 +114,35 @@ def _element_statement(name_word: Word, items: list[Field]) -> Statement:
     letter = name_word.text[0].upper()
     if letter == "X":
         return _instance(LineReader(name_word, items, X_FORM))
+    marks = [item for item in items if isinstance(item, Keyed) and item.key.lower() == TOLERANCE_KEY]
+    if marks:
+        items = [item for item in items if item not in marks]
     line = LineReader(name_word, items, forms(letter))
-    return kind_for_line(letter, line.has_key).parse(line)
+    statement = kind_for_line(letter, line.has_key).parse(line)
+    if not marks:
+        return statement
+    if len(marks) > 1:
+        raise _fail(f"{name_word.text} has two {TOLERANCE_KEY}= values", marks[1].loc)
+    return Toleranced(statement, _tolerance(marks[0], name_word.text), marks[0].loc)
+
+
+# an element's tolerance for Monte Carlo studies: `R1 a b 10k tolerance=1%`
+TOLERANCE_KEY = "tolerance"
+
+
+def _tolerance(item: Keyed, owner: str) -> float:
+    """``tolerance=1%`` as a fraction (0.01), from 0 % to below 100 %."""
+    text = item.value.text if isinstance(item.value, Word) else ""
+    hint = f"write the tolerance as a percentage: {TOLERANCE_KEY}=1%"
+    if not text.endswith("%"):
+        raise _fail(f"{owner}: {TOLERANCE_KEY}= takes a percentage, not {describe(item.value)}", item.loc, hint)
+    try:
+        fraction = float(text[:-1]) / 100.0
+    except ValueError:
+        raise _fail(f"{owner}: cannot read '{shown(text)}' as a percentage", item.loc, hint) from None
+    if not 0.0 <= fraction < 1.0:
+        raise _fail(f"{owner}: a tolerance must be from 0 % to below 100 %, not {shown(text)}", item.loc, hint)
+    return fraction
 
 
 def _instance(line: LineReader) -> Instance:

@@ -37,6 +37,7 @@ __all__ = [
     "OptionsCard",
     "Statement",
     "ParsedFile",
+    "Toleranced",
 ]
 
 
@@ -142,6 +143,16 @@ Statement = Union[
     NoiseCard,
     OptionsCard,
 ]
+
+
+@dataclass(frozen=True)
+class Toleranced:
+    """An element line with ``tolerance=PCT%``: the line's own statement, and the
+    tolerance of its value as a fraction (0.01 for 1 %), for Monte Carlo studies."""
+
+    statement: Statement
+    fraction: float
+    loc: SourceLocation = field(compare=False)
 
 
 @dataclass(frozen=True)

@@ -114,6 +114,13 @@ def _as_tolerances(tolerances) -> tuple[Tolerance, ...]:
     return tuple(out)
 
 
+def _netlist_tolerances(circuit: ck.Circuit) -> tuple[Tolerance, ...]:
+    """The tolerances written on element lines (``tolerance=1%``), each for its element alone."""
+    import glob
+
+    return tuple(Tolerance(glob.escape(name), fraction) for name, fraction in circuit.tolerances.items())
+
+
 @dataclass(frozen=True)
 class _Targets:
     names: tuple[str, ...]  # element names as the circuit spells them, then .param names
@@ -668,7 +675,8 @@ def montecarlo(
         options=options,
     )
     nominal = prepared.analyze()
-    targets = _match(circuit, _as_tolerances(tolerances))
+    tolerances = _netlist_tolerances(circuit) + _as_tolerances(tolerances)  # the netlist's first: a later one wins
+    targets = _match(circuit, tolerances)
     values, temperature = _draw(targets, trials, seed, distribution, range_K, prepared._problem.settings.temperature_K)
 
     if keep_density:
