@@ -302,8 +302,9 @@ class _Elaborator:
 
     def element(self, statement: Any, scope: _Scope) -> None:
         if isinstance(statement, Toleranced):  # the line's tolerance, kept for Monte Carlo studies
-            self.tolerances[scope.element_prefix + statement.statement.name] = statement.fraction
-            statement = statement.statement
+            inner: Any = statement.statement
+            self.tolerances[scope.element_prefix + inner.name] = statement.fraction
+            statement = inner
         kind = statement.kind  # an element line's statement names the kind that builds it
         name = scope.element_prefix + statement.name
         ctx = _BuildContext(self, scope, name, statement.loc)

@@ -125,7 +125,18 @@ class OptionsCard:
     loc: SourceLocation = field(compare=False)
 
 
+@dataclass(frozen=True)
+class Toleranced:
+    """An element line with ``tolerance=PCT%``: the line's own statement, and the
+    tolerance of its value as a fraction (0.01 for 1 %), for Monte Carlo studies."""
+
+    statement: Statement
+    fraction: float
+    loc: SourceLocation = field(compare=False)
+
+
 Statement = Union[
+    Toleranced,
     ModelCard,
     LossyCapacitorLine,
     Passive,
@@ -143,16 +154,6 @@ Statement = Union[
     NoiseCard,
     OptionsCard,
 ]
-
-
-@dataclass(frozen=True)
-class Toleranced:
-    """An element line with ``tolerance=PCT%``: the line's own statement, and the
-    tolerance of its value as a fraction (0.01 for 1 %), for Monte Carlo studies."""
-
-    statement: Statement
-    fraction: float
-    loc: SourceLocation = field(compare=False)
 
 
 @dataclass(frozen=True)
