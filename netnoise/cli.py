@@ -4,8 +4,9 @@
 
     netnoise analyze NETLIST [--out NODE] [--ref NODE] [--input SOURCE]
                              [--band LOW HIGH] [--points N] [--temp CELSIUS]
-                             [--source-resistor NAME] [--signal RMS [--signal-at input|output]]
-                             [--adc BITS RANGE RATE] [--group element|mechanism] [--dc]
+                             [--source-resistor NAME] [--gain-at FREQ]
+                             [--signal RMS [--signal-at input|output]] [--adc BITS RANGE RATE]
+                             [--group element|mechanism] [--dc]
                              [--json PATH|-] [--csv PATH] [--plot PATH]... [--plot-input-referred]
                              [--html PATH] [--top N]
     netnoise --version
@@ -163,6 +164,12 @@ def build_parser() -> argparse.ArgumentParser:
         help="resistor the noise figure is referred to (its noise taken at 290 K, IEEE definition)",
     )
     merit.add_argument(
+        "--gain-at",
+        metavar="FREQ",
+        help="refer the noise to the input with the signal gain at FREQ Hz (suffixes allowed: 1k); "
+        "default: the pass band's gain (DC for a path that passes DC, else the band's geometric centre)",
+    )
+    merit.add_argument(
         "--signal",
         metavar="RMS",
         help="signal rms (V, or A for a current input source; suffixes allowed: 10m) for the SNR",
@@ -283,18 +290,21 @@ def _add_sweep_command(commands) -> None:
 
 # --- option values --------------------------------------------------------
 def _frequency(text: str, which: str, *, allow_infinite: bool) -> float:
+    """A frequency in Hz read from an option; ``which`` names it in messages ("--band LOW")."""
     if text.strip().lower() in _INFINITY_WORDS:
         if allow_infinite:
             return math.inf
-        raise UsageError(f"--band {which} must be finite, got '{text}'")
+        raise UsageError(f"{which} must be finite, got '{text}'")
     from netnoise.text.values import parse_value
 
     try:
         value = float(parse_value(text))
     except ValueError as error:
-        raise UsageError(f"--band {which}: cannot read '{text}' as a frequency ({error})") from None
+        raise UsageError(f"{which}: cannot read '{text}' as a frequency ({error})") from None
     if math.isnan(value) or (math.isinf(value) and not allow_infinite):
-        raise UsageError(f"--band {which} must be a finite number of hertz, got '{text}'")
+        raise UsageError(f"{which} must be a finite number of hertz, got '{text}'")
+    if value < 0.0:
+        raise UsageError(f"{which} must be 0 Hz or more, got '{text}'")
     return value
 
 
@@ -302,10 +312,8 @@ def parse_band(pair: Sequence[str] | None) -> tuple[float, float] | None:
     """``--band LOW HIGH`` as (low, high) in Hz; high may be ``math.inf``."""
     if pair is None:
         return None
-    low = _frequency(pair[0], "LOW", allow_infinite=False)
-    high = _frequency(pair[1], "HIGH", allow_infinite=True)
-    if low < 0:
-        raise UsageError(f"--band LOW must be 0 Hz or more, got {pair[0]}")
+    low = _frequency(pair[0], "--band LOW", allow_infinite=False)
+    high = _frequency(pair[1], "--band HIGH", allow_infinite=True)
     if not high > low:
         hint = ""
         if pair[1].rstrip().rstrip("zZ").rstrip("hH").endswith("M"):
@@ -544,6 +552,8 @@ def _engine_options(args: argparse.Namespace, band, temperature) -> dict:
     )
     if args.source_resistor is not None:  # only when asked: the noise figure costs an extra solve
         options["source_resistor"] = args.source_resistor
+    if getattr(args, "gain_at", None) is not None:
+        options["gain_at_Hz"] = _frequency(args.gain_at, "--gain-at", allow_infinite=False)
     return options
 
 

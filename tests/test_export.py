@@ -163,15 +163,24 @@ def test_csv_round_trips_through_loadtxt(tmp_path):
     header = target.read_text(encoding="utf-8").splitlines()[0].split(",")
     assert header == csv_header(result)
     # issue 15: a source column is <name>__V_per_rtHz (export.column_name)
-    assert header == ["frequency_Hz", "total_output_V_per_rtHz", "R3__V_per_rtHz", "R2__V_per_rtHz", "R1__V_per_rtHz"]
+    assert header == [
+        "frequency_Hz",
+        "total_output_V_per_rtHz",
+        "R3__V_per_rtHz",
+        "R2__V_per_rtHz",
+        "R1__V_per_rtHz",
+        "input_referred_V_per_rtHz",
+    ]
     table = np.loadtxt(target, delimiter=",", skiprows=1)
-    assert table.shape == (result.frequency_Hz.size, 2 + 3)
+    assert table.shape == (result.frequency_Hz.size, 2 + 3 + 1)
     np.testing.assert_allclose(table[:, 0], result.frequency_Hz, rtol=1e-15)
     np.testing.assert_allclose(table[:, 1], result.output_density_rt, rtol=1e-15)
     for column, k in zip(range(2, 5), (2, 1, 0)):  # rank order: R3, R2, R1
         np.testing.assert_allclose(table[:, column], np.sqrt(result.source_density[k]), rtol=1e-15)
     # the columns' powers add up to the total (densities of independent sources add in power)
-    np.testing.assert_allclose((table[:, 2:] ** 2).sum(axis=1), table[:, 1] ** 2, rtol=1e-12)
+    np.testing.assert_allclose((table[:, 2:5] ** 2).sum(axis=1), table[:, 1] ** 2, rtol=1e-12)
+    # the input-referred column is the total over |H| at each frequency
+    np.testing.assert_allclose(table[:, 5], result.output_density_rt / np.abs(result.gain), rtol=1e-12)
 
 
 def test_atomic_write_failure_leaves_nothing(tmp_path):

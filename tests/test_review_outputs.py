@@ -88,9 +88,14 @@ def test_group_reaches_the_csv_from_the_command_line(divider, tmp_path):
     assert run("analyze", divider, "--csv", by_source) == 0
     assert run("analyze", divider, "--csv", by_element, "--group", "element") == 0
     header = next(csv.reader(io.StringIO(by_source.read_text())))
-    assert sorted(header[2:]) == ["R2__V_per_rtHz", "Rc1__V_per_rtHz", "Rc1_excess__V_per_rtHz"]
+    assert sorted(header[2:]) == [
+        "R2__V_per_rtHz",
+        "Rc1__V_per_rtHz",
+        "Rc1_excess__V_per_rtHz",
+        "input_referred_V_per_rtHz",
+    ]
     rows = list(csv.reader(io.StringIO(by_element.read_text())))
-    assert sorted(rows[0][2:]) == ["R2__V_per_rtHz", "Rc1__V_per_rtHz"]
+    assert sorted(rows[0][2:]) == ["R2__V_per_rtHz", "Rc1__V_per_rtHz", "input_referred_V_per_rtHz"]
     assert rows[1][0] == "10"  # the grid's first point, written as the decade it is
     sources = np.array(list(csv.reader(io.StringIO(by_source.read_text())))[1:], dtype=float)
     elements = np.array(rows[1:], dtype=float)

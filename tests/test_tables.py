@@ -113,7 +113,12 @@ def test_csv_headers_unique_and_read_by_pandas_without_quoting():
     header = csv_header(result)
     assert len(set(header)) == len(header)
     # ranks: Xpre (in+) 75 %, X1_R2 20 %, X1.R2 5 %: the later one in rank order gets _2
-    assert header[2:] == ["Xpre_in_plus__V_per_rtHz", "X1_R2__V_per_rtHz", "X1_R2_2__V_per_rtHz"]
+    assert header[2:] == [
+        "Xpre_in_plus__V_per_rtHz",
+        "X1_R2__V_per_rtHz",
+        "X1_R2_2__V_per_rtHz",
+        "input_referred_V_per_rtHz",
+    ]
     frame = pd.read_csv(io.StringIO(text))
     assert list(frame.columns) == header
     np.testing.assert_allclose(frame["Xpre_in_plus__V_per_rtHz"], np.sqrt(result.source_density[2]), rtol=1e-15)
@@ -122,12 +127,24 @@ def test_csv_headers_unique_and_read_by_pandas_without_quoting():
 def test_group_reaches_the_csv():
     result = samples.front_end(with_noise_figure=False)
     rows = list(csv.reader(io.StringIO(to_csv(result, group_by="element"))))
-    assert rows[0] == ["frequency_Hz", "total_output_V_per_rtHz", "Rs__V_per_rtHz", "Xu1__V_per_rtHz", "R1__V_per_rtHz"]
+    assert rows[0] == [
+        "frequency_Hz",
+        "total_output_V_per_rtHz",
+        "Rs__V_per_rtHz",
+        "Xu1__V_per_rtHz",
+        "R1__V_per_rtHz",
+        "input_referred_V_per_rtHz",
+    ]
     table = np.array(rows[1:], dtype=float)
     # Xu1's column is the power sum of its two sources (uncorrelated sources add in power)
     np.testing.assert_allclose(table[:, 3] ** 2, result.source_density[1] + result.source_density[2], rtol=1e-12)
     by_mechanism = next(csv.reader(io.StringIO(to_csv(result, group_by="mechanism"))))
-    assert by_mechanism[2:] == ["thermal__V_per_rtHz", "amplifier_voltage__V_per_rtHz", "amplifier_current__V_per_rtHz"]
+    assert by_mechanism[2:] == [
+        "thermal__V_per_rtHz",
+        "amplifier_voltage__V_per_rtHz",
+        "amplifier_current__V_per_rtHz",
+        "input_referred_V_per_rtHz",
+    ]
 
 
 def test_frequencies_are_written_cleanly():

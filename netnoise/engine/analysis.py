@@ -338,6 +338,7 @@ def analyze(
     source_resistor: str | None = None,
     progress: Callable[[int], None] | None = None,
     options: SolverOptions | None = None,
+    gain_at_Hz: float | None = None,
 ) -> NoiseResult:
     """Output noise of ``circuit`` at v(output) - v(reference).
 
@@ -350,6 +351,8 @@ def analyze(
     frequencies just solved (grid points first, then the integrator's extra ones).
     ``options`` (:class:`~netnoise.engine.options.SolverOptions`) chooses the
     solver path, the dense and exact limits and the integrator's tolerance.
+    ``gain_at_Hz``: the frequency whose signal gain the input-referred figures
+    use (default: the pass band's gain, see :func:`_pass_band_gain`).
     """
     return prepare(
         circuit,
@@ -362,6 +365,7 @@ def analyze(
         source_resistor=source_resistor,
         progress=progress,
         options=options,
+        gain_at_Hz=gain_at_Hz,
     ).analyze()
 
 
@@ -375,9 +379,10 @@ class PreparedAnalysis:
     >>> second = prepared.with_values({"C1": 22e-12}).analyze()
     """
 
-    def __init__(self, problem: _Problem, source_resistor: str | None) -> None:
+    def __init__(self, problem: _Problem, source_resistor: str | None, gain_at_Hz: float | None = None) -> None:
         self._problem = problem
         self._source_resistor = source_resistor
+        self._gain_at_Hz = gain_at_Hz
 
     @property
     def circuit(self) -> ck.Circuit:
@@ -394,12 +399,12 @@ class PreparedAnalysis:
 
     def analyze(self) -> NoiseResult:
         """The noise result of this circuit with these settings."""
-        return _analyze(self._problem, self._source_resistor)
+        return _analyze(self._problem, self._source_resistor, self._gain_at_Hz)
 
     def with_circuit(self, circuit: ck.Circuit) -> PreparedAnalysis:
         """This analysis for ``circuit``, the same circuit with other values
         (CircuitError if its structure differs)."""
-        return PreparedAnalysis(self._problem.refilled(circuit), self._source_resistor)
+        return PreparedAnalysis(self._problem.refilled(circuit), self._source_resistor, self._gain_at_Hz)
 
     def with_values(self, values: dict[str, float]) -> PreparedAnalysis:
         """This analysis with the primary values of named elements replaced (SI units)."""
@@ -422,14 +427,17 @@ def prepare(
     source_resistor: str | None = None,
     progress: Callable[[int], None] | None = None,
     options: SolverOptions | None = None,
+    gain_at_Hz: float | None = None,
 ) -> PreparedAnalysis:
     """An analysis of ``circuit`` set up to run (and rerun with other values);
     the arguments are those of :func:`analyze`."""
     settings = _resolve(circuit, output, reference, input_source, band, points_per_decade, temperature_celsius)
-    return PreparedAnalysis(_Problem(circuit, settings, progress, options=options), source_resistor)
+    if gain_at_Hz is not None and not (math.isfinite(gain_at_Hz) and gain_at_Hz >= 0.0):
+        raise UsageError(f"the frequency the gain is taken at must be 0 Hz or more and finite, got {gain_at_Hz!r}")
+    return PreparedAnalysis(_Problem(circuit, settings, progress, options=options), source_resistor, gain_at_Hz)
 
 
-def _analyze(problem: _Problem, source_resistor: str | None) -> NoiseResult:
+def _analyze(problem: _Problem, source_resistor: str | None, gain_at_Hz: float | None = None) -> NoiseResult:
     settings = problem.settings
     circuit = problem.system.circuit
     notes = list(settings.notes)
@@ -528,10 +536,11 @@ def _analyze(problem: _Problem, source_resistor: str | None) -> NoiseResult:
 
     source_variance = totals[:k]
     source_density = shown.grid_density[:k]
-    gain = gain_integral = gain_peak = None
+    gain = gain_integral = gain_peak = reference = reference_Hz = None
     if problem.has_input:
         gain = np.sqrt(shown.grid_density[gain_row])
         gain_peak = math.sqrt(_gain_peak_power(problem, shown, gain_row, low, high, settings.points_per_decade))
+        reference, reference_Hz = _pass_band_gain(problem, gain_at_Hz, low, high, gain_peak)
         gain_integral = float(totals[-1]) if math.isfinite(totals[-1]) else None
         if gain_integral is None:
             notes.append(Note("signal-unbounded", "the signal path has no roll-off: its noise bandwidth is unbounded"))
@@ -562,6 +571,8 @@ def _analyze(problem: _Problem, source_resistor: str | None) -> NoiseResult:
         gain=gain,
         gain_squared_integral=gain_integral,
         gain_peak=gain_peak,
+        gain_reference=reference,
+        gain_reference_Hz=reference_Hz,
         source_resistor=figure.resistor if figure else None,
         noise_figure_spectrum_dB=figure.spectrum_dB if figure else None,
         noise_figure_dB=figure.integrated_dB if figure else None,
@@ -621,6 +632,29 @@ def _gain_peak_power(problem: _Problem, shown, row: int, low: float, high: float
         _, top = _transfer_signal(problem, np.array([math.exp(vertex)]))
         found = max(found, float(top[0]))
     return max(best, found)
+
+
+# a path whose DC gain is at least this fraction of its peak passes DC: its pass band starts there
+_PASSES_DC = 1e-3
+
+
+def _pass_band_gain(
+    problem: _Problem, at_Hz: float | None, low: float, high: float, peak: float
+) -> tuple[float, float | None]:
+    """(|H|, f in Hz) the input-referred figures use: at ``at_Hz`` when given; else the
+    pass band's gain -- the low-frequency (DC) gain of a path that passes DC (a low-pass, a
+    transimpedance stage: not its peaking), else the gain at the band's geometric centre
+    (a band-pass, a high-pass), else the peak for a band from 0 Hz or to infinity."""
+    if at_Hz is None:
+        _, dc = _transfer_signal(problem, np.array([0.0]))
+        if math.sqrt(float(dc[0])) >= _PASSES_DC * peak:
+            at_Hz = 0.0
+        elif low > 0.0 and math.isfinite(high):
+            at_Hz = math.sqrt(low * high)
+        else:
+            return peak, None  # the peak's frequency lies between samples
+    _, power = _transfer_signal(problem, np.array([at_Hz]))
+    return math.sqrt(float(power[0])), at_Hz
 
 
 def _transfer_signal(problem: _Problem, frequency_Hz: np.ndarray):

@@ -12,6 +12,7 @@ JSON shape (fixed keys; more may be added, none removed)::
      "band_Hz": {"low", "high"},            # high is null for an unbounded band
      "total_rms_V", "input_referred_rms", "input_referred_unit",
      "gain_at_max", "enbw_Hz",
+     "pass_band_gain", "pass_band_gain_Hz",   # the gain input-referred figures use, and where
      "contributions": [{"source", "element", "mechanism",
                         "value", "unit", "value_text",   # value: the number that sets the source, in unit (or null)
                         "rms_V", "share", "cumulative_share"}, ...],   # largest share first
@@ -279,6 +280,8 @@ def result_to_dict(
         "input_referred_rms": _optional(referred),
         "input_referred_unit": (result.input_unit or "V") if referred is not None else None,
         "gain_at_max": _optional(result.gain_at_max),
+        "pass_band_gain": _optional(result.pass_band_gain),
+        "pass_band_gain_Hz": _optional(result.gain_reference_Hz),
         "enbw_Hz": _optional(result.enbw_Hz),
         "contributions": [
             {
@@ -470,9 +473,26 @@ def csv_header(result: NoiseResult, group_by: str | None = None) -> list[str]:
     (all densities are output-referred amplitudes, V/√Hz), then the spot
     noise figure in dB when the result has one."""
     names = spectrum_columns(result, group_by=group_by)[0]
+    if result.input_source is not None and result.gain is not None:
+        names.append(REFERRED_COLUMN_V if (result.input_unit or "V") == "V" else REFERRED_COLUMN_A)
     if result.noise_figure_spectrum_dB is not None:
         names.append(NOISE_FIGURE_COLUMN)
     return names
+
+
+#: The input-referred density column, S_out/|H(f)|² as an amplitude, beside the sources (empty where |H| = 0).
+REFERRED_COLUMN_V = "input_referred_V_per_rtHz"
+REFERRED_COLUMN_A = "input_referred_A_per_rtHz"
+
+
+def _referred_cells(result: NoiseResult) -> list[str] | None:
+    if result.input_source is None or result.gain is None:
+        return None
+    density = result.input_referred_density
+    assert density is not None
+    with np.errstate(invalid="ignore"):
+        amplitude = np.sqrt(density)
+    return ["" if not math.isfinite(float(x)) else repr(float(x)) for x in amplitude]
 
 
 def _csv_columns(result: NoiseResult, group_by: str | None = None) -> np.ndarray:
@@ -507,8 +527,11 @@ def to_csv(result: NoiseResult, group_by: str | None = None) -> str:
     buffer = io.StringIO()
     writer = csv.writer(buffer, lineterminator="\n")
     writer.writerow(csv_header(result, group_by))
+    referred = _referred_cells(result)
     for i, row in enumerate(table):
         cells = [frequency_text(float(row[0]))] + [repr(float(x)) for x in row[1:]]
+        if referred is not None:
+            cells.append(referred[i])
         if figure is not None:
             cells.append("" if figure[i] is None else repr(figure[i]))
         writer.writerow(cells)

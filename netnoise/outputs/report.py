@@ -152,6 +152,14 @@ def _totals(result: NoiseResult) -> list[str]:
     magnitude = f"{gain:.4g} V/V" if gain_unit == "V/V" else format_quantity(gain, gain_unit, 4)
     decibels = round(20.0 * math.log10(gain), 2) + 0.0  # + 0.0: no "-0.00"
     lines.append(_field("gain at maximum", f"|H| = {magnitude}  ({decibels:.2f} {db_ref})"))
+    reference = result.gain_reference
+    # shown when taken above DC, or when it differs from the peak by more than the 0.01 dB printed
+    differs = reference is not None and not math.isclose(reference, gain, rel_tol=1e-3)
+    if reference is not None and reference > 0.0 and (differs or result.gain_reference_Hz):
+        where = "0 Hz" if not result.gain_reference_Hz else _hz(result.gain_reference_Hz)
+        text = f"{reference:.4g} V/V" if gain_unit == "V/V" else format_quantity(reference, gain_unit, 4)
+        level = round(20.0 * math.log10(reference), 2) + 0.0  # + 0.0: no "-0.00"
+        lines.append(_field("gain referred to", f"|H| = {text} at {where}  ({level:.2f} {db_ref})"))
     referred = result.input_referred_rms
     if referred is not None:
         lines.append(_field("input-referred noise", f"{format_quantity(referred, unit)} rms"))

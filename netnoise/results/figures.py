@@ -48,15 +48,15 @@ def signal_to_noise(result: NoiseResult, signal_rms: float, *, at: str = "input"
     """SNR at the output of a signal of ``signal_rms`` (V or A rms).
 
     ``at="input"``: the signal is at the input source and reaches the output
-    with ``result.gain_at_max`` (a signal in the pass band); ``at="output"``:
+    with ``result.pass_band_gain`` (a signal in the pass band); ``at="output"``:
     the signal is given at the output, in V rms.
     """
     if not (signal_rms > 0 and math.isfinite(signal_rms)):
         raise UsageError(f"the signal must be a positive rms value, got {signal_rms!r}")
     if at == "input":
-        if result.gain_at_max is None:
+        if result.pass_band_gain is None:
             raise UsageError("a signal at the input needs an input source (--input SOURCE or the .noise card)")
-        out = signal_rms * result.gain_at_max
+        out = signal_rms * result.pass_band_gain
     elif at == "output":
         out = signal_rms
     else:

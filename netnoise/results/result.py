@@ -139,6 +139,8 @@ class NoiseResult:
     gain: np.ndarray | None = None
     gain_squared_integral: float | None = None
     gain_peak: float | None = None
+    gain_reference: float | None = None
+    gain_reference_Hz: float | None = None
     integration_rel_error: float = 0.0
     notes: tuple[Note, ...] = field(default=())
     source_elements: tuple[str, ...] = ()
@@ -327,9 +329,15 @@ class NoiseResult:
         return max(float(np.max(self.gain)), self.gain_peak or 0.0)
 
     @property
+    def pass_band_gain(self) -> float | None:
+        """The gain the noise is referred to: ``gain_reference`` (the pass band's, or the one
+        at a frequency the caller named), else the peak ``gain_at_max``."""
+        return self.gain_reference if self.gain_reference is not None else self.gain_at_max
+
+    @property
     def input_referred_rms(self) -> float | None:
-        """Total output rms divided by ``gain_at_max`` (V or A, see ``input_unit``)."""
-        g = self.gain_at_max
+        """Total output rms divided by ``pass_band_gain`` (V or A, see ``input_unit``)."""
+        g = self.pass_band_gain
         if g is None or g == 0.0:
             return None
         return self.total_rms / g
