@@ -92,6 +92,41 @@ def _count(minimum: int):
     return parse
 
 
+def add_netlist_arguments(parser: argparse.ArgumentParser) -> None:
+    """NETLIST and ``--confine-includes``, as every command that reads a netlist takes them."""
+    parser.add_argument("netlist", metavar="NETLIST", help="netlist file to read")
+    parser.add_argument(
+        "--confine-includes",
+        action="store_true",
+        help="refuse any .include (at any depth) whose file, links followed, is outside the netlist's own folder tree",
+    )
+
+
+def add_where_arguments(
+    parser: argparse.ArgumentParser,
+    *,
+    input_help: str | None,
+    temp_help: str = "analysis temperature in °C",
+    title: str = "what to analyse (defaults come from the netlist's .noise card)",
+):
+    """The output, reference, input source (unless ``input_help`` is None), band, grid and
+    temperature options, in one group on ``parser``; returns the group."""
+    where = parser.add_argument_group(title)
+    where.add_argument("--out", metavar="NODE", help="output node")
+    where.add_argument("--ref", metavar="NODE", help="reference node of the output (default ground)")
+    if input_help is not None:
+        where.add_argument("--input", metavar="SOURCE", help=input_help)
+    where.add_argument(
+        "--band",
+        nargs=2,
+        metavar=("LOW", "HIGH"),
+        help="integration band in Hz; engineering suffixes allowed (10k), HIGH may be 'inf'",
+    )
+    where.add_argument("--points", type=_count(1), metavar="N", help="grid points per decade")
+    where.add_argument("--temp", metavar="CELSIUS", help=temp_help)
+    return where
+
+
 MESSAGE_LINE_LIMIT = 400  # characters of one line of a message; a longer one is cut in the middle
 
 
@@ -139,24 +174,8 @@ def build_parser() -> argparse.ArgumentParser:
         epilog=_EPILOG,
         formatter_class=argparse.RawDescriptionHelpFormatter,
     )
-    analyze.add_argument("netlist", metavar="NETLIST", help="netlist file to read")
-    analyze.add_argument(
-        "--confine-includes",
-        action="store_true",
-        help="refuse any .include (at any depth) whose file, links followed, is outside the netlist's own folder tree",
-    )
-    where = analyze.add_argument_group("what to analyse (defaults come from the netlist's .noise card)")
-    where.add_argument("--out", metavar="NODE", help="output node")
-    where.add_argument("--ref", metavar="NODE", help="reference node of the output (default ground)")
-    where.add_argument("--input", metavar="SOURCE", help="signal input source, for gain and input-referred noise")
-    where.add_argument(
-        "--band",
-        nargs=2,
-        metavar=("LOW", "HIGH"),
-        help="integration band in Hz; engineering suffixes allowed (10k), HIGH may be 'inf'",
-    )
-    where.add_argument("--points", type=_count(1), metavar="N", help="grid points per decade")
-    where.add_argument("--temp", metavar="CELSIUS", help="analysis temperature in °C")
+    add_netlist_arguments(analyze)
+    add_where_arguments(analyze, input_help="signal input source, for gain and input-referred noise")
     merit = analyze.add_argument_group("figures of merit")
     merit.add_argument(
         "--source-resistor",
@@ -227,7 +246,7 @@ def build_parser() -> argparse.ArgumentParser:
     _add_sweep_command(commands)
     from netnoise import cli_montecarlo  # the montecarlo subcommand, in a module of its own
 
-    cli_montecarlo.add_parser(commands, _EPILOG, _count)
+    cli_montecarlo.add_parser(commands, _EPILOG)
     return parser
 
 
@@ -251,12 +270,7 @@ def _add_sweep_command(commands) -> None:
         epilog=_EPILOG,
         formatter_class=argparse.RawDescriptionHelpFormatter,
     )
-    sweep.add_argument("netlist", metavar="NETLIST", help="netlist file to read")
-    sweep.add_argument(
-        "--confine-includes",
-        action="store_true",
-        help="refuse any .include whose file, links followed, is outside the netlist's own folder tree",
-    )
+    add_netlist_arguments(sweep)
     sweep.add_argument(
         "--vary",
         nargs=3,
@@ -271,13 +285,9 @@ def _add_sweep_command(commands) -> None:
     sweep.add_argument(
         "--target-settle", metavar="TIME", help="find the value that just settles in TIME (s); needs --settle"
     )
-    where = sweep.add_argument_group("what to analyse (as for analyze)")
-    where.add_argument("--out", metavar="NODE", help="output node")
-    where.add_argument("--ref", metavar="NODE", help="reference node of the output (default ground)")
-    where.add_argument("--input", metavar="SOURCE", help="signal input source, for the speed of response")
-    where.add_argument("--band", nargs=2, metavar=("LOW", "HIGH"), help="integration band in Hz, HIGH may be 'inf'")
-    where.add_argument("--points", type=_count(1), metavar="N", help="grid points per decade")
-    where.add_argument("--temp", metavar="CELSIUS", help="analysis temperature in °C")
+    add_where_arguments(
+        sweep, input_help="signal input source, for the speed of response", title="what to analyse (as for analyze)"
+    )
     speed = sweep.add_argument_group("speed")
     speed.add_argument("--settle", metavar="ACCURACY", help="settling accuracy (0.01%%, or 16bit)")
     out = sweep.add_argument_group("outputs")

@@ -27,8 +27,11 @@ __all__ = ["add_parser", "run"]
 DEFAULT_TOP = 10
 
 
-def add_parser(commands, epilog: str, count) -> None:
+def add_parser(commands, epilog: str) -> None:
     """The ``montecarlo`` subcommand on ``commands`` (argparse subparsers)."""
+    from netnoise.cli import _count as count
+    from netnoise.cli import add_netlist_arguments, add_where_arguments
+
     mc = commands.add_parser(
         "montecarlo",
         help="spread of the output noise over part tolerances and temperature",
@@ -37,12 +40,7 @@ def add_parser(commands, epilog: str, count) -> None:
         epilog=epilog,
         formatter_class=argparse.RawDescriptionHelpFormatter,
     )
-    mc.add_argument("netlist", metavar="NETLIST", help="netlist file to read")
-    mc.add_argument(
-        "--confine-includes",
-        action="store_true",
-        help="refuse any .include whose file, links followed, is outside the netlist's own folder tree",
-    )
+    add_netlist_arguments(mc)
     study = mc.add_argument_group("the trials")
     study.add_argument("--trials", type=count(1), required=True, metavar="N", help="number of trials")
     study.add_argument(
@@ -82,12 +80,7 @@ def add_parser(commands, epilog: str, count) -> None:
         metavar="ADDRESS",
         help="run the trials on the dask scheduler at ADDRESS (pip install 'netnoise[cluster]')",
     )
-    where = mc.add_argument_group("what to analyse (defaults come from the netlist's .noise card)")
-    where.add_argument("--out", metavar="NODE", help="output node")
-    where.add_argument("--ref", metavar="NODE", help="reference node of the output (default ground)")
-    where.add_argument("--band", nargs=2, metavar=("LOW", "HIGH"), help="integration band in Hz; HIGH may be 'inf'")
-    where.add_argument("--points", type=count(1), metavar="N", help="grid points per decade")
-    where.add_argument("--temp", metavar="CELSIUS", help="temperature of every trial (without --temp-range), °C")
+    add_where_arguments(mc, input_help=None, temp_help="temperature of every trial (without --temp-range), °C")
     out = mc.add_argument_group("outputs")
     out.add_argument("--json", metavar="PATH", help="write the study as JSON ('-' for standard output)")
     out.add_argument("--csv", metavar="PATH", help="write one row per trial as CSV")
