@@ -562,7 +562,7 @@ def _engine_options(args: argparse.Namespace, band, temperature) -> dict:
     )
     if args.source_resistor is not None:  # only when asked: the noise figure costs an extra solve
         options["source_resistor"] = args.source_resistor
-    if getattr(args, "gain_at", None) is not None:
+    if args.gain_at is not None:
         options["gain_at_Hz"] = _frequency(args.gain_at, "--gain-at", allow_infinite=False)
     return options
 

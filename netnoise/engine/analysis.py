@@ -646,13 +646,13 @@ def _pass_band_gain(
     transimpedance stage: not its peaking), else the gain at the band's geometric centre
     (a band-pass, a high-pass), else the peak for a band from 0 Hz or to infinity."""
     if at_Hz is None:
-        _, dc = _transfer_signal(problem, np.array([0.0]))
-        if math.sqrt(float(dc[0])) >= _PASSES_DC * peak:
-            at_Hz = 0.0
-        elif low > 0.0 and math.isfinite(high):
-            at_Hz = math.sqrt(low * high)
-        else:
+        _, dc_power = _transfer_signal(problem, np.array([0.0]))
+        dc = math.sqrt(float(dc_power[0]))
+        if dc >= _PASSES_DC * peak:
+            return dc, 0.0
+        if not (low > 0.0 and math.isfinite(high)):
             return peak, None  # the peak's frequency lies between samples
+        at_Hz = math.sqrt(low * high)
     _, power = _transfer_signal(problem, np.array([at_Hz]))
     return math.sqrt(float(power[0])), at_Hz
 
