@@ -42,14 +42,14 @@ R1 out 0 1k
 
 
 def _rlc_gain(f_Hz: float) -> float:
-    """|H| of the series RLC low-pass (textbook second-order section): 1/|1 - x^2 + j x/Q|, x = w/w0."""
+    """|H| of the series RLC low-pass, the second-order section of any filter text (common practice): 1/|1 - x^2 + j x/Q|, x = w/w0."""
     x = 2 * math.pi * f_Hz / 1e5
     return 1.0 / math.hypot(1.0 - x * x, x / 5.0)
 
 
 def test_low_pass_with_peaking_is_referred_to_its_dc_gain():
     result = analyze(parse_netlist(RLC), band=(0.0, math.inf))
-    # the resonant peak of a second-order low-pass is Q / sqrt(1 - 1/(4 Q^2)) (textbook)
+    # the resonant peak of a second-order low-pass is Q / sqrt(1 - 1/(4 Q^2)) (common practice, filter texts)
     assert result.gain_at_max == pytest.approx(5.0 / math.sqrt(1.0 - 1.0 / 100.0), rel=1e-6)
     assert result.pass_band_gain == pytest.approx(1.0, rel=1e-12)
     assert result.gain_reference_Hz == 0.0
@@ -70,7 +70,8 @@ def test_high_pass_is_referred_at_the_band_centre():
     result = analyze(parse_netlist(HIGH_PASS))
     assert result.gain_reference_Hz == pytest.approx(1e3, rel=1e-12)  # sqrt(10 Hz * 100 kHz)
     x = 2 * math.pi * 1e3 * 1e3 * 1e-6  # w R C at 1 kHz
-    assert result.pass_band_gain == pytest.approx(x / math.hypot(1.0, x), rel=1e-9)  # first-order high-pass
+    # a first-order high-pass passes x / sqrt(1 + x^2) (common practice)
+    assert result.pass_band_gain == pytest.approx(x / math.hypot(1.0, x), rel=1e-9)
 
 
 def test_a_frequency_that_is_no_frequency_is_refused():
