@@ -404,6 +404,7 @@ class PreparedAnalysis:
     def with_circuit(self, circuit: ck.Circuit) -> PreparedAnalysis:
         """This analysis for ``circuit``, the same circuit with other values
         (CircuitError if its structure differs)."""
+        circuit = circuit.at_temperature(self._problem.settings.temperature_K - ZERO_CELSIUS_K)
         return PreparedAnalysis(self._problem.refilled(circuit), self._source_resistor, self._gain_at_Hz)
 
     def with_values(self, values: dict[str, float]) -> PreparedAnalysis:
@@ -434,6 +435,7 @@ def prepare(
     settings = _resolve(circuit, output, reference, input_source, band, points_per_decade, temperature_celsius)
     if gain_at_Hz is not None and not (math.isfinite(gain_at_Hz) and gain_at_Hz >= 0.0):
         raise UsageError(f"the frequency the gain is taken at must be 0 Hz or more and finite, got {gain_at_Hz!r}")
+    circuit = circuit.at_temperature(settings.temperature_K - ZERO_CELSIUS_K)  # resistors' tc1, tc2
     return PreparedAnalysis(_Problem(circuit, settings, progress, options=options), source_resistor, gain_at_Hz)
 
 
@@ -550,8 +552,8 @@ def _analyze(problem: _Problem, source_resistor: str | None, gain_at_Hz: float |
     return NoiseResult(
         title=circuit.title,
         temperature_K=settings.temperature_K,
-        output_node=settings.output,
-        reference_node=settings.reference,
+        output_node=circuit.shown_node(settings.output),  # as the netlist spelled it
+        reference_node=circuit.shown_node(settings.reference),
         input_source=problem.system.circuit.element(settings.input_source).name
         if settings.input_source and problem.has_input
         else None,

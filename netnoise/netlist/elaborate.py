@@ -141,6 +141,8 @@ class _Scope:
             return c.GROUND
         if key in self.pin_map:
             return self.pin_map[key]
+        # compared lower case, shown as first written (X1.Mid for x1.mid)
+        self.names.spelled.setdefault(self.node_prefix + key, self.element_prefix + word.text)
         if self.node_prefix:
             self.names.internal.add(self.node_prefix + key)
         elif "." in key:
@@ -152,6 +154,7 @@ class _Scope:
 class _NodeNames:
     top_dotted: dict[str, Word] = field(default_factory=dict)
     internal: set[str] = field(default_factory=set)
+    spelled: dict[str, str] = field(default_factory=dict)  # canonical node -> as first written
 
     def check(self) -> None:
         """Refuse a top-level node spelled like a subcircuit's internal node: it would join it."""
@@ -626,4 +629,5 @@ def _flat_circuit(parsed: ParsedFile, top: Definition, source_file: str, overrid
         value_origins=engine.origins,
         tolerances=engine.tolerances,
         rebuild=rebuild,
+        node_spellings=scope.names.spelled,
     )
