@@ -64,6 +64,7 @@ ADVICE = {
     "integration-accuracy": "raise --points",
     "flicker-band-start": "choose the low edge with --band LOW HIGH",
     "sweep-linear": "set the density with --points",
+    "outside-rails": "check the bias network and the supply voltages",
 }
 
 _EPILOG = """\

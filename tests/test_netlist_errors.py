@@ -343,7 +343,14 @@ BAD = [
         3,
         1,
     ),
-    Bad("amplifier with four pins", "t\n.model m opamp\nXu a b c d m\n", "has 3 pins (in+, in-, out)", 3, 1),
+    Bad("amplifier with four pins", "t\n.model m opamp\nXu a b c d m\n", "has 3 pins (in+, in-, out) or 5", 3, 1),
+    Bad(
+        "amplifier with six pins",
+        "t\n.model m opamp\nXu a b c d e f m\n",
+        "or 5 with its supplies (in+, in-, v+, v-, out)",
+        3,
+        1,
+    ),
     Bad(
         "amplifier unknown override",
         "t\n.model m opamp\nXu a b c m bw=1\n",

@@ -31,6 +31,7 @@ from netnoise.engine.integrate import integrate_band
 from netnoise.engine.mna import MnaSystem, assemble
 from netnoise.engine.noise_sources import NoiseSources, collect_noise_sources
 from netnoise.engine.options import SolverOptions
+from netnoise.engine.rails import rail_notes
 from netnoise.engine.resources import require_memory
 from netnoise.engine.total_variance import (
     UnstableCircuit,
@@ -443,6 +444,7 @@ def _analyze(problem: _Problem, source_resistor: str | None, gain_at_Hz: float |
     settings = problem.settings
     circuit = problem.system.circuit
     notes = list(settings.notes)
+    notes += rail_notes(problem.system)  # amplifiers drawn with supply pins: pins within the rails at DC
     low, high = settings.low, settings.high
     sources = problem.sources
     k = len(sources)

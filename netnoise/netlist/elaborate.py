@@ -320,12 +320,13 @@ class _Elaborator:
 
     def opamp(self, statement: Instance, scope: _Scope, model: ModelCard, home: Definition) -> None:
         name = scope.element_prefix + statement.name
-        if len(statement.nodes) != 3:
+        if len(statement.nodes) not in (3, 5):
             raise _fail(
                 f"{name} connects {len(statement.nodes)} node(s) but the amplifier "
-                f"'{model.name.text}' has 3 pins (in+, in-, out)",
+                f"'{model.name.text}' has 3 pins (in+, in-, out) or 5 with its supplies (in+, in-, v+, v-, out)",
                 statement.loc,
-                f"write: {statement.name} non_inverting_input inverting_input output {model.name.text} [param=value ...]",
+                f"write: {statement.name} in+ in- out {model.name.text}  or  "
+                f"{statement.name} in+ in- v+ v- out {model.name.text}",
             )
         # the model's own values are evaluated where the .model is written
         where: _Scope | None = scope

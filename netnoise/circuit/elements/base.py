@@ -9,6 +9,7 @@ module of :mod:`netnoise.circuit.elements`, listed once in
 * its structure: ``terminals()`` (every node it touches), ``branch_count``
   (branch currents it adds as unknowns), ``internal_nodes()`` (named
   internal unknowns);
+* the supply rails its pins should stay within at DC (``rail_pins``);
 * its class for the topology checks: ``dc_paths()`` (node pairs it joins at
   DC) and ``voltage_defined()`` (node pairs whose voltage it fixes);
 * its stamps into G and C (``stamp(s)``, or ``stamp_all`` for many at once)
@@ -148,6 +149,11 @@ class Element:
 
     def voltage_defined(self) -> tuple[tuple[str, str], ...]:
         return ()
+
+    def rail_pins(self) -> tuple[tuple[str, str], tuple[tuple[str, str], ...]] | None:
+        """((upper rail node, lower rail node), ((pin label, node), ...)): supply rails this
+        element's pins should stay within at the DC operating point; None: no rails."""
+        return None
 
     # ---- values the engine can compute with
     def check_values(self) -> None:
