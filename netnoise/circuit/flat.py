@@ -178,6 +178,11 @@ class Circuit:
                     seen.setdefault(node, None)
         return tuple(seen)
 
+    @cached_property
+    def node_set(self) -> frozenset[str]:
+        """Every non-ground node (canonical names), for look-ups."""
+        return frozenset(self.nodes)
+
     def value_origin(self, name: str) -> ValueOrigin | None:
         """Where element ``name``'s primary value came from (None: built in code)."""
         return self.value_origins.get(name_key(name))

@@ -17,6 +17,7 @@ are refused by name (:mod:`netnoise.circuit.topology`, :func:`_Problem.check_sta
 
 from __future__ import annotations
 
+import difflib
 import math
 from collections.abc import Callable
 from dataclasses import dataclass
@@ -81,7 +82,7 @@ def _resolve(circuit, output, reference, input_source, band, points_per_decade, 
         output, reference = card.output_node, reference if reference is not None else card.reference_node
     if reference is None:
         reference = ck.GROUND
-    output, reference = canonical_node(output), canonical_node(reference)  # 'GND', 'gnd', '0' are one node
+    output, reference = _known_node(circuit, output), _known_node(circuit, reference)  # 'GND', 'gnd', '0': one node
     if output == reference:
         raise UsageError(f"output node and reference node are the same ('{output}')")
     if input_source is None and card is not None and card.input_source:
@@ -155,6 +156,17 @@ def _resolve(circuit, output, reference, input_source, band, points_per_decade, 
         tuple(notes),
         band_defaulted,
     )
+
+
+def _known_node(circuit: ck.Circuit, given: str) -> str:
+    """The canonical name of node ``given`` (any case); CircuitError, in the user's spelling and
+    with the netlist's close names, when the circuit has no such node."""
+    key = canonical_node(given)
+    if key == ck.GROUND or key in circuit.node_set:
+        return key
+    close = difflib.get_close_matches(key, list(circuit.node_set), n=3)
+    hint = f"; did you mean {', '.join(circuit.shown_node(n) for n in close)}?" if close else ""
+    raise CircuitError(f"node '{given}' does not exist in the circuit{hint}")
 
 
 class _Problem:
@@ -814,7 +826,7 @@ def output_density_function(
     """A function f (Hz, array) -> total output noise density (V²/Hz), for
     users who integrate or plot it themselves."""
     settings = _resolve(circuit, output, reference, None, (1.0, 2.0), 1, temperature_celsius)
-    problem = _Problem(circuit, settings)
+    problem = _Problem(circuit.at_temperature(temperature_celsius), settings)
 
     def density(frequency_Hz):
         return problem.densities(np.atleast_1d(np.asarray(frequency_Hz, dtype=float))).sum(axis=0)
