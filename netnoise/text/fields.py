@@ -405,6 +405,13 @@ class LineReader:
 
     def node(self, what: str) -> Word:
         item = self.take(what, node=True)
+        if isinstance(item, Call):
+            raise _fail(
+                f"expected {what} of {self.name} here, not {describe(item)}",
+                item.loc,
+                "a node name may hold parentheses in closed pairs with no blank, ',' or '=' inside, "
+                "such as Net-(R1-Pad2)",
+            )
         if not isinstance(item, Word):
             raise _fail(f"expected {what} of {self.name} here, not {describe(item)}", item.loc, self.form_hint())
         return item
