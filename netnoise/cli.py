@@ -730,7 +730,7 @@ def _compute(args: argparse.Namespace, circuit, band, temperature, signal, signa
     if args.dc:
         from netnoise.engine.dc import operating_point
 
-        extras["operating_point"] = operating_point(circuit)
+        extras["operating_point"] = operating_point(circuit, temperature_celsius=result.temperature_K - 273.15)
     extras.update(_studies(args, circuit, band, temperature, result))
 
     # build every text first: a refusal (a NaN, an infinity) prints and writes nothing
