@@ -267,3 +267,21 @@ def test_rkm_values_in_a_netlist():
     assert circuit.element("C1").capacitance == pytest.approx(2.2e-9, rel=1e-12)
     assert circuit.element("L1").inductance == pytest.approx(4.7e-6, rel=1e-12)
     assert math.isclose(circuit.element("R3").resistance, 1.5, rel_tol=1e-12)
+
+
+# --- messages name nodes as the netlist spelled them ------------------------------------
+
+
+def test_messages_name_nodes_as_spelled():
+    with pytest.raises(NetlistError) as info:
+        netnoise.parse_netlist("t\nV1 /IN 0 AC 1\nR1 /IN /OUT 1k\nC1 /OUT 0 1n\n.noise v(/OUTT) V1\n")
+    assert "did you mean '/OUT'?" in str(info.value)
+    floating = netnoise.parse_netlist(
+        "t\nV1 /IN 0 AC 1\nR1 /IN /OUT 1k\nC1 /OUT Net-(C1-Pad2) 1n\nC2 Net-(C1-Pad2) 0 1n\n"
+    )
+    with pytest.raises(CircuitError) as found:
+        netnoise.analyze(floating, output="/out", band=(1.0, 10.0))
+    assert "Net-(C1-Pad2)" in str(found.value)
+    with pytest.raises(CircuitError) as unknown:
+        netnoise.analyze(floating, output="/OUTT", band=(1.0, 10.0))
+    assert "'/OUTT' does not exist" in str(unknown.value) and "/OUT" in str(unknown.value)

@@ -497,22 +497,23 @@ def _sweep(sweep: Sweep, engine: _Elaborator, scope: _Scope) -> c.Sweep:
     return c.Sweep(sweep.kind, int(points), start, stop)
 
 
-def _node_check(word: Word, nodes: set[str], what: str) -> str:
+def _node_check(word: Word, nodes: set[str], what: str, spelled: dict[str, str]) -> str:
     key = word.text.lower()
     if key in GROUND_ALIASES:
         return c.GROUND
     if key not in nodes:
         close = difflib.get_close_matches(key, sorted(nodes), n=3)
-        hint = "did you mean " + " or ".join(f"'{n}'" for n in close) + "?" if close else ""
+        hint = "did you mean " + " or ".join(f"'{spelled.get(n, n)}'" for n in close) + "?" if close else ""
         raise _fail(f"the {what} node '{word.text}' is not connected to any element", word.loc, hint)
     return key
 
 
 def _noise_card(card: NoiseCard, engine: _Elaborator, scope: _Scope, nodes: set[str]) -> c.NoiseCard:
-    output = _node_check(card.output, nodes, ".noise output")
+    spelled = scope.names.spelled
+    output = _node_check(card.output, nodes, ".noise output", spelled)
     if output == c.GROUND:
         raise _fail("the .noise output cannot be ground", card.output.loc)
-    reference = _node_check(card.reference, nodes, ".noise reference") if card.reference else c.GROUND
+    reference = _node_check(card.reference, nodes, ".noise reference", spelled) if card.reference else c.GROUND
     if reference == output:
         raise _fail("the .noise output and reference are the same node", card.reference.loc)  # type: ignore[union-attr]
     source_name = None

@@ -218,6 +218,8 @@ class Resistor(TwoTerminal):
     def at_temperature(self, celsius: float) -> Resistor:
         if (self.tc1 == 0.0 and self.tc2 == 0.0) or self.temperature_celsius is not None:
             return self  # its resistance does not follow the ambient
+        if self.ambient_celsius == celsius:
+            return self
         return dataclasses.replace(self, ambient_celsius=float(celsius))
 
     @property
