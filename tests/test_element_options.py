@@ -6,6 +6,7 @@ from __future__ import annotations
 
 import math
 
+import numpy as np
 import pytest
 from scipy import constants
 
@@ -51,10 +52,14 @@ def test_options_reach_the_elements():
     )
     r1, r2 = circuit.element("R1"), circuit.element("R2")
     assert (r1.resistance, r1.multiplier, r1.temperature_celsius) == (10e3, 2.0, 50.0)
-    assert (r1.tc1, r1.tc2) == (pytest.approx(100e-6, rel=1e-12), pytest.approx(1e-6, rel=1e-12))
-    assert (r2.tc1, r2.tc2, r2.quiet) == (pytest.approx(200e-6, rel=1e-12), pytest.approx(2e-6, rel=1e-12), True)
-    assert circuit.element("C1").effective_capacitance == pytest.approx(3e-9, rel=1e-12)
-    assert circuit.element("L1").effective_inductance == pytest.approx(0.25e-3, rel=1e-12)
+    assert (r1.tc1, r1.tc2) == (pytest.approx(100e-6, rel=1e-12, abs=0), pytest.approx(1e-6, rel=1e-12, abs=0))
+    assert (r2.tc1, r2.tc2, r2.quiet) == (
+        pytest.approx(200e-6, rel=1e-12, abs=0),
+        pytest.approx(2e-6, rel=1e-12, abs=0),
+        True,
+    )
+    assert circuit.element("C1").effective_capacitance == pytest.approx(3e-9, rel=1e-12, abs=0)
+    assert circuit.element("L1").effective_inductance == pytest.approx(0.25e-3, rel=1e-12, abs=0)
     assert sum("ic=" in n for n in circuit.notices) == 2
 
 
@@ -161,18 +166,19 @@ def test_m_parts_are_m_independent_resistors_thermal_and_excess():
     band = (1.0, 1e4)
     a = netnoise.analyze(written, output="a", band=band)
     b = netnoise.analyze(multiplied, output="a", band=band)
-    assert b.total_variance == pytest.approx(a.total_variance, rel=1e-9)
-    assert b.spot_density(10.0) == pytest.approx(a.spot_density(10.0), rel=1e-9)
-    # and the thermal part alone is that of one 10k resistor: 4kT·(10k ∥ 10k) at low frequency
+    assert b.total_variance == pytest.approx(a.total_variance, rel=1e-9, abs=0)
+    assert b.spot_density(10.0) == pytest.approx(a.spot_density(10.0), rel=1e-9, abs=0)
+    # and the thermal part alone is that of one 10k resistor: its current 4kT/10k (Johnson–Nyquist)
+    # into the node's 10k ∥ 10k = 5k, v² = 4kT/10k·(5k)²
     quiet = netnoise.parse_netlist("t\nV1 top 0 DC 10\nRs top a 10k quiet\nR1 a 0 30k m=3\n")
     low = netnoise.analyze(quiet, output="a", band=(1.0, 10.0))
-    assert low.spot_density(1.0) ** 2 == pytest.approx(4 * K_B * T27 * 5e3, rel=1e-9)
+    assert low.spot_density(1.0) ** 2 == pytest.approx(4 * K_B * T27 / 10e3 * 5e3**2, rel=1e-9, abs=0)
 
 
 def test_capacitors_in_parallel_and_kT_over_C():
     # kT/C of the whole capacitance, C·m (common practice)
     circuit = netnoise.parse_netlist("t\nI1 0 a AC 1\nR1 a 0 4k7\nC1 a 0 2n2 m=3\n")
-    assert netnoise.analyze(circuit, output="a").total_variance == pytest.approx(K_B * T27 / 6.6e-9, rel=1e-9)
+    assert netnoise.analyze(circuit, output="a").total_variance == pytest.approx(K_B * T27 / 6.6e-9, rel=1e-9, abs=0)
 
 
 def test_coupled_inductors_see_the_parallel_inductance():
@@ -181,7 +187,7 @@ def test_coupled_inductors_see_the_parallel_inductance():
     base = "t\nI1 0 a AC 1\nR1 a 0 50\nR2 b 0 50\nL2 b 0 1m\nK1 L1 L2 0.5\n"
     a = netnoise.analyze(netnoise.parse_netlist(base + "L1 a 0 2m m=2\n"), output="b", band=(10.0, 1e5))
     b = netnoise.analyze(netnoise.parse_netlist(base + "L1 a 0 1m\n"), output="b", band=(10.0, 1e5))
-    assert a.total_variance == pytest.approx(b.total_variance, rel=1e-12)
+    assert a.total_variance == pytest.approx(b.total_variance, rel=1e-12, abs=0)
 
 
 def test_tc_and_a_sweep_of_the_value_keep_the_coefficients():
@@ -190,14 +196,15 @@ def test_tc_and_a_sweep_of_the_value_keep_the_coefficients():
     circuit = netnoise.parse_netlist("t\nI1 0 a AC 1\nR1 a 0 10k tc1=1m\n")
     prepared = netnoise.prepare(circuit, output="a", band=(1.0, 11.0), temperature_celsius=85.0)
     changed = prepared.with_values({"R1": 20e3}).analyze()
-    assert changed.total_variance == pytest.approx(4 * K_B * 358.15 * 20e3 * (1 + 1e-3 * 58) * 10.0, rel=1e-9)
+    # (white over 1 .. 11 Hz; the band integral is numerical, to about 1e-8)
+    assert changed.total_variance == pytest.approx(4 * K_B * 358.15 * 20e3 * (1 + 1e-3 * 58) * 10.0, rel=1e-7, abs=0)
 
 
 def test_dc_operating_point_of_a_tc_resistor_follows_the_temperature():
     circuit = netnoise.parse_netlist("t\nI1 0 a DC 1m\nR1 a 0 1k tc1=4m\n")
     # Ohm's law with R(T) = 1k·(1 + 0.004·(T - 27))
-    assert operating_point(circuit).node_voltages["a"] == pytest.approx(1.0, rel=1e-12)
-    assert operating_point(circuit, 77.0).node_voltages["a"] == pytest.approx(1.2, rel=1e-12)
+    assert operating_point(circuit).node_voltages["a"] == pytest.approx(1.0, rel=1e-12, abs=0)
+    assert operating_point(circuit, 77.0).node_voltages["a"] == pytest.approx(1.2, rel=1e-12, abs=0)
 
 
 def test_elements_built_in_code_keep_their_old_meaning():
@@ -241,7 +248,7 @@ def test_elements_built_in_code_keep_their_old_meaning():
     ],
 )
 def test_rkm_values(text, expected):
-    assert parse_value(text) == pytest.approx(expected, rel=1e-12)
+    assert parse_value(text) == pytest.approx(expected, rel=1e-12, abs=0)
 
 
 @pytest.mark.parametrize("text", ["1M5", "2m2", "0m5", "1m0"])
@@ -262,10 +269,10 @@ def test_not_rkm(text):
 
 def test_rkm_values_in_a_netlist():
     circuit = netnoise.parse_netlist("t\nR1 a b 4k7\nR2 b 0 R47\nC1 b 0 2n2\nL1 a c 4u7\nR3 c 0 1R5\nV1 a 0 1\n")
-    assert circuit.element("R1").resistance == pytest.approx(4700.0, rel=1e-12)
-    assert circuit.element("R2").resistance == pytest.approx(0.47, rel=1e-12)
-    assert circuit.element("C1").capacitance == pytest.approx(2.2e-9, rel=1e-12)
-    assert circuit.element("L1").inductance == pytest.approx(4.7e-6, rel=1e-12)
+    assert circuit.element("R1").resistance == pytest.approx(4700.0, rel=1e-12, abs=0)
+    assert circuit.element("R2").resistance == pytest.approx(0.47, rel=1e-12, abs=0)
+    assert circuit.element("C1").capacitance == pytest.approx(2.2e-9, rel=1e-12, abs=0)
+    assert circuit.element("L1").inductance == pytest.approx(4.7e-6, rel=1e-12, abs=0)
     assert math.isclose(circuit.element("R3").resistance, 1.5, rel_tol=1e-12)
 
 
@@ -285,3 +292,27 @@ def test_messages_name_nodes_as_spelled():
     with pytest.raises(CircuitError) as unknown:
         netnoise.analyze(floating, output="/OUTT", band=(1.0, 10.0))
     assert "'/OUTT' does not exist" in str(unknown.value) and "/OUT" in str(unknown.value)
+
+
+@pytest.mark.parametrize("band", [(1.0, 11.0), None])
+def test_monte_carlo_trials_follow_their_temperature(band):
+    # each trial at its own temperature T_j: R(T_j) from the tc formula (common practice; IEC
+    # 60115-1), so the variance is 4kT_j·R(T_j)·B over a white band B (Nyquist 1928); with no
+    # band, kT_j/C for the RC node whatever R (common practice)
+    circuit = netnoise.parse_netlist("t\nI1 0 a AC 1\nR1 a 0 10k tc1=3m tc2=10u\nC1 a 0 1n\n")
+    study = netnoise.montecarlo(
+        circuit, trials=6, temperature_range_celsius=(-40.0, 125.0), seed=7, output="a", band=band, jobs=1
+    )
+    t = study.temperature_K
+    variance = study.source_variance.sum(axis=1)
+    if band is None:
+        expected = K_B * t / 1e-9
+        assert variance == pytest.approx(expected, rel=1e-9, abs=0)
+    else:
+        dt = t - 273.15 - 27.0
+        r = 10e3 * (1 + 3e-3 * dt + 10e-6 * dt**2)
+        # the RC node: 4kTR/(1 + (f/fc)²), fc = 1/(2πRC), integrated by hand from 1 to 11 Hz:
+        # 4kTR·fc·[atan(11/fc) - atan(1/fc)]
+        fc = 1 / (2 * math.pi * r * 1e-9)
+        expected = 4 * K_B * t * r * fc * (np.arctan(11.0 / fc) - np.arctan(1.0 / fc))
+        assert variance == pytest.approx(expected, rel=1e-6, abs=0)
