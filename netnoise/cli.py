@@ -64,6 +64,7 @@ ADVICE = {
     "integration-accuracy": "raise --points",
     "flicker-band-start": "choose the low edge with --band LOW HIGH",
     "sweep-linear": "set the density with --points",
+    "outside-rails": "check the bias network and the supply voltages",
 }
 
 _EPILOG = """\
@@ -729,7 +730,7 @@ def _compute(args: argparse.Namespace, circuit, band, temperature, signal, signa
     if args.dc:
         from netnoise.engine.dc import operating_point
 
-        extras["operating_point"] = operating_point(circuit)
+        extras["operating_point"] = operating_point(circuit, temperature_celsius=result.temperature_K - 273.15)
     extras.update(_studies(args, circuit, band, temperature, result))
 
     # build every text first: a refusal (a NaN, an infinity) prints and writes nothing

@@ -53,8 +53,10 @@ class FakeEngine:
         self.calls.append(kwargs)
         return self.result
 
-    def operating_point(self, circuit):
+    def operating_point(self, circuit, temperature_celsius=None):
         assert circuit is self.circuit
+        # at the analysis's temperature (a resistor's tc1/tc2 set its DC value there)
+        assert temperature_celsius == pytest.approx(self.result.temperature_K - 273.15, rel=1e-12)
         self.dc_calls += 1
         return self.op
 

@@ -261,13 +261,13 @@ def test_example_hierarchy_values():
 
 def test_resistor_options_reach_the_circuit():
     circuit = parse_netlist(
-        "t\n.param hot=85\nR1 a b 10k ni=-20 temp={hot}\nRload b 0 1meg noiseless\nR3 a 0 1k\nV1 a 0 1\n"
+        "t\n.param hot=85\nR1 a b 10k ni=-20 temp={hot}\nRload b 0 1meg quiet\nR3 a 0 1k\nV1 a 0 1\n"
     )
     elements = by_name(circuit)
     assert elements["R1"] == Resistor("R1", ("a", "b"), resistance=10e3, temperature_celsius=85.0, noise_index_dB=-20.0)
-    assert elements["Rload"].noiseless and elements["Rload"].temperature_celsius is None
+    assert elements["Rload"].quiet and elements["Rload"].temperature_celsius is None
     plain = elements["R3"]
-    assert (plain.noiseless, plain.temperature_celsius, plain.noise_index_dB) == (False, None, None)
+    assert (plain.quiet, plain.temperature_celsius, plain.noise_index_dB) == (False, None, None)
 
 
 def test_an_implausible_noise_index_is_used_with_a_notice():

@@ -156,8 +156,8 @@ def test_the_ends_of_the_resistance_range_are_computed_correctly(r):
 
 
 def test_a_source_that_cannot_reach_the_output_prints_zero_not_a_stand_in():
-    # a noiseless network: the density is exactly 0 and the spot value must say 0, not 1e-150
-    result = _analyze_text("t\nR1 a 0 1k noiseless\nC1 a 0 1n\n.end\n", output="a", band=(1.0, 1e3))
+    # a network of quiet parts: the density is exactly 0 and the spot value must say 0, not 1e-150
+    result = _analyze_text("t\nR1 a 0 1k quiet\nC1 a 0 1n\n.end\n", output="a", band=(1.0, 1e3))
     assert result.spot_density(10.0) == 0.0 and result.total_rms == 0.0
 
 

@@ -23,8 +23,8 @@ T = 300.0
 T_C = T - 273.15
 
 
-def noiseless(r):
-    return dataclasses.replace(r, noiseless=True)
+def quiet(r):
+    return dataclasses.replace(r, quiet=True)
 
 
 # --- amplifier noise ------------------------------------------------------------------------
@@ -115,7 +115,7 @@ def test_amplifier_voltage_noise_with_1_over_f_corner_integrates_to_closed_form(
             gain_bandwidth_Hz=1e12,
         ),
     )
-    ckt = dataclasses.replace(ckt, elements=(noiseless(ckt.elements[0]), ckt.elements[1]))
+    ckt = dataclasses.replace(ckt, elements=(quiet(ckt.elements[0]), ckt.elements[1]))
     res = analyze(ckt, output="out", band=(fl, fh))
     assert res.total_variance == pytest.approx(en**2 * (fc * math.log(fh / fl) + fh - fl), rel=1e-6)
 
@@ -125,7 +125,7 @@ def test_explicit_source_noise_on_a_voltage_source():
     # directly at its node; same closed form as above (common practice).
     white, fc, fl, fh = 20e-9, 10.0, 1.0, 1e3
     ref = dataclasses.replace(V("Vref", "ref", "0"), noise=NoiseSpec(white=white, corner_Hz=fc))
-    ckt = circuit(ref, noiseless(R("Rl", "ref", "0", 1e3)))
+    ckt = circuit(ref, quiet(R("Rl", "ref", "0", 1e3)))
     res = analyze(ckt, output="ref", band=(fl, fh))
     assert res.total_variance == pytest.approx(white**2 * (fc * math.log(fh / fl) + fh - fl), rel=1e-6)
     assert res.contributions[0].mechanism == "source"
@@ -162,7 +162,7 @@ def test_1_over_f_with_infinite_band_combines_exact_white_and_numeric_flicker():
 def test_shot_noise_of_1mA():
     # Shot noise of 1 mA: sqrt(2qI) ≈ 17.9 pA/√Hz (Schottky 1918; common practice).
     src = dataclasses.replace(I("Id", "0", "a", ac=0.0), dc=1e-3, shot=True)
-    res = analyze(circuit(src, noiseless(R("Rl", "a", "0", 1e3))), output="a", band=(1.0, 1e3))
+    res = analyze(circuit(src, quiet(R("Rl", "a", "0", 1e3))), output="a", band=(1.0, 1e3))
     assert res.spot_density(10.0) / 1e3 == pytest.approx(17.9e-12, rel=1e-3)
     assert res.spot_density(10.0) / 1e3 == pytest.approx(math.sqrt(2 * Q_E * 1e-3), rel=1e-9)
     assert res.contributions[0].mechanism == "shot"
@@ -189,7 +189,7 @@ def test_excess_noise_from_noise_index_per_decade():
     # 10 V across it and its noise voltage halves into node mid.
     ni, v_dc, r = 0.0, 10.0, 1e4  # 0 dB: 1 µV/V
     rx = dataclasses.replace(R("Rx", "top", "mid", r), noise_index_dB=ni)
-    ckt = circuit(V("Vb", "top", "0"), rx, noiseless(R("Rlow", "mid", "0", r)))
+    ckt = circuit(V("Vb", "top", "0"), rx, quiet(R("Rlow", "mid", "0", r)))
     ckt = dataclasses.replace(ckt, elements=(dataclasses.replace(ckt.elements[0], dc=2 * v_dc),) + ckt.elements[1:])
     res = analyze(ckt, output="mid", band=(10.0, 100.0))
     by = {c.mechanism: c.variance_V2 for c in res.contributions}
@@ -210,10 +210,10 @@ def test_excess_noise_scales_with_dc_voltage_squared(factor):
     assert scaled["excess"] / base["excess"] == pytest.approx(factor**2, rel=1e-9)
 
 
-def test_noiseless_and_per_element_temperature():
-    # 4kTR at the resistor's own temperature (Nyquist 1928); a noiseless part adds nothing.
+def test_quiet_and_per_element_temperature():
+    # 4kTR at the resistor's own temperature (Nyquist 1928); a quiet part adds nothing.
     hot = dataclasses.replace(R("Rhot", "a", "0", 1e3), temperature_celsius=400.0 - 273.15)
-    ckt = circuit(hot, noiseless(R("Rcold", "a", "0", 1e3)))
+    ckt = circuit(hot, quiet(R("Rcold", "a", "0", 1e3)))
     res = analyze(ckt, output="a", band=(1.0, 2.0), temperature_celsius=T_C)
     assert [c.source for c in res.contributions] == ["Rhot"]
     # 1 kΩ ∥ 1 kΩ: Rhot's noise current sees 500 Ω
@@ -258,7 +258,7 @@ def test_matched_attenuator_at_290K_has_noise_figure_equal_to_its_loss(loss_db):
         R("Ra", "a", "m", series),
         R("Rsh", "m", "0", shunt),
         R("Rb", "m", "out", series),
-        noiseless(R("RL", "out", "0", 50.0)),
+        quiet(R("RL", "out", "0", 50.0)),
     )
     res = analyze(
         ckt, output="out", input_source="Vs", band=(1e3, 1e6), temperature_celsius=290.0 - 273.15, source_resistor="Rs"
@@ -279,7 +279,7 @@ def test_attenuator_noise_figure_at_another_temperature():
         R("Ra", "a", "m", series),
         R("Rsh", "m", "0", shunt),
         R("Rb", "m", "out", series),
-        noiseless(R("RL", "out", "0", 50.0)),
+        quiet(R("RL", "out", "0", 50.0)),
     )
     res = analyze(ckt, output="out", band=(1e3, 1e6), temperature_celsius=t - 273.15, source_resistor="Rs")
     loss = 10 ** (loss_db / 10)
@@ -307,7 +307,7 @@ def test_friis_cascade_of_two_gain_stages():
         for n, gain in enumerate(stages):
             parts += _stage(f"S{n}", node, f"o{n}", gain)
             node = f"o{n}"
-        parts.append(noiseless(R("RL", node, "0", 50.0)))
+        parts.append(quiet(R("RL", node, "0", 50.0)))
         return analyze(circuit(*parts), output=node, **kw).noise_figure_dB
 
     f1 = 10 ** (run(g1) / 10)

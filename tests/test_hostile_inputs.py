@@ -702,7 +702,28 @@ FUZZ_BANDS = [
 ]
 FUZZ_TEMPS = [None, "-273.15", "-273.14", "-273", "27", "1e3", "nan", "inf", "-inf", "125", "abc"]
 FUZZ_POINTS = [None, 1, 2, 3, 7, 20, 40]
-FUZZ_TOKENS = ["", "0", "gnd", "x", "V1", "{", "=", "noise=1n", "ni=-10", "shot", "noiseless", "+", "dec", "lin 3"]
+FUZZ_TOKENS = [
+    "",
+    "0",
+    "gnd",
+    "x",
+    "V1",
+    "{",
+    "=",
+    "noise=1n",
+    "ni=-10",
+    "shot",
+    "quiet",
+    "noiseless",
+    "m=2",
+    "tc=1,2",
+    "4k7",
+    "1M5",
+    "v(a)",
+    "+",
+    "dec",
+    "lin 3",
+]
 _VALUE_SPOT = _re.compile(r"(?<=\s)(?:\d+(?:\.\d*)?|\.\d+)(?:[eE][+-]?\d+)?[A-Za-zµΩ]*(?=\s|$)")
 _WORD_SPOT = _re.compile(r"(?<=\s)\S+(?=\s|$)")
 _SHIPPED_TEXTS = {path.name: path.read_text(encoding="utf-8") for path in EXAMPLES}

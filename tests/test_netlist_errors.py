@@ -38,7 +38,7 @@ BAD = [
     Bad("missing node", "t\nC1 a\n", "C1 is missing its second node", 2, 5),
     Bad("missing after continuation", "t\nE1 o 0\n+ p\n", "E1 is missing its negative control node", 3, 4),
     Bad("extra field", "t\nR1 a b 1k 2k\n", "unexpected extra field '2k' on R1", 2, 11),
-    Bad("keyed extra on C", "t\nC1 a b 1n IC=1\n", "unexpected extra field 'IC=...' on C1", 2, 11),
+    Bad("keyed extra on C", "t\nC1 a b 1n IQ=1\n", "unexpected extra field 'IQ=...' on C1", 2, 11),
     Bad("node in braces", "t\nR1 {a} b 1k\n", "expected first node of R1 here", 2, 4),
     Bad("bad suffix", "t\nR1 a b 3x\n", "'3x' ends in 'x'", 2, 8),
     Bad("double suffix", "t\nR1 a b 1kk\n", "two scale suffixes", 2, 8),
@@ -266,12 +266,19 @@ BAD = [
     Bad("long sum", "t\nR1 a b {" + "+".join(["1"] * 5000) + "}\n", "nested more than 200 operations deep", 2, 9),
     Bad("deep unclosed parens", "t\nR1 a b {" + "(" * 5000 + "\n", "the line ends too early", 2, 5009),
     # ---- resistor options
-    Bad("resistor unknown option", "t\nR1 a 0 1k tc=1\n", "unexpected extra field 'tc=...' on R1", 2, 11),
+    Bad("resistor unknown option", "t\nR1 a 0 1k tk=1\n", "unexpected extra field 'tk=...' on R1", 2, 11),
     Bad("resistor temp twice", "t\nR1 a 0 1k temp=1 temp=2\n", "R1 has two temp= values", 2, 18),
-    Bad("resistor noiseless twice", "t\nR1 a 0 1k noiseless noiseless\n", "R1 says 'noiseless' twice", 2, 21),
+    Bad("resistor quiet twice", "t\nR1 a 0 1k quiet quiet\n", "R1 says 'quiet' twice", 2, 17),
+    Bad(
+        "resistor old keyword",
+        "t\nR1 a 0 1k noiseless\n",
+        "R1: 'noiseless' is not a netnoise keyword: write 'quiet'",
+        2,
+        11,
+    ),
     Bad("resistor below absolute zero", "t\nR1 a 0 1k temp=-274\n", "temp=-274 °C is at or below absolute zero", 2, 16),
     Bad("resistor bad noise index", "t\nR1 a 0 1k ni=abc\n", "bad noise index of R1", 2, 14),
-    Bad("capacitor noiseless", "t\nC1 a 0 1n noiseless\n", "unexpected extra field 'noiseless' on C1", 2, 11),
+    Bad("capacitor quiet", "t\nC1 a 0 1n quiet\n", "unexpected extra field 'quiet' on C1", 2, 11),
     # ---- source noise
     Bad(
         "corner without noise", "t\nV1 a 0 corner=10\n", "corner= shapes a noise density, but there is no noise=", 2, 8
@@ -336,7 +343,14 @@ BAD = [
         3,
         1,
     ),
-    Bad("amplifier with four pins", "t\n.model m opamp\nXu a b c d m\n", "has 3 pins (in+, in-, out)", 3, 1),
+    Bad("amplifier with four pins", "t\n.model m opamp\nXu a b c d m\n", "has 3 pins (in+, in-, out) or 5", 3, 1),
+    Bad(
+        "amplifier with six pins",
+        "t\n.model m opamp\nXu a b c d e f m\n",
+        "or 5 with its supplies (in+, in-, v+, v-, out)",
+        3,
+        1,
+    ),
     Bad(
         "amplifier unknown override",
         "t\n.model m opamp\nXu a b c m bw=1\n",

@@ -266,13 +266,13 @@ def test_a_word_before_equals_or_parenthesis_is_not_in_the_run():
 def test_plain_lines_read_as_the_general_form_does():
     # a line of plain words is one token (PLAIN_LINE) with its own code path; the same
     # elements written with a braced value take the general path: same statements
-    plain = parse_statements("t\nR1 a b 1k\nC1 b 0 2p\nL1 b c 3u\nV1 a 0 DC 1 AC 1\nR2 c 0 4k noiseless\n")
-    braced = parse_statements("t\nR1 a b {1k}\nC1 b 0 {2p}\nL1 b c {3u}\nV1 a 0 DC {1} AC 1\nR2 c 0 {4k} noiseless\n")
+    plain = parse_statements("t\nR1 a b 1k\nC1 b 0 2p\nL1 b c 3u\nV1 a 0 DC 1 AC 1\nR2 c 0 4k quiet\n")
+    braced = parse_statements("t\nR1 a b {1k}\nC1 b 0 {2p}\nL1 b c {3u}\nV1 a 0 DC {1} AC 1\nR2 c 0 {4k} quiet\n")
     assert [type(s) for s in plain.statements] == [type(s) for s in braced.statements]
     for p, b in zip(plain.statements, braced.statements):
         assert p.name == b.name and (p.loc.line, p.loc.column) == (b.loc.line, b.loc.column)
     r2 = plain.statements[-1]
-    assert r2.noiseless and [w.text for w in r2.nodes] == ["c", "0"]
+    assert r2.quiet and [w.text for w in r2.nodes] == ["c", "0"]
 
 
 def test_a_plain_line_continued_after_blank_and_comment_lines():
@@ -303,13 +303,13 @@ def test_errors_in_plain_lines_point_at_the_word():
 def test_resistor_options_any_order():
     r = only("t\nR1 a b 10k ni=-20 temp=85\n")
     assert isinstance(r, Passive)
-    assert r.noise_index.number == pytest.approx(-20.0, rel=1e-12)
-    assert r.temperature.number == pytest.approx(85.0, rel=1e-12)
-    assert not r.noiseless
-    load = only("t\nRload out 0 1meg NOISELESS\n")
-    assert load.noiseless and load.temperature is None and load.noise_index is None
-    braced = only("t\nR2 a 0 1k temp={t0+10} noiseless\n")
-    assert braced.noiseless and braced.temperature.tree is not None
+    assert r.option("ni").number == pytest.approx(-20.0, rel=1e-12)
+    assert r.option("temp").number == pytest.approx(85.0, rel=1e-12)
+    assert not r.quiet
+    load = only("t\nRload out 0 1meg QUIET\n")
+    assert load.quiet and load.option("temp") is None and load.option("ni") is None
+    braced = only("t\nR2 a 0 1k temp={t0+10} quiet\n")
+    assert braced.quiet and braced.option("temp").tree is not None
 
 
 # ---- source noise and shot (issue 3)

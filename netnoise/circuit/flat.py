@@ -9,7 +9,9 @@ came from, and every primary value remembering where it came from
 Naming conventions
 ------------------
 * Node names are canonical: lower case, hierarchical with ``.`` (``x1.mid``),
-  ground is always ``"0"`` (``gnd`` in any case is an alias).
+  ground is always ``"0"`` (``gnd`` in any case is an alias).  Each keeps the
+  spelling the user first wrote (``node_spellings``, ``Circuit.shown_node``):
+  compared lower case, shown as written (``/OUT``, ``X1.Mid``).
 * Element names keep the spelling the user wrote, hierarchical with ``.``
   (``X1.R2``: instance path, then element).  Look-ups are case-insensitive;
   use :func:`name_key` to compare.
@@ -37,7 +39,7 @@ from netnoise.circuit.elements.inductor import Inductor
 from netnoise.circuit.elements.lossy_capacitor import LossyCapacitor
 from netnoise.circuit.elements.resistor import Resistor
 from netnoise.circuit.elements.sources import CurrentSource, NoiseSpec, VoltageSource
-from netnoise.constants import GROUND
+from netnoise.constants import GROUND, canonical_node
 from netnoise.errors import SourceLocation, UsageError
 
 __all__ = [
@@ -119,6 +121,7 @@ class Circuit:
     ``parameters``: the top-level ``.param`` values (lower-case names).
     ``value_origins``: name_key(element) -> :class:`ValueOrigin` of its primary value.
     ``tolerances``: element name -> the tolerance its line gives (``tolerance=1%``: 0.01).
+    ``node_spellings``: canonical node -> the spelling the netlist first gave it.
     """
 
     title: str
@@ -132,6 +135,30 @@ class Circuit:
     value_origins: Mapping[str, ValueOrigin] = field(default_factory=dict, compare=False, repr=False)
     rebuild: Callable[[Mapping[str, float]], Circuit] | None = field(default=None, compare=False, repr=False)
     tolerances: Mapping[str, float] = field(default_factory=dict, compare=False)  # element -> tolerance=, a fraction
+    node_spellings: Mapping[str, str] = field(default_factory=dict, compare=False, repr=False)
+
+    def shown_node(self, node: str) -> str:
+        """``node`` as the netlist first spelled it (``/OUT`` for ``/out``); ground is ``0``."""
+        key = canonical_node(node)
+        return self.node_spellings.get(key, key)
+
+    def at_temperature(self, celsius: float) -> Circuit:
+        """This circuit with every value that follows the ambient temperature at ``celsius``
+        (°C): resistors with temperature coefficients; itself when none does."""
+        changed = False
+        elements = list(self.elements)
+        for i in self._temperature_dependent:
+            element = elements[i].at_temperature(celsius)
+            if element is not elements[i]:
+                elements[i] = element
+                changed = True
+        return dataclasses.replace(self, elements=tuple(elements)) if changed else self
+
+    @cached_property
+    def _temperature_dependent(self) -> tuple[int, ...]:
+        """Indices of the elements whose values follow the ambient temperature."""
+        probe = -1.0e3  # a temperature no element is at: those that follow it change
+        return tuple(i for i, e in enumerate(self.elements) if e.at_temperature(probe) is not e)
 
     @cached_property
     def _index(self) -> dict[str, int]:
@@ -150,6 +177,11 @@ class Circuit:
                 if node != GROUND:
                     seen.setdefault(node, None)
         return tuple(seen)
+
+    @cached_property
+    def node_set(self) -> frozenset[str]:
+        """Every non-ground node (canonical names), for look-ups."""
+        return frozenset(self.nodes)
 
     def value_origin(self, name: str) -> ValueOrigin | None:
         """Where element ``name``'s primary value came from (None: built in code)."""

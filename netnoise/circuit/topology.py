@@ -36,20 +36,22 @@ def check_topology(circuit: ck.Circuit) -> None:
     apart = _cut_off_from_ground(circuit.nodes, every_terminal)
     if apart:
         raise CircuitError(
-            f"part of the circuit is not connected to the rest at all (nodes {_some(apart)}); "
+            f"part of the circuit is not connected to the rest at all (nodes {_some(apart, circuit)}); "
             "connect it, or remove it from the netlist"
         )
     _check_voltage_loops(circuit)
     floating = _cut_off_from_ground(circuit.nodes, dc_paths)
     if floating:
         raise CircuitError(
-            f"node(s) {_some(floating)} have no DC path to ground: they connect to the rest only through "
+            f"node(s) {_some(floating, circuit)} have no DC path to ground: they connect to the rest only through "
             "capacitors or current sources, so their DC voltage is undefined. Add a resistor to "
             "ground (a large value such as 1 GΩ models a leakage path) or check the node names"
         )
 
 
-def _some(names: list[str], most: int = 8) -> str:
+def _some(nodes: list[str], circuit: ck.Circuit, most: int = 8) -> str:
+    """The first ``most`` of ``nodes``, as the netlist spelled them."""
+    names = [circuit.shown_node(node) for node in nodes[: most + 1]] + nodes[most + 1 :]
     return ", ".join(names[:most]) + (f" and {len(names) - most} more" if len(names) > most else "")
 
 

@@ -17,6 +17,7 @@ are refused by name (:mod:`netnoise.circuit.topology`, :func:`_Problem.check_sta
 
 from __future__ import annotations
 
+import difflib
 import math
 from collections.abc import Callable
 from dataclasses import dataclass
@@ -31,6 +32,7 @@ from netnoise.engine.integrate import integrate_band
 from netnoise.engine.mna import MnaSystem, assemble
 from netnoise.engine.noise_sources import NoiseSources, collect_noise_sources
 from netnoise.engine.options import SolverOptions
+from netnoise.engine.rails import rail_notes
 from netnoise.engine.resources import require_memory
 from netnoise.engine.total_variance import (
     UnstableCircuit,
@@ -80,7 +82,7 @@ def _resolve(circuit, output, reference, input_source, band, points_per_decade, 
         output, reference = card.output_node, reference if reference is not None else card.reference_node
     if reference is None:
         reference = ck.GROUND
-    output, reference = canonical_node(output), canonical_node(reference)  # 'GND', 'gnd', '0' are one node
+    output, reference = _known_node(circuit, output), _known_node(circuit, reference)  # 'GND', 'gnd', '0': one node
     if output == reference:
         raise UsageError(f"output node and reference node are the same ('{output}')")
     if input_source is None and card is not None and card.input_source:
@@ -154,6 +156,17 @@ def _resolve(circuit, output, reference, input_source, band, points_per_decade, 
         tuple(notes),
         band_defaulted,
     )
+
+
+def _known_node(circuit: ck.Circuit, given: str) -> str:
+    """The canonical name of node ``given`` (any case); CircuitError, in the user's spelling and
+    with the netlist's close names, when the circuit has no such node."""
+    key = canonical_node(given)
+    if key == ck.GROUND or key in circuit.node_set:
+        return key
+    close = difflib.get_close_matches(key, list(circuit.node_set), n=3)
+    hint = f"; did you mean {', '.join(circuit.shown_node(n) for n in close)}?" if close else ""
+    raise CircuitError(f"node '{given}' does not exist in the circuit{hint}")
 
 
 class _Problem:
@@ -404,6 +417,7 @@ class PreparedAnalysis:
     def with_circuit(self, circuit: ck.Circuit) -> PreparedAnalysis:
         """This analysis for ``circuit``, the same circuit with other values
         (CircuitError if its structure differs)."""
+        circuit = circuit.at_temperature(self._problem.settings.temperature_K - ZERO_CELSIUS_K)
         return PreparedAnalysis(self._problem.refilled(circuit), self._source_resistor, self._gain_at_Hz)
 
     def with_values(self, values: dict[str, float]) -> PreparedAnalysis:
@@ -434,6 +448,7 @@ def prepare(
     settings = _resolve(circuit, output, reference, input_source, band, points_per_decade, temperature_celsius)
     if gain_at_Hz is not None and not (math.isfinite(gain_at_Hz) and gain_at_Hz >= 0.0):
         raise UsageError(f"the frequency the gain is taken at must be 0 Hz or more and finite, got {gain_at_Hz!r}")
+    circuit = circuit.at_temperature(settings.temperature_K - ZERO_CELSIUS_K)  # resistors' tc1, tc2
     return PreparedAnalysis(_Problem(circuit, settings, progress, options=options), source_resistor, gain_at_Hz)
 
 
@@ -441,6 +456,7 @@ def _analyze(problem: _Problem, source_resistor: str | None, gain_at_Hz: float |
     settings = problem.settings
     circuit = problem.system.circuit
     notes = list(settings.notes)
+    notes += rail_notes(problem.system)  # amplifiers drawn with supply pins: pins within the rails at DC
     low, high = settings.low, settings.high
     sources = problem.sources
     k = len(sources)
@@ -550,8 +566,8 @@ def _analyze(problem: _Problem, source_resistor: str | None, gain_at_Hz: float |
     return NoiseResult(
         title=circuit.title,
         temperature_K=settings.temperature_K,
-        output_node=settings.output,
-        reference_node=settings.reference,
+        output_node=circuit.shown_node(settings.output),  # as the netlist spelled it
+        reference_node=circuit.shown_node(settings.reference),
         input_source=problem.system.circuit.element(settings.input_source).name
         if settings.input_source and problem.has_input
         else None,
@@ -810,7 +826,7 @@ def output_density_function(
     """A function f (Hz, array) -> total output noise density (V²/Hz), for
     users who integrate or plot it themselves."""
     settings = _resolve(circuit, output, reference, None, (1.0, 2.0), 1, temperature_celsius)
-    problem = _Problem(circuit, settings)
+    problem = _Problem(circuit.at_temperature(temperature_celsius), settings)
 
     def density(frequency_Hz):
         return problem.densities(np.atleast_1d(np.asarray(frequency_Hz, dtype=float))).sum(axis=0)

@@ -15,6 +15,7 @@ import scipy.sparse.linalg as spla
 
 from netnoise import circuit as ck
 from netnoise.circuit.topology import check_element_values, check_topology
+from netnoise.constants import DEFAULT_TEMPERATURE_C
 from netnoise.engine.mna import MnaSystem, assemble
 from netnoise.errors import CircuitError
 
@@ -57,8 +58,13 @@ def solve_operating_point(system: MnaSystem) -> np.ndarray:
     return x
 
 
-def operating_point(circuit: ck.Circuit) -> OperatingPoint:
-    """The DC operating point of ``circuit``."""
+def operating_point(circuit: ck.Circuit, temperature_celsius: float | None = None) -> OperatingPoint:
+    """The DC operating point of ``circuit`` at ``temperature_celsius`` (°C; default: the
+    netlist's ``.temp``, else 27 °C), which sets resistors with temperature coefficients.
+    Nodes are keyed as the netlist spelled them."""
+    if temperature_celsius is None:
+        temperature_celsius = circuit.temperature_celsius
+    circuit = circuit.at_temperature(DEFAULT_TEMPERATURE_C if temperature_celsius is None else temperature_celsius)
     check_topology(circuit)
     check_element_values(circuit)
     system = assemble(circuit)
@@ -73,7 +79,7 @@ def operating_point(circuit: ck.Circuit) -> OperatingPoint:
             continue
         currents[element.name] = current
         voltages[element.name] = element.dc_voltage(view) or 0.0
-    nodes = {node: view.v(node) for node in system.node_index}
+    nodes = {circuit.shown_node(node): view.v(node) for node in system.node_index}
     return OperatingPoint(node_voltages=nodes, element_currents=currents, element_voltages=voltages)
 
 

@@ -141,6 +141,8 @@ class _Scope:
             return c.GROUND
         if key in self.pin_map:
             return self.pin_map[key]
+        # compared lower case, shown as first written (X1.Mid for x1.mid)
+        self.names.spelled.setdefault(self.node_prefix + key, self.element_prefix + word.text)
         if self.node_prefix:
             self.names.internal.add(self.node_prefix + key)
         elif "." in key:
@@ -152,6 +154,7 @@ class _Scope:
 class _NodeNames:
     top_dotted: dict[str, Word] = field(default_factory=dict)
     internal: set[str] = field(default_factory=set)
+    spelled: dict[str, str] = field(default_factory=dict)  # canonical node -> as first written
 
     def check(self) -> None:
         """Refuse a top-level node spelled like a subcircuit's internal node: it would join it."""
@@ -317,12 +320,13 @@ class _Elaborator:
 
     def opamp(self, statement: Instance, scope: _Scope, model: ModelCard, home: Definition) -> None:
         name = scope.element_prefix + statement.name
-        if len(statement.nodes) != 3:
+        if len(statement.nodes) not in (3, 5):
             raise _fail(
                 f"{name} connects {len(statement.nodes)} node(s) but the amplifier "
-                f"'{model.name.text}' has 3 pins (in+, in-, out)",
+                f"'{model.name.text}' has 3 pins (in+, in-, out) or 5 with its supplies (in+, in-, v+, v-, out)",
                 statement.loc,
-                f"write: {statement.name} non_inverting_input inverting_input output {model.name.text} [param=value ...]",
+                f"write: {statement.name} in+ in- out {model.name.text}  or  "
+                f"{statement.name} in+ in- v+ v- out {model.name.text}",
             )
         # the model's own values are evaluated where the .model is written
         where: _Scope | None = scope
@@ -493,22 +497,23 @@ def _sweep(sweep: Sweep, engine: _Elaborator, scope: _Scope) -> c.Sweep:
     return c.Sweep(sweep.kind, int(points), start, stop)
 
 
-def _node_check(word: Word, nodes: set[str], what: str) -> str:
+def _node_check(word: Word, nodes: set[str], what: str, spelled: dict[str, str]) -> str:
     key = word.text.lower()
     if key in GROUND_ALIASES:
         return c.GROUND
     if key not in nodes:
         close = difflib.get_close_matches(key, sorted(nodes), n=3)
-        hint = "did you mean " + " or ".join(f"'{n}'" for n in close) + "?" if close else ""
+        hint = "did you mean " + " or ".join(f"'{spelled.get(n, n)}'" for n in close) + "?" if close else ""
         raise _fail(f"the {what} node '{word.text}' is not connected to any element", word.loc, hint)
     return key
 
 
 def _noise_card(card: NoiseCard, engine: _Elaborator, scope: _Scope, nodes: set[str]) -> c.NoiseCard:
-    output = _node_check(card.output, nodes, ".noise output")
+    spelled = scope.names.spelled
+    output = _node_check(card.output, nodes, ".noise output", spelled)
     if output == c.GROUND:
         raise _fail("the .noise output cannot be ground", card.output.loc)
-    reference = _node_check(card.reference, nodes, ".noise reference") if card.reference else c.GROUND
+    reference = _node_check(card.reference, nodes, ".noise reference", spelled) if card.reference else c.GROUND
     if reference == output:
         raise _fail("the .noise output and reference are the same node", card.reference.loc)  # type: ignore[union-attr]
     source_name = None
@@ -626,4 +631,5 @@ def _flat_circuit(parsed: ParsedFile, top: Definition, source_file: str, overrid
         value_origins=engine.origins,
         tolerances=engine.tolerances,
         rebuild=rebuild,
+        node_spellings=scope.names.spelled,
     )

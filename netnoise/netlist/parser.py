@@ -45,6 +45,7 @@ from netnoise.text.fields import (
     as_assignment,
     as_value,
     describe,
+    glued_call,
     shown,
 )
 from netnoise.text.source import SourceText, prepare
@@ -294,6 +295,8 @@ def _subckt(card: _Card) -> SubcktCard:
 def _noise(card: _Card) -> NoiseCard:
     form = ".noise v(out[,ref]) [SOURCE [dec|oct|lin points fstart fstop]]"
     probe = card.take("output v(node) or v(node,ref)", form)
+    if isinstance(probe, Word):  # v(out), v(Net-(R1-Pad2)): one word, read as the call it is here
+        probe = glued_call(probe) or probe
     if not isinstance(probe, Call) or probe.name.lower() != "v":
         raise _fail(
             f"expected the output as v(node) or v(node,ref), not {describe(probe)}",

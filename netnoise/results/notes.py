@@ -8,7 +8,8 @@ the Python API reads the code and data.
 Codes: ``netlist`` (a remark about the netlist: ignored cards, suspicious
 values), ``band-default``, ``sweep-linear``, ``temperature-default``,
 ``flicker-band-start``, ``spectrum-range``, ``integration-accuracy``,
-``signal-unbounded``, ``stability-unchecked``, ``other``.
+``signal-unbounded``, ``stability-unchecked``, ``outside-rails`` (an amplifier's
+pin outside its supply rails at DC), ``other``.
 """
 
 from __future__ import annotations

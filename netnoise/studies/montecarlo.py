@@ -219,7 +219,8 @@ class _Model:
     keep_density: bool
 
 
-def _trial_circuit(model: _Model, values: np.ndarray) -> ck.Circuit:
+def _trial_circuit(model: _Model, values: np.ndarray, temperature_K: float) -> ck.Circuit:
+    """The nominal circuit with one trial's values, at its temperature (resistors' tc1, tc2)."""
     circuit = model.prepared.circuit
     params = {n: float(v) for n, v, k in zip(model.names, values, model.kinds) if k == "param"}
     elements = {n: float(v) for n, v, k in zip(model.names, values, model.kinds) if k == "element"}
@@ -227,7 +228,7 @@ def _trial_circuit(model: _Model, values: np.ndarray) -> ck.Circuit:
         circuit = circuit.with_params(params)
     if elements:
         circuit = circuit.with_values(elements)
-    return circuit
+    return circuit.at_temperature(float(temperature_K) - ZERO_CELSIUS_K)
 
 
 def _trial_problem(model: _Model, values: np.ndarray, temperature_K: float):
@@ -235,7 +236,7 @@ def _trial_problem(model: _Model, values: np.ndarray, temperature_K: float):
     from netnoise.engine.analysis import _Problem
 
     nominal = model.prepared._problem
-    circuit = _trial_circuit(model, values)
+    circuit = _trial_circuit(model, values, temperature_K)
     settings = dataclasses.replace(nominal.settings, temperature_K=float(temperature_K))
     return _Problem(circuit, settings, None, nominal.system.refilled(circuit), nominal.options)
 
@@ -259,7 +260,7 @@ def _dense_trial(model: _Model, values: np.ndarray, temperature_K: float) -> _Tr
     from netnoise.engine.noise_sources import collect_noise_sources
 
     system = model.prepared.system
-    circuit = _trial_circuit(model, values)
+    circuit = _trial_circuit(model, values, temperature_K)
     n = system.size
     stamps = _Stamps(circuit, _Layout(system.node_index, system.branch_index, system.internal_index, system.unknowns))
     by_kind: dict[type, list] = {}

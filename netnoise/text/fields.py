@@ -32,8 +32,10 @@ __all__ = [
     "describe",
     "as_value",
     "as_assignment",
+    "refuse_list",
     "is_value",
     "IDENTIFIER",
+    "glued_call",
 ]
 
 
@@ -87,10 +89,23 @@ class Braced:
 
 @dataclass(frozen=True)
 class Keyed:
+    """``key=value``; ``rest``: the further values of a list ``key=a,b`` (``tc=1e-3,2e-6``)."""
+
     key: str
     value: Word | Braced | Quoted
     loc: SourceLocation = field(compare=False)
     end: SourceLocation = field(compare=False, repr=False)
+    rest: tuple[Word, ...] = ()
+
+
+def refuse_list(item: Keyed, what: str) -> None:
+    """A ``key=a,b`` list where one value is wanted: refused, naming the key."""
+    if item.rest:
+        raise _fail(
+            f"{item.key}= takes one value {what}, not a list",
+            item.rest[0].loc,
+            f"write {item.key}=VALUE",
+        )
 
 
 @dataclass(frozen=True)
@@ -176,6 +191,25 @@ def braced_text(item: Braced) -> str:
 
 
 IDENTIFIER = re.compile(r"[A-Za-z_][A-Za-z0-9_]*\Z")
+_GLUED = re.compile(r"([A-Za-z_][A-Za-z0-9_]*)\((.+)\)\Z", re.DOTALL)
+
+
+def glued_call(word: Word) -> Call | None:
+    """``v(out)``, ``poly(1)``, ``v(Net-(R1-Pad2))``: a word that is a name and one
+    parenthesised argument glued to it, as a call with that argument (the grammar
+    keeps such a word whole, since in node position it is a name); None for any
+    other word (``Net-(R1-Pad2)``: a '(' that does not close at the end)."""
+    match = _GLUED.match(word.text)
+    if match is None:
+        return None
+    name, inner = match.groups()
+    depth = 0
+    for ch in inner:  # the first '(' must close at the very end
+        depth += {"(": 1, ")": -1}.get(ch, 0)
+        if depth < 0:
+            return None
+    arg = Word(inner, word._source, word._line, word._column + len(name) + 1)
+    return Call(name, (arg,), word.loc, word.end)
 
 
 def as_value(item: Field, what: str) -> Value:
@@ -217,6 +251,7 @@ def is_value(item: Field | None) -> bool:
 
 
 def as_assignment(item: Keyed, what: str) -> Assignment:
+    refuse_list(item, what)
     key = item.key
     if key.lower().startswith("params:"):
         key = key[len("params:") :]
@@ -269,7 +304,11 @@ class FieldReader:
         return out
 
     def keyed(self, node: Tree) -> Keyed:
-        key, raw = node.children
+        key, raw, *more = node.children  # more: the further values of key=a,b
+        if more:
+            rest = tuple(self.word(token) for token in more)  # type: ignore[arg-type]
+            first = self.word(raw)  # type: ignore[arg-type]
+            return Keyed(str(key), first, self.source.at(key), self.source.after(node), rest)
         if isinstance(raw, Tree):
             value: Word | Braced | Quoted = self.braced(raw)
         elif raw.type == "STRING":
@@ -287,7 +326,7 @@ class FieldReader:
             return Quoted(str(token)[1:-1], self.source.at(token), self.source.after(token))
         if kind == "braced":
             return self.braced(node)
-        if kind == "keyed":
+        if kind in ("keyed", "keyed_list"):
             return self.keyed(node)
         if kind == "call":
             name = node.children[0]
@@ -334,17 +373,22 @@ class LineReader:
         return f"the form is: {self.form}"
 
     def peek(self) -> Field | None:
-        return self.fields[self.position] if self.position < len(self.fields) else None
+        """The next field; a glued word such as ``poly(1)`` as a call (out of node position)."""
+        item = self.fields[self.position] if self.position < len(self.fields) else None
+        if isinstance(item, Word) and "(" in item.text:
+            return glued_call(item) or item
+        return item
 
     def has_key(self, key: str) -> bool:
         """True if a ``key=value`` field with this key (any case) is on the line."""
         return any(isinstance(item, Keyed) and item.key.lower() == key for item in self.fields)
 
-    def take(self, what: str) -> Field:
-        item = self.peek()
+    def take(self, what: str, node: bool = False) -> Field:
+        """The next field (``node``: as written, a glued ``name(...)`` word being a node name)."""
+        item = self.peek() if not node else (self.fields[self.position] if self.position < len(self.fields) else None)
         if item is None:
             raise _fail(f"{self.name} is missing its {what}", self.last_end, self.form_hint())
-        self.check_unsupported_form(item)
+        self.check_unsupported_form(self.peek() or item if node else item)  # POLY(1) refused where a node goes
         self.position += 1
         self.last = item
         return item
@@ -360,7 +404,14 @@ class LineReader:
             raise _fail(f"{self.name}: behavioural sources are not supported", item.loc)
 
     def node(self, what: str) -> Word:
-        item = self.take(what)
+        item = self.take(what, node=True)
+        if isinstance(item, Call):
+            raise _fail(
+                f"expected {what} of {self.name} here, not {describe(item)}",
+                item.loc,
+                "a node name may hold parentheses in closed pairs with no blank, ',' or '=' inside, "
+                "such as Net-(R1-Pad2)",
+            )
         if not isinstance(item, Word):
             raise _fail(f"expected {what} of {self.name} here, not {describe(item)}", item.loc, self.form_hint())
         return item
@@ -372,7 +423,13 @@ class LineReader:
     def keyed_value(self, item: Keyed, what: str) -> Value:
         """Take ``item`` (a key=value field, the next one) as the value of ``what``."""
         self.take(what)
+        refuse_list(item, f"({what}) on {self.name}")
         return as_value(item.value, f"{what} of {self.name}")
+
+    def keyed_values(self, item: Keyed, what: str) -> tuple[Value, ...]:
+        """Take ``item`` (``key=a`` or ``key=a,b,...``, the next field) as the values of ``what``."""
+        self.take(what)
+        return tuple(as_value(x, f"{what} of {self.name}") for x in (item.value, *item.rest))
 
     def done(self) -> None:
         item = self.peek()

@@ -45,6 +45,11 @@ _SUBSUMED = {
 }
 
 
+_NAMES_WITH_PARENTHESES = (
+    "a node name may hold parentheses in closed pairs with no blank, ',' or '=' inside, such as Net-(R1-Pad2)"
+)
+
+
 def _or_list(items: list[str]) -> str:
     if len(items) <= 1:
         return "".join(items)
@@ -100,9 +105,14 @@ def _unwrap(exc: UnexpectedInput, source: SourceText) -> NetlistError:
                 "a line starts with an element name (R1, C2, X3, ...) or a dot-card (.param, ...)",
             )
         message = f"{_token_words(token)} is not allowed here; expected {_expected_words(expected)}"
+        hint = ""
         if token.type in ("_NL", "$END"):
             message = f"the line ends too early; expected {_expected_words(expected)}"
-        return _fail(message, loc)
+            if "RPAR" in expected:
+                hint = f"a '(' is not closed; {_NAMES_WITH_PARENTHESES}"
+        elif token.type == "LPAR" and expected & {"WORD", "WORDS"}:
+            hint = f"a name cannot start with '('; {_NAMES_WITH_PARENTHESES}"
+        return _fail(message, loc, hint)
     if isinstance(exc, UnexpectedCharacters):
         loc = source.location(exc.line, exc.column)
         allowed = set(exc.allowed or ())

@@ -19,6 +19,16 @@ t       1e12
 mil     25.4e-6     a thousandth of an inch
 ======  ==========  ==================================================
 
+RKM code (IEC 60062, the letter-and-digit code printed on parts lists and
+schematics): a scale letter standing for the decimal point, ``4k7`` = 4.7k,
+``2n2`` = 2.2n, ``4u7`` = 4.7u, ``1k5`` = 1.5k, ``1g5`` = 1.5g, ``1f5`` =
+1.5f; ``R`` marks the decimal point of a plain number: ``1R5`` = 1.5,
+``0R1`` = 0.1, ``R47`` = 0.47.  Digits must stand on both sides of the
+letter (``R47`` aside), a unit may follow (``4k7Ohm``, ``2n2F``).  An ``m``
+or ``M`` in this position is refused: the code reads ``1M5`` as 1.5 mega and
+``2m2`` as 2.2 milli, a netlist reads ``m`` in any case as milli, so the
+message shows both readings and what to write (``1.5meg`` or ``1.5m``).
+
 Units recognised after the suffix (and ignored, since the element letter
 already says what the value is): ``ohm``, ``ohms``, ``Ω``, ``f``, ``h``,
 ``v``, ``a``, ``hz``, ``s``.  So ``10kOhm``, ``4.7uF``, ``1mH`` and ``1kHz``
@@ -35,7 +45,16 @@ import sys
 
 from netnoise.engformat import format_quantity
 
-__all__ = ["SUFFIXES", "UNITS", "parse_value", "split_value", "milli_slip_notice", "exact", "SMALLEST_NORMAL"]
+__all__ = [
+    "SUFFIXES",
+    "UNITS",
+    "RKM_LETTERS",
+    "parse_value",
+    "split_value",
+    "milli_slip_notice",
+    "exact",
+    "SMALLEST_NORMAL",
+]
 
 SUFFIXES: dict[str, float] = {
     "meg": 1e6,
@@ -108,11 +127,44 @@ def _shown(text: str) -> str:
     return text if len(text) <= 40 else text[:37] + "..."
 
 
+# RKM code (IEC 60062): the letters that stand for the decimal point, and their scale; 'r' is 1
+RKM_LETTERS: dict[str, float] = {"r": 1.0, **{s: SUFFIXES[s] for s in "fpnu\u00b5\u03bckgt"}}
+_RKM = re.compile(
+    r"([+-]?)(\d*)([rfpnu\u00b5\u03bckgtm])(\d+)(ohms|ohm|\u03c9|hz|[fhvas])?\Z",
+    re.IGNORECASE,
+)
+
+
+def _rkm(text: str) -> tuple[float, str, str] | None:
+    """``text`` read in the RKM code (``4k7``, ``1R5``, ``R47``), or None when it is not one.
+    ValueError for ``1M5`` and ``2m2``, which that code and a netlist read differently."""
+    match = _RKM.match(text)
+    if match is None:
+        return None
+    sign, whole, letter, fraction, unit = match.groups()
+    lowered = letter.lower()
+    if not whole and lowered != "r":  # 'n2' is a word, not a value; only R47 stands without a leading digit
+        return None
+    number = float(f"{sign}{whole or '0'}.{fraction}")
+    if lowered == "m":
+        said = f"{sign}{whole}.{fraction}"
+        raise ValueError(
+            f"'{_shown(text)}' is ambiguous: in the letter-and-digit code of parts lists (IEC 60062) it "
+            f"reads {said} mega (an upper-case M) or {said} milli (a lower-case m), and in a netlist m or M "
+            f"in any case means milli; write {said}meg for {said}e6 or {said}m for {said}e-3"
+        )
+    value = number * RKM_LETTERS[lowered]
+    return value, "" if lowered == "r" else lowered, (unit or "").lower()
+
+
 def _split_checked(text: str) -> tuple[float, str, str]:
     stripped = text.strip()
     said = _shown(stripped)
     if not stripped:
         raise ValueError("empty value")
+    coded = _rkm(stripped)
+    if coded is not None:
+        return coded
     match = _NUMBER.match(stripped)
     if match is None:
         raise ValueError(f"'{said}' is not a number")

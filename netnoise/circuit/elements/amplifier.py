@@ -1,7 +1,11 @@
 """The voltage-feedback amplifier, described the way its data sheet is.
 
 Used from a plain ``X`` line whose last name is a ``.model NAME opamp (...)``
-card: ``Xname in+ in- out MODEL [param=value ...]``.
+card: ``Xname in+ in- out MODEL [param=value ...]``, or with its supply pins in
+the usual order of amplifier macro-models, ``Xname in+ in- v+ v- out MODEL``.
+The rails are not modelled (no current flows in the supply pins); after the
+DC operating point is found, :meth:`OpAmp.rail_pins` lets the analysis say
+when an input or the output sits outside them.
 
 Macro-model (stamped directly, no hidden subcircuit): an internal node p1
 with conductance g1 = ``STAGE_CONDUCTANCE`` and capacitance g1·A0/(2π·GBW),
@@ -98,9 +102,10 @@ class OpAmp(Element):
     nodes: tuple[str, str, str] = (GROUND, GROUND, GROUND)
     model: OpAmpModel = field(default_factory=lambda: OpAmpModel(""))
     origin: SourceLocation | None = field(default=None, compare=False, repr=False)
+    supplies: tuple[str, str] | None = None  # (v+, v-) of the 5-pin form: checked, not modelled
 
     letter: ClassVar[str] = "X"
-    form: ClassVar[str] = "Xname in+ in- out opamp_model [param=value ...]"
+    form: ClassVar[str] = "Xname in+ in- [v+ v-] out opamp_model [param=value ...]"
     branch_count: ClassVar[int] = 1
     statement_value: ClassVar[str | None] = None
     supplies_gain: ClassVar[bool] = True
@@ -128,8 +133,13 @@ class OpAmp(Element):
                 f"{', '.join(given[k] for k in defaulted)} are used, and they set the amplifier's bandwidth "
                 "and so the noise bandwidth: give the part's values"
             )
-        nodes = (ctx.node(statement.nodes[0]), ctx.node(statement.nodes[1]), ctx.node(statement.nodes[2]))
-        return cls(name, nodes, model, ctx.loc)
+        words = statement.nodes
+        supplies = None
+        if len(words) == 5:  # in+ in- v+ v- out
+            supplies = (ctx.node(words[2]), ctx.node(words[3]))
+            words = (words[0], words[1], words[4])
+        nodes = (ctx.node(words[0]), ctx.node(words[1]), ctx.node(words[2]))
+        return cls(name, nodes, model, ctx.loc, supplies)
 
     def check_values(self) -> None:
         from netnoise.circuit.limits import GAIN_LIMIT
@@ -144,7 +154,14 @@ class OpAmp(Element):
 
     # ---- structure and topology
     def terminals(self) -> tuple[str, ...]:
-        return self.nodes
+        return self.nodes  # not the supply pins: no current flows in them here
+
+    def rail_pins(self) -> tuple[tuple[str, str], tuple[tuple[str, str], ...]] | None:
+        """((v+ node, v- node), ((pin label, node), ...)): the rails, and the pins whose DC
+        voltage must lie between them; None without supply pins."""
+        if self.supplies is None:
+            return None
+        return self.supplies, (("in+", self.nodes[0]), ("in-", self.nodes[1]), ("out", self.nodes[2]))
 
     def internal_nodes(self) -> tuple[str, ...]:
         return ("p1", "p2") if self.model.second_pole_Hz else ("p1",)

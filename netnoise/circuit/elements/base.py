@@ -9,12 +9,14 @@ module of :mod:`netnoise.circuit.elements`, listed once in
 * its structure: ``terminals()`` (every node it touches), ``branch_count``
   (branch currents it adds as unknowns), ``internal_nodes()`` (named
   internal unknowns);
+* the supply rails its pins should stay within at DC (``rail_pins``);
 * its class for the topology checks: ``dc_paths()`` (node pairs it joins at
   DC) and ``voltage_defined()`` (node pairs whose voltage it fixes);
 * its stamps into G and C (``stamp(s)``, or ``stamp_all`` for many at once)
   and its DC right-hand side (``stamp_dc(s, b)``);
 * its DC current and voltage from a solution (``dc_current(v)``, ``dc_voltage(v)``);
 * its noise sources (``noise_sources(n)``);
+* its values at an ambient temperature (``at_temperature``);
 * the values it can compute with (``check_values``, or ``check_all`` for
   checks across its members);
 * its values that can change (``value_field``, ``with_value``).
@@ -42,7 +44,18 @@ if TYPE_CHECKING:
     from netnoise.noise.mechanisms import NoiseSource
     from netnoise.text.fields import LineReader
 
-__all__ = ["Element", "TwoTerminal", "Stamper", "SolutionView", "NoiseView", "BuildContext"]
+__all__ = [
+    "Element",
+    "TwoTerminal",
+    "Stamper",
+    "SolutionView",
+    "NoiseView",
+    "BuildContext",
+    "Passive",
+    "parse_passive",
+    "multiplier",
+    "ignore_initial_condition",
+]
 
 
 class Stamper(Protocol):
@@ -137,9 +150,19 @@ class Element:
     def voltage_defined(self) -> tuple[tuple[str, str], ...]:
         return ()
 
+    def rail_pins(self) -> tuple[tuple[str, str], tuple[tuple[str, str], ...]] | None:
+        """((upper rail node, lower rail node), ((pin label, node), ...)): supply rails this
+        element's pins should stay within at the DC operating point; None: no rails."""
+        return None
+
     # ---- values the engine can compute with
     def check_values(self) -> None:
         """Raise CircuitError for a value the engine cannot compute with correctly."""
+
+    def at_temperature(self, celsius: float) -> Element:
+        """This element at ambient temperature ``celsius`` (°C): a copy whose values
+        follow it (a resistor's temperature coefficients), or itself."""
+        return self
 
     @classmethod
     def check_all(cls, elements: Iterable[Element], circuit: Any) -> None:
@@ -205,18 +228,101 @@ class TwoTerminal(Element):
 
 @dataclass(frozen=True)
 class Passive:
-    """Statement of an R, C or L line.  Resistors may carry ``noiseless``,
-    ``temp=`` and ``ni=``; ``kind`` is the element kind that builds it."""
+    """Statement of an R, C or L line: its value and, as written, its options
+    (``options``: (key in lower case, Value, or a tuple of Values for a
+    list such as ``tc=a,b``), in line order); ``quiet`` for a resistor
+    whose noise is switched off; ``kind`` is the element kind that builds it."""
 
     letter: str
     name: str
     nodes: tuple[Any, Any]  # Words
     value: Any  # Value
     loc: SourceLocation = field(compare=False)
-    noiseless: bool = False
-    temperature: Any = None  # temp=, °C
-    noise_index: Any = None  # ni=, dB
+    quiet: bool = False
+    options: tuple[tuple[str, Any], ...] = ()
     kind: Any = field(default=None, compare=False, repr=False)
+
+    def option(self, key: str) -> Any:
+        """The Value (or tuple of Values) of option ``key``, None when the line has none."""
+        for name, value in self.options:
+            if name == key:
+                return value
+        return None
+
+
+def parse_passive(
+    cls: Any,
+    line: LineReader,
+    options: dict[str, str],
+    lists: frozenset[str] = frozenset(),
+    flag: str | None = None,
+    retired: dict[str, str] | None = None,
+) -> Passive:
+    """An R, C or L line: two nodes, the value (plain, or keyed by the letter:
+    ``R=1k``, ``C=10n``, ``L=1u``), then ``key=value`` options among ``options``
+    (key -> what it is, for messages; keys in ``lists`` take ``a,b``), the
+    keyword ``flag`` (the resistor's ``quiet``) and none of the ``retired``
+    keywords (keyword -> the message that names what to write)."""
+    from netnoise.text.fields import Keyed, Word, describe
+    from netnoise.text.source import fail
+
+    nodes = (line.node("first node"), line.node("second node"))
+    item = line.peek()
+    if isinstance(item, Keyed) and item.key.lower() == cls.letter.lower():
+        value = line.keyed_value(item, "value")
+    else:
+        value = line.value("value")
+    quiet = False
+    taken: dict[str, Any] = {}
+    hint = line.form_hint()
+    while (item := line.peek()) is not None:
+        word = item.text.lower() if isinstance(item, Word) else ""
+        if flag is not None and word == flag:
+            if quiet:
+                raise fail(f"{line.name} says '{flag}' twice", item.loc)
+            line.take(flag)
+            quiet = True
+            continue
+        if retired and word in retired:
+            raise fail(f"{line.name}: {retired[word]}", item.loc, hint)
+        key = item.key.lower() if isinstance(item, Keyed) else ""
+        if key not in options:
+            line.check_unsupported_form(item)
+            raise fail(f"unexpected extra field {describe(item)} on {line.name}", item.loc, hint)
+        if key in taken:
+            raise fail(f"{line.name} has two {key}= values", item.loc)
+        if key in lists:
+            taken[key] = line.keyed_values(item, options[key])  # type: ignore[arg-type]
+        else:
+            taken[key] = line.keyed_value(item, options[key])  # type: ignore[arg-type]
+    return Passive(cls.letter, line.name, nodes, value, line.loc, quiet, tuple(taken.items()), kind=cls)
+
+
+def multiplier(statement: Passive, ctx: BuildContext) -> float:
+    """``m=``: how many equal parts stand in parallel (1 when not given); above 0."""
+    value = statement.option("m")
+    if value is None:
+        return 1.0
+    m = ctx.number(value)
+    if not m > 0:
+        raise ctx.fail(
+            f"{ctx.name}: m={m:g} must be above 0 (m parts stand in parallel)",
+            value.loc,
+            "leave m= out for one part",
+        )
+    return m
+
+
+def ignore_initial_condition(statement: Passive, ctx: BuildContext) -> None:
+    """``ic=`` sets a transient's starting point: read, and ignored with a notice."""
+    value = statement.option("ic")
+    if value is not None:
+        ctx.number(value)  # still a value that must make sense
+        ctx.notice(
+            f"{ctx.name}: ic= (the starting value of a transient) is ignored: noise analysis works on "
+            "the small-signal circuit",
+            value.loc,
+        )
 
 
 def value_nodes(ctx: BuildContext, statement: Any) -> tuple[str, str]:

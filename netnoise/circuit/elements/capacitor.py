@@ -1,6 +1,10 @@
-"""C: a capacitance; noiseless.  Form: ``Cname node1 node2 value``.
+"""C: a capacitance; it adds no noise.
 
-Stamp: the resistor's pattern in the C matrix.
+Form: ``Cname node1 node2 value [m=N] [ic=VOLTS]`` (the value may be keyed: ``C=10n``).
+``m``: m equal parts in parallel (C·m); ``ic``: a transient's starting voltage, read
+and ignored with a notice.
+
+Stamp: the resistor's pattern in the C matrix, with C·m.
 """
 
 from __future__ import annotations
@@ -10,42 +14,62 @@ from typing import ClassVar
 
 import numpy as np
 
-from netnoise.circuit.elements.base import BuildContext, Passive, TwoTerminal, refuse_negative_reactance, value_nodes
+from netnoise.circuit.elements.base import (
+    BuildContext,
+    Passive,
+    TwoTerminal,
+    ignore_initial_condition,
+    multiplier,
+    parse_passive,
+    refuse_negative_reactance,
+    value_nodes,
+)
 from netnoise.text.fields import LineReader
 
-__all__ = ["Capacitor"]
+__all__ = ["Capacitor", "CAPACITOR_OPTIONS"]
+
+# the options of a C line: key -> what it is
+CAPACITOR_OPTIONS: dict[str, str] = {"m": "multiplier (parts in parallel)", "ic": "initial condition"}
 
 
 @dataclass(frozen=True)
 class Capacitor(TwoTerminal):
-    """Capacitance in farads."""
+    """Capacitance in farads of one part; ``multiplier`` equal parts in parallel."""
 
     capacitance: float = 0.0
+    multiplier: float = 1.0
 
     letter: ClassVar[str] = "C"
-    form: ClassVar[str] = "Cname node1 node2 value"
+    form: ClassVar[str] = "Cname node1 node2 value [m=N] [ic=VOLTS]"
     value_field: ClassVar[str] = "capacitance"
     unit: ClassVar[str] = "F"
 
     def check_values(self) -> None:
-        refuse_negative_reactance(self, "capacitance", "F", self.capacitance)
+        refuse_negative_reactance(self, "capacitance", "F", self.effective_capacitance)
+
+    @property
+    def effective_capacitance(self) -> float:
+        """The capacitance the circuit sees (F): one part's times ``multiplier``."""
+        return self.capacitance * self.multiplier
 
     @classmethod
     def parse(cls, line: LineReader) -> Passive:
-        nodes = (line.node("first node"), line.node("second node"))
-        value = line.value("value")
-        line.done()
-        return Passive("C", line.name, nodes, value, line.loc, kind=cls)
+        return parse_passive(cls, line, CAPACITOR_OPTIONS)
 
     @classmethod
     def build(cls, statement: Passive, ctx: BuildContext) -> Capacitor:
-        return cls(ctx.name, value_nodes(ctx, statement), ctx.loc, capacitance=ctx.number(statement.value))
+        value = ctx.number(statement.value)
+        if not statement.options:
+            return cls(ctx.name, value_nodes(ctx, statement), ctx.loc, capacitance=value)
+        ignore_initial_condition(statement, ctx)
+        m = multiplier(statement, ctx)
+        return cls(ctx.name, value_nodes(ctx, statement), ctx.loc, capacitance=value, multiplier=m)
 
     @classmethod
     def stamp_all(cls, elements, s) -> None:
         a = np.fromiter((s.node(e.nodes[0]) for e in elements), dtype=np.int64, count=len(elements))
         b = np.fromiter((s.node(e.nodes[1]) for e in elements), dtype=np.int64, count=len(elements))
-        y = np.fromiter((e.capacitance for e in elements), dtype=float, count=len(elements))
+        y = np.fromiter((e.effective_capacitance for e in elements), dtype=float, count=len(elements))
         s.admittances("C", a, b, y)
 
     def stamp(self, s) -> None:

@@ -122,7 +122,7 @@ class MutualCoupling(Element):
                 inductor = None
             if inductor is None or getattr(type(inductor), "letter", "") != "L" or inductor.branch_count != 1:
                 raise s.fail(f"{self.name}: '{name}' is not an inductor of this circuit")
-            rows.append((s.branch(inductor), inductor.inductance))
+            rows.append((s.branch(inductor), inductor.effective_inductance))
         (k1, l1), (k2, l2) = rows
         m = self.coupling * np.sqrt(l1 * l2)
         s.c(k1, k2, -m)
@@ -143,7 +143,7 @@ def _check_group(keys: list[str], inductors: dict, pairs: dict) -> None:
     from netnoise.errors import CircuitError
 
     where = {key: i for i, key in enumerate(keys)}
-    own = np.array([inductors[key].inductance for key in keys], dtype=float)
+    own = np.array([inductors[key].effective_inductance for key in keys], dtype=float)
     matrix = np.diag(own)  # the group's inductance matrix: L_i on the diagonal, M_ij = k·√(L_i·L_j)
     group_k = [k for pair, k in pairs.items() if next(iter(pair)) in where]
     for k in group_k:

@@ -2,7 +2,8 @@
 and, for I, shot noise of its DC current.
 
 Forms: ``Vname node+ node- [DC] [value] [AC magnitude [phase]] [noise=V/rtHz [corner=HZ] [slope=N]]``
-and the same for ``I`` with A/rtHz and ``[shot]``.  A transient waveform
+and the same for ``I`` with A/rtHz and ``[shot]``; the values may be keyed:
+``DC=5``, ``AC=1``.  A transient waveform
 (``SIN(...)``, ...) is read and ignored with a notice.
 
 V stamps a branch current k: KCL G[a,k] += 1, G[b,k] -= 1, branch row
@@ -82,6 +83,17 @@ def _parse_source(cls, line: LineReader) -> IndependentSource:
                 raise fail(f"{name} has two DC values", item.loc, line.form_hint())
             line.take("DC keyword")
             dc = line.value("DC value")
+        elif key == "dc":  # keyed: DC=5
+            if dc is not None:
+                raise fail(f"{name} has two DC values", item.loc, line.form_hint())
+            dc = line.keyed_value(item, "DC value")  # type: ignore[arg-type]
+        elif key == "ac":  # keyed: AC=1 (the magnitude; a phase follows as a plain value)
+            if has_ac:
+                raise fail(f"{name} has two AC specifications", item.loc, line.form_hint())
+            has_ac = True
+            ac_magnitude = line.keyed_value(item, "AC magnitude")  # type: ignore[arg-type]
+            if is_value(line.peek()):
+                ac_phase = line.value("AC phase")
         elif keyword == "ac":
             if has_ac:
                 raise fail(f"{name} has two AC specifications", item.loc, line.form_hint())
