@@ -20,6 +20,9 @@ __all__ = [
     "SourceLocation",
     "NetnoiseError",
     "NetlistError",
+    "NetlistProblems",
+    "PROBLEMS_SHOWN",
+    "raise_problems",
     "UsageError",
     "CircuitError",
 ]
@@ -80,6 +83,53 @@ class NetlistError(NetnoiseError, ValueError):
         if self.hint:
             parts.append(f"  hint: {self.hint}")
         return "\n".join(parts)
+
+
+PROBLEMS_SHOWN = 20
+"""How many problems of one reading are shown in full; the rest are counted."""
+
+
+class NetlistProblems(NetlistError):
+    """Every problem one reading of a netlist found, in the order found.
+
+    ``message``, ``location`` and ``hint`` are the first problem's (so code
+    that handles one :class:`NetlistError` still works); ``problems`` holds
+    them all.  ``str()`` shows the first :data:`PROBLEMS_SHOWN` in full and
+    counts the rest.
+    """
+
+    def __init__(self, problems: tuple[NetlistError, ...]):
+        first = problems[0]
+        super().__init__(first.message, first.location, first.hint)
+        self.instance = first.instance
+        self.problems = problems
+
+    def __str__(self) -> str:
+        blocks = [NetlistError.__str__(problem) for problem in self.problems[:PROBLEMS_SHOWN]]
+        hidden = len(self.problems) - PROBLEMS_SHOWN
+        if hidden > 0:
+            blocks.append(f"and {hidden} more problem{'s' if hidden > 1 else ''}")
+        blocks.append(f"{len(self.problems)} problems in all")
+        return "\n".join(blocks)
+
+
+def raise_problems(problems: list[NetlistError]) -> None:
+    """Raise what ``problems`` holds: nothing when empty, the problem itself
+    when alone, else a :class:`NetlistProblems` (repeats left out: a line of
+    a subcircuit fails once however many instances it has)."""
+    unique: dict[tuple[str, str], NetlistError] = {}
+    for problem in problems:
+        if isinstance(problem, NetlistProblems):
+            for inner in problem.problems:
+                unique.setdefault((str(inner.location), inner.message), inner)
+        else:
+            unique.setdefault((str(problem.location), problem.message), problem)
+    if not unique:
+        return
+    found = tuple(unique.values())
+    if len(found) == 1:
+        raise found[0]
+    raise NetlistProblems(found)
 
 
 class UsageError(NetnoiseError, ValueError):

@@ -92,7 +92,7 @@ def test_undefined_parameter_suggests_close_names():
 
 def test_unknown_function_lists_known_ones():
     with pytest.raises(NetlistError) as info:
-        evaluate_text("ln(2)")
+        evaluate_text("lg(2)")
     for name in FUNCTIONS:
         assert name in info.value.hint
 
