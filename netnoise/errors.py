@@ -115,8 +115,8 @@ class NetlistProblems(NetlistError):
 
 def raise_problems(problems: list[NetlistError]) -> None:
     """Raise what ``problems`` holds: nothing when empty, the problem itself
-    when alone, else a :class:`NetlistProblems` (repeats left out: a line of
-    a subcircuit fails once however many instances it has)."""
+    when alone, else a :class:`NetlistProblems` in the order of the files'
+    lines (repeats left out)."""
     unique: dict[tuple[str, str], NetlistError] = {}
     for problem in problems:
         if isinstance(problem, NetlistProblems):
@@ -126,10 +126,18 @@ def raise_problems(problems: list[NetlistError]) -> None:
             unique.setdefault((str(problem.location), problem.message), problem)
     if not unique:
         return
-    found = tuple(unique.values())
-    if len(found) == 1:
-        raise found[0]
-    raise NetlistProblems(found)
+    if len(unique) == 1:
+        raise next(iter(unique.values()))
+    # in file order: the files as they first appear, each from its first line to its last
+    files: dict[str, int] = {}
+    for problem in unique.values():
+        files.setdefault(problem.location.file if problem.location else "", len(files))
+
+    def place(problem: NetlistError) -> tuple[int, int, int]:
+        loc = problem.location
+        return (files[loc.file], loc.line, loc.column) if loc else (files[""], 0, 0)
+
+    raise NetlistProblems(tuple(sorted(unique.values(), key=place)))
 
 
 class UsageError(NetnoiseError, ValueError):
