@@ -408,3 +408,26 @@ def test_one_problem_alone_is_a_plain_error():
     with pytest.raises(NetlistError) as info:
         netnoise.parse_netlist("t\nR1 a 0 1kk\nR2 a 0 1k\n")
     assert type(info.value) is NetlistError
+
+
+REFUSED = {"many_problems.cir", "behavioural_export.cir", "func_recursive.cir"}
+
+
+@pytest.mark.parametrize("path", sorted(CORPUS.glob("*.cir")), ids=lambda p: p.name)
+def test_every_corpus_netlist_from_the_command_line(path, capsys):
+    status = run("analyze", path)
+    out, err = capsys.readouterr()
+    if path.name in REFUSED:
+        assert status == 2 and f"{path}:" in err and "^" in err
+    else:
+        assert status == 0, err
+        assert "Noise budget" in out and "Traceback" not in err
+
+
+def test_function_written_without_braces_keeps_its_place():
+    circuit = netnoise.parse_netlist("t\n.func twice(x) = x*2k\nR1 a 0 {twice(3)}\n")
+    assert circuit.element("R1").resistance == 6e3
+    with pytest.raises(NetlistError) as info:
+        netnoise.parse_netlist("t\nR1 a 0 1k\n.func g(y)=y/0\nR2 a 0 {g(3)}\n")
+    assert "division by zero" in info.value.message
+    assert (info.value.location.line, info.value.location.column) == (3, 14)  # the 0 of y/0 on the .func line

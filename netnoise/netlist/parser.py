@@ -403,7 +403,8 @@ def _word_expression(word: Word, card: _Card) -> Value:
     """An expression written without braces (``= x*2``): parsed in place, so
     its tokens keep their line and column."""
     loc = word.loc
-    padded = "\n" * (loc.line - 1) + " " * (loc.column - 1) + word.text
+    # the line breaks before it as continuation marks (skipped like blanks), then blanks to its column
+    padded = "\n+" * (loc.line - 1) + " " * (loc.column - (2 if loc.line > 1 else 1)) + word.text
     tree = parse_tree(padded, "expression", card.source)
     return Value(word.text, loc, None, tree, card.source)
 
