@@ -332,19 +332,30 @@ def test_every_problem_of_an_export_is_listed(capsys):
     with pytest.raises(NetlistProblems) as info:
         netnoise.load_netlist(CORPUS / "many_problems.cir")
     found = [(p.location.line, p.location.column, p.message) for p in info.value.problems]
-    assert [(line, column) for line, column, _ in found] == [(4, 11), (5, 18), (6, 14), (7, 1), (9, 1), (10, 16)]
+    assert [(line, column) for line, column, _ in found] == [
+        (4, 11),
+        (5, 18),
+        (6, 14),
+        (7, 1),
+        (8, 1),
+        (9, 1),
+        (10, 16),
+    ]
     messages = [m for _, _, m in found]
     assert "two scale suffixes" in messages[0]
     assert "undefined parameter 'rfb'" in messages[1]
     assert "unexpected extra field '22n' on C1" in messages[2]
     assert "B1 is a behavioural source" in messages[3]
-    assert "unknown dot-card '.foo'" in messages[4]
-    assert "E1 is missing its gain" in messages[5]
+    # R1 on line 4 could not be read, but its name stays taken: the second R1 is found in the same pass
+    assert "duplicate element name 'R1'" in messages[4]
+    assert "a line with a problem of its own" in info.value.problems[4].hint
+    assert "unknown dot-card '.foo'" in messages[5]
+    assert "E1 is missing its gain" in messages[6]
     # the first problem is the error's own message, so code that handles one error still works
     assert info.value.message == messages[0]
     assert run("analyze", CORPUS / "many_problems.cir") == 2
     err = capsys.readouterr().err
-    assert err.count("^") == 6 and "6 problems in all" in err
+    assert err.count("^") == 7 and "7 problems in all" in err
     assert err.index("many_problems.cir:4:11") < err.index("many_problems.cir:10:16")
 
 
@@ -379,6 +390,8 @@ def test_more_than_twenty_problems_are_counted(tmp_path, capsys):
         ("t\nR1 a b {1+}\nR2 a b 1kk\nC1 a 0 (\n+ 2)\nC2 a 0 1n 2\n", [(2, 11), (3, 8), (4, 6), (6, 11)]),
         # a bad parameter is reported once, not again at each use
         ("t\n.param r={1/0}\nR1 a 0 {r}\nR2 a 0 {2*r}\nC1 a 0 1x\n", [(2, 13), (5, 8)]),
+        # a line left out keeps its name: the same name again is a duplicate, whichever line fails
+        ("t\nR1 a 0 1kk\nR1 b 0 2k\nC1 a 0 1n\nC1 b 0 2x\n", [(2, 8), (3, 1), (5, 1), (5, 8)]),
         # a subcircuit defined twice keeps its lines to itself; each bad instance line is named
         ("t\n.subckt s a\nR1 a 0 1\n.ends\n.subckt s a\nR1 a 0 1\n.ends\nX1 n s\nX2 n q\n", [(5, 9), (9, 6)]),
         # lines left out do not make the .noise node or an F line's source look missing
@@ -386,7 +399,7 @@ def test_more_than_twenty_problems_are_counted(tmp_path, capsys):
         # problems in an included file come after the top file's, each file in line order
         ("t\nR1 a 0 1kk\n.include bad.inc\nR2 a 0 1kk\n", [(2, 8), (4, 8), (2, 5)]),
     ],
-    ids=["syntax", "parameter", "subckt", "cascade", "include"],
+    ids=["syntax", "parameter", "duplicate", "subckt", "cascade", "include"],
 )
 def test_reading_goes_on_after_a_problem(text, places, tmp_path):
     (tmp_path / "bad.inc").write_text("* part\nR7 a\nR8 b\n")

@@ -15,6 +15,7 @@ from netnoise.netlist.statements import (
     FuncCard,
     InitialCard,
     Instance,
+    LeftOutLine,
     ModelCard,
     NoiseCard,
     OperatingPointCard,
@@ -58,7 +59,16 @@ MAX_FLAT_ELEMENTS = 5_000_000
 TOP_LEVEL_ONLY = (TempCard, AcCard, NoiseCard, OptionsCard)
 CARD_NAMES = {TempCard: ".temp", AcCard: ".ac", NoiseCard: ".noise", OptionsCard: ".options"}
 # statements that make no element (allowed anywhere; the elaborator reads them apart)
-NOT_ELEMENTS = (ParamCard, *TOP_LEVEL_ONLY, SetAsideCard, InitialCard, OperatingPointCard, FuncCard, ReaderNotice)
+NOT_ELEMENTS = (
+    ParamCard,
+    *TOP_LEVEL_ONLY,
+    SetAsideCard,
+    InitialCard,
+    OperatingPointCard,
+    FuncCard,
+    ReaderNotice,
+    LeftOutLine,
+)
 
 
 @dataclass

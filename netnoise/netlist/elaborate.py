@@ -56,6 +56,7 @@ from netnoise.netlist.statements import (
     FuncCard,
     InitialCard,
     Instance,
+    LeftOutLine,
     ModelCard,
     NoiseCard,
     OperatingPointCard,
@@ -251,7 +252,8 @@ class _Elaborator:
         self.problems: list[NetlistError] = problems if problems is not None else []
         self.incomplete = bool(self.problems)  # lines were left out: checks across lines may mislead
         self.broken: set[str] = set()  # parameters whose definitions were refused
-        self.failed: set[str] = set()  # name keys of elements that could not be built
+        # name key -> (name, place) of element lines left out: their names stay taken
+        self.failed: dict[str, tuple[str, SourceLocation]] = {}
         self.functions = functions or {}
         self.origins: dict[str, c.ValueOrigin] = {}
         self.tolerances: dict[str, float] = {}  # element name -> tolerance=, as a fraction
@@ -329,6 +331,13 @@ class _Elaborator:
     # ---- elements
     def add(self, element: c.Element, loc: SourceLocation) -> int:
         key = c.name_key(element.name)
+        if key in self.failed:
+            name, first = self.failed[key]
+            raise _fail(
+                f"duplicate element name '{element.name}'",
+                loc,
+                f"the first '{name}' is at {_where(first)} (a line with a problem of its own)",
+            )
         if key in self.by_key:
             first = self.by_key[key][1]
             raise _fail(
@@ -346,6 +355,9 @@ class _Elaborator:
             if isinstance(statement, ParamCard):
                 self.define_params(statement.assignments, scope, scope)
         for statement in body:
+            if isinstance(statement, LeftOutLine):
+                self.left_out(scope.element_prefix + statement.name.text, statement.loc)
+                continue
             if isinstance(statement, NOT_ELEMENTS):
                 continue
             try:
@@ -355,10 +367,26 @@ class _Elaborator:
                     self.element(statement, scope)
             except NetlistError as problem:
                 self.report(problem, scope)
-                self.failed.add(c.name_key(scope.element_prefix + _statement_name(statement)))
+                self.left_out(scope.element_prefix + _statement_name(statement), statement.loc)
             except _Skipped:
                 self.incomplete = True
-                self.failed.add(c.name_key(scope.element_prefix + _statement_name(statement)))
+                self.left_out(scope.element_prefix + _statement_name(statement), statement.loc)
+
+    def left_out(self, name: str, loc: SourceLocation) -> None:
+        """Element ``name`` (at ``loc``) could not be read or built: its name stays taken."""
+        self.incomplete = True
+        key = c.name_key(name)
+        if key in self.by_key:
+            first = self.by_key[key]
+            self.problems.append(
+                _fail(
+                    f"duplicate element name '{name}'",
+                    loc,
+                    f"the first '{first[0].name}' is at {_where(first[1])}",
+                )
+            )
+        else:
+            self.failed.setdefault(key, (name, loc))
 
     def element(self, statement: Any, scope: _Scope) -> None:
         if isinstance(statement, Toleranced):  # the line's tolerance, kept for Monte Carlo studies

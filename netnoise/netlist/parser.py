@@ -24,6 +24,7 @@ from netnoise.netlist.statements import (
     IncludeCard,
     InitialCard,
     Instance,
+    LeftOutLine,
     LibCard,
     LibSection,
     ModelCard,
@@ -523,6 +524,15 @@ def _param_card(tree: Tree, source: SourceText) -> ParamCard:
 # the entry point
 
 
+def _element_name(node: Tree | Token, fields: FieldReader) -> Word | None:
+    """The name of an element line (None for a dot-card)."""
+    if isinstance(node, Token):  # PLAIN_LINE
+        return fields.words(node)[0]
+    if node.data == "element_line":
+        return fields.word(node.children[0])  # type: ignore[arg-type]
+    return None
+
+
 def parse_statements(
     text: str, filename: str = "<text>", has_title: bool = True, *, collect: bool = False
 ) -> ParsedFile:
@@ -552,6 +562,9 @@ def parse_statements(
                 statements.append(_card(node, fields))
         except NetlistError as problem:  # the line is left out; the reading goes on
             problems.append(problem)
+            name = _element_name(node, fields)
+            if name is not None:
+                statements.append(LeftOutLine(name, name.loc))
     if problems:
         problems.sort(key=lambda p: (p.location.line, p.location.column) if p.location else (0, 0))
         if not collect:

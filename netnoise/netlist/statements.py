@@ -43,6 +43,7 @@ __all__ = [
     "EndlCard",
     "FuncCard",
     "ReaderNotice",
+    "LeftOutLine",
     "Statement",
     "ParsedFile",
     "Toleranced",
@@ -191,6 +192,15 @@ class FuncCard:
 
 
 @dataclass(frozen=True)
+class LeftOutLine:
+    """An element line that could not be read (its problem is reported): its
+    name stays taken, so a second element of that name is still a duplicate."""
+
+    name: Word
+    loc: SourceLocation = field(compare=False)
+
+
+@dataclass(frozen=True)
 class ReaderNotice:
     """A remark the reading of a file made (bytes in comments that were not
     UTF-8, an unused field): becomes one of the circuit's notices."""
@@ -240,6 +250,7 @@ Statement = Union[
     EndlCard,
     FuncCard,
     ReaderNotice,
+    LeftOutLine,
 ]
 
 
