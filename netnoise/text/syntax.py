@@ -2,6 +2,8 @@
 
 from __future__ import annotations
 
+from typing import Any
+
 from lark import Token, Tree
 from lark.exceptions import UnexpectedCharacters, UnexpectedEOF, UnexpectedInput, UnexpectedToken
 
@@ -171,6 +173,19 @@ def _logical_line(lines: list[str], line: int) -> tuple[int, int]:
     return first, last
 
 
+def _stretch(prepared: str, starts: list[int], done: int, end: int | None) -> Any:
+    """Lines ``done + 1`` .. ``end`` (to the end if None) of ``prepared``, for
+    lark, keeping their line numbers: a slice of the text itself where lark
+    reads slices (1.3 and later: no copy, lines counted from the text's
+    start), else a copy with the lines before blanked to line breaks."""
+    stop = starts[end] if end is not None else len(prepared)
+    try:
+        from lark.utils import TextSlice  # type: ignore[attr-defined,unused-ignore]
+    except ImportError:  # pragma: no cover - lark before 1.3
+        return "\n" * done + prepared[starts[done] : stop]
+    return TextSlice(prepared, starts[done], stop)
+
+
 def parse_lines(prepared: str, source: SourceText, problems: list[NetlistError]) -> list:
     """The children of the netlist tree (one per line) for every logical line
     that reads; a line that does not is reported in ``problems``, left out,
@@ -178,9 +193,10 @@ def parse_lines(prepared: str, source: SourceText, problems: list[NetlistError])
 
     lark stops at the first token that cannot follow; every line before the
     logical line holding it is complete, so that stretch is parsed again
-    alone, and the parse restarts after the bad line with the lines read so
-    far blanked (line and column numbers stay the file's).  Each line is read
-    at most three times, whatever the number of problems."""
+    alone, and the parse restarts after the bad line (on a slice of the same
+    text: lark counts lines from the text's start, so line and column numbers
+    stay the file's).  Each line is read at most three times, whatever the
+    number of problems."""
     parser = netlist_parser()
     try:
         return parser.parse(prepared, start="netlist").children
@@ -200,16 +216,14 @@ def parse_lines(prepared: str, source: SourceText, problems: list[NetlistError])
         problems.append(behavioural_line(lines, first, source) or _unwrap(failure, source))
         if first - 1 > done:  # the complete lines before the bad one
             try:
-                children.extend(
-                    parser.parse("\n" * done + prepared[starts[done] : starts[first - 1]], start="netlist").children
-                )
+                children.extend(parser.parse(_stretch(prepared, starts, done, first - 1), start="netlist").children)
             except UnexpectedInput:  # pragma: no cover - lark stopped later than the first bad line
                 return children
         done = last
         if done >= len(lines) or len(problems) >= MAX_PROBLEMS:
             return children
         try:
-            children.extend(parser.parse("\n" * done + prepared[starts[done] :], start="netlist").children)
+            children.extend(parser.parse(_stretch(prepared, starts, done, None), start="netlist").children)
             failure = None
         except UnexpectedInput as exc:
             failure = exc
