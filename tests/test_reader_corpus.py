@@ -444,3 +444,10 @@ def test_function_written_without_braces_keeps_its_place():
         netnoise.parse_netlist("t\nR1 a 0 1k\n.func g(y)=y/0\nR2 a 0 {g(3)}\n")
     assert "division by zero" in info.value.message
     assert (info.value.location.line, info.value.location.column) == (3, 14)  # the 0 of y/0 on the .func line
+
+
+def test_lib_without_a_section_naming_a_file_reads_it_whole(tmp_path):
+    (tmp_path / "parts.lib").write_text("* two parts, no sections\nR1 a 0 1k\nC1 a 0 1n\n")
+    circuit = netnoise.parse_netlist("t\n.lib parts.lib\n.noise v(a)\n", base_dir=tmp_path)
+    assert [e.name for e in circuit.elements] == ["R1", "C1"]
+    assert any("names no section: the whole file is read" in n for n in circuit.notices)

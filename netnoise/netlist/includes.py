@@ -17,7 +17,15 @@ from pathlib import Path
 
 from netnoise.errors import NetlistError, SourceLocation
 from netnoise.netlist.parser import parse_statements
-from netnoise.netlist.statements import EndlCard, IncludeCard, LibCard, LibSection, ParsedFile, Statement
+from netnoise.netlist.statements import (
+    EndlCard,
+    IncludeCard,
+    LibCard,
+    LibSection,
+    ParsedFile,
+    ReaderNotice,
+    Statement,
+)
 from netnoise.text.source import bounded, read_netlist_text
 
 
@@ -93,7 +101,7 @@ class _Reader:
         self, statements: tuple[Statement, ...] | list[Statement], directory: Path, chain: tuple[_Key, ...], depth: int
     ) -> list[Statement]:
         out: list[Statement] = []
-        for statement in _outside_sections(statements, self.problems):
+        for statement in _outside_sections(_whole_files(statements, directory), self.problems):
             if not isinstance(statement, (IncludeCard, LibCard)):
                 out.append(statement)
                 continue
@@ -141,6 +149,30 @@ def _outside_sections(statements, problems: list[NetlistError]) -> list[Statemen
             out.append(statement)
     if open_section is not None:
         problems.append(_unclosed(open_section))
+    return out
+
+
+def _whole_files(statements, directory: Path):
+    """``.lib FILE`` with no section, no ``.endl`` after it and a file of
+    that name: read as ``.include FILE`` (as some programs read it), with a notice."""
+    if not any(isinstance(s, LibSection) for s in statements):
+        return statements
+    out: list[Statement] = []
+    for index, statement in enumerate(statements):
+        if (
+            isinstance(statement, LibSection)
+            and not any(isinstance(s, EndlCard) for s in statements[index + 1 :])
+            and (directory / statement.name.text).is_file()
+        ):
+            out.append(
+                ReaderNotice(
+                    f"'.lib {statement.name.text}' names no section: the whole file is read, as with '.include'",
+                    statement.loc,
+                )
+            )
+            out.append(IncludeCard(statement.name.text, statement.loc))
+        else:
+            out.append(statement)
     return out
 
 
