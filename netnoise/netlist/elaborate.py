@@ -15,6 +15,10 @@ What happens here, in order:
    Parameters are looked up in the instance scope, then the scope the
    subcircuit was defined in, out to the global ``.param`` values.
 
+Every statement is tried on its own: a problem is kept and the reading goes
+on, and all are raised together at the end (see DEVELOPERS.md, "Every
+problem in one pass").
+
 Naming: element ``R2`` inside instance ``X1`` is ``X1.R2``; internal node
 ``mid`` is ``x1.mid``; pins stand for the outer nodes they are connected to;
 ``0`` (alias ``gnd``) is the one global node.  ``F``/``H`` controlling
