@@ -451,3 +451,10 @@ def test_lib_without_a_section_naming_a_file_reads_it_whole(tmp_path):
     circuit = netnoise.parse_netlist("t\n.lib parts.lib\n.noise v(a)\n", base_dir=tmp_path)
     assert [e.name for e in circuit.elements] == ["R1", "C1"]
     assert any("names no section: the whole file is read" in n for n in circuit.notices)
+
+
+def test_a_line_with_a_hidden_character_is_reported_once():
+    # the character is reported and its line not read: no second problem made up from the rest of the line
+    with pytest.raises(NetlistProblems) as info:
+        netnoise.parse_netlist("t\nR1 a\u202eb 0 1\nR2 a 0 1\x07\nR3 a 0 1kk\n")
+    assert [(p.location.line, p.location.column) for p in info.value.problems] == [(2, 5), (3, 9), (4, 8)]

@@ -392,9 +392,13 @@ def prepare(text: str, file: str, has_title: bool) -> Prepared:
             )
         )
     prepared = "\n".join(kept) + "\n"
-    if _HIDDEN.search(prepared) is not None:
-        problems.extend(_hidden_character(prepared, bad.start(), source) for bad in _HIDDEN.finditer(prepared))
-        prepared = _HIDDEN.sub(" ", prepared)
+    if _HIDDEN.search(prepared) is not None:  # reported, and the line is not read (its words would be wrong)
+        for number, line in enumerate(kept, start=1):
+            bad = _HIDDEN.search(line)
+            if bad is not None:
+                problems.append(_hidden_character(line, number, bad.start() + 1, source))
+                kept[number - 1] = ""
+        prepared = "\n".join(kept) + "\n"
     notices: list[str] = []
     if comment_bytes:
         lines = ", ".join(str(n) for n in comment_bytes[:10]) + (", ..." if len(comment_bytes) > 10 else "")
@@ -411,11 +415,10 @@ def prepare(text: str, file: str, has_title: bool) -> Prepared:
 _HIDDEN = re.compile("[\x00-\x08\x0e-\x1b\x7f-\x84\x86-\x9f\u200b-\u200f\u202a-\u202e\u2066-\u2069\ufeff]")
 
 
-def _hidden_character(prepared: str, index: int, source: SourceText) -> NetlistError:
-    line = prepared.count("\n", 0, index) + 1
-    column = index - prepared.rfind("\n", 0, index)
-    code = f"U+{ord(prepared[index]):04X}"
-    kind = "control character" if ord(prepared[index]) < 0xA0 else "invisible formatting character"
+def _hidden_character(text: str, line: int, column: int, source: SourceText) -> NetlistError:
+    char = text[column - 1]
+    code = f"U+{ord(char):04X}"
+    kind = "control character" if ord(char) < 0xA0 else "invisible formatting character"
     return fail(
         f"the {kind} {code} is not allowed in a netlist line",
         source.location(line, column),
