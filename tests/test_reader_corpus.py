@@ -458,3 +458,14 @@ def test_a_line_with_a_hidden_character_is_reported_once():
     with pytest.raises(NetlistProblems) as info:
         netnoise.parse_netlist("t\nR1 a\u202eb 0 1\nR2 a 0 1\x07\nR3 a 0 1kk\n")
     assert [(p.location.line, p.location.column) for p in info.value.problems] == [(2, 5), (3, 9), (4, 8)]
+
+
+def test_set_aside_cards_the_grammar_cannot_read_are_set_aside_all_the_same():
+    circuit = netnoise.parse_netlist(
+        "t\nR1 a 0 1k\n.plot v(a) (0,1)\n.meas tran t1 WHEN v(a)=0.5 RISE=1\n.print tran (i(r1)\nC1 a 0 1n\n"
+    )
+    (notice,) = circuit.notices
+    assert notice.endswith(".plot (<text>:3), .meas (<text>:4), .print (<text>:5)")
+    with pytest.raises(NetlistError) as info:  # a start-up card is read as what it is: its problems count
+        netnoise.parse_netlist("t\nR1 a 0 1k\n.ic v(a)=(1\n")
+    assert (info.value.location.line, info.value.location.column) == (3, 10)

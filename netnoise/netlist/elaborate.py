@@ -725,29 +725,27 @@ def _functions(top: Definition, engine: _Elaborator) -> dict[str, Function]:
 
 
 def _set_aside_notice(top: Definition) -> str | None:
-    """One notice naming every card that was read and set aside."""
-    names: list[str] = []
+    """One notice naming every card that was read and set aside, in file order."""
+    found: list[tuple[str, int, str]] = []  # file, line, text
     for statement in all_statements(top):
-        if isinstance(statement, SetAsideCard):
-            where = _where(statement.loc)
-            if statement.name == ".control":
-                names.append(f".control block ({where}-{statement.last_line})")
+        if isinstance(statement, (SetAsideCard, InitialCard)):
+            loc = statement.loc
+            where = _where(loc)
+            if isinstance(statement, InitialCard):
+                text = f"{statement.name} ({where}, {len(statement.voltages)} node voltage(s))"
+            elif statement.name == ".control":
+                text = f".control block ({where}-{statement.last_line})"
             else:
-                names.append(f"{statement.name} ({where})")
-        elif isinstance(statement, InitialCard):
-            names.append(f"{statement.name} ({_where(statement.loc)}, {len(statement.voltages)} node voltage(s))")
-    if not names:
+                text = f"{statement.name} ({where})"
+            found.append((loc.file, loc.line, text))
+    if not found:
         return None
+    files = list(dict.fromkeys(file for file, _, _ in found))
+    found.sort(key=lambda item: (files.index(item[0]), item[1]))
     return (
         "set aside, as they do not change a small-signal noise analysis (other analyses, printing, "
-        "start-up values): " + ", ".join(sorted(names, key=_file_order))
+        "start-up values): " + ", ".join(text for _, _, text in found)
     )
-
-
-def _file_order(text: str) -> tuple[str, int]:
-    where = text[text.index("(") + 1 :].split(",")[0].split("-")[0]
-    file, _, line = where.rpartition(":")
-    return file, int(line) if line.isdigit() else 0
 
 
 def _flat_circuit(

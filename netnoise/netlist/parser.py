@@ -546,9 +546,19 @@ def parse_statements(
     prepared = prepare(text, filename, has_title)
     source = prepared.source
     problems: list[NetlistError] = list(prepared.problems)
-    children = parse_lines(prepared.text, source, problems)
+    unread: list[Statement] = []  # set-aside cards the grammar could not read: set aside all the same
+
+    def forgive(number: int, text: str) -> bool:
+        name = text.split(maxsplit=1)[0].lower() if text.strip() else ""
+        if name not in SET_ASIDE_CARDS:
+            return False
+        unread.append(SetAsideCard(name, source.location(number, text.index(".") + 1)))
+        return True
+
+    children = parse_lines(prepared.text, source, problems, forgive)
     fields = FieldReader(source)
     statements: list[Statement] = [ReaderNotice(text) for text in prepared.notices]
+    statements.extend(unread)
     statements.extend(SetAsideCard(name, loc, last) for name, loc, last in prepared.set_aside)
     for node in children:
         try:

@@ -2,6 +2,7 @@
 
 from __future__ import annotations
 
+from collections.abc import Callable
 from typing import Any
 
 from lark import Token, Tree
@@ -186,9 +187,15 @@ def _stretch(prepared: str, starts: list[int], done: int, end: int | None) -> An
     return TextSlice(prepared, starts[done], stop)
 
 
-def parse_lines(prepared: str, source: SourceText, problems: list[NetlistError]) -> list:
+def parse_lines(
+    prepared: str,
+    source: SourceText,
+    problems: list[NetlistError],
+    forgive: Callable[[int, str], bool] | None = None,
+) -> list:
     """The children of the netlist tree (one per line) for every logical line
-    that reads; a line that does not is reported in ``problems``, left out,
+    that reads; a line that does not is reported in ``problems`` (unless
+    ``forgive(line number, text)`` says it can be left out unread), left out,
     and the reading goes on at the next line.
 
     lark stops at the first token that cannot follow; every line before the
@@ -213,7 +220,8 @@ def parse_lines(prepared: str, source: SourceText, problems: list[NetlistError])
         first, last = _logical_line(lines, bad)
         first = max(first, done + 1)
         last = max(last, first)
-        problems.append(behavioural_line(lines, first, source) or _unwrap(failure, source))
+        if forgive is None or not forgive(first, lines[first - 1]):  # forgiven: a card set aside anyway
+            problems.append(behavioural_line(lines, first, source) or _unwrap(failure, source))
         if first - 1 > done:  # the complete lines before the bad one
             try:
                 children.extend(parser.parse(_stretch(prepared, starts, done, first - 1), start="netlist").children)
