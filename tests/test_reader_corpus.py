@@ -469,3 +469,13 @@ def test_set_aside_cards_the_grammar_cannot_read_are_set_aside_all_the_same():
     with pytest.raises(NetlistError) as info:  # a start-up card is read as what it is: its problems count
         netnoise.parse_netlist("t\nR1 a 0 1k\n.ic v(a)=(1\n")
     assert (info.value.location.line, info.value.location.column) == (3, 10)
+
+
+@pytest.mark.parametrize("codec", ["utf-16-le", "utf-16-be"])
+def test_utf16_without_a_byte_order_mark_says_how_to_save(codec, tmp_path):
+    path = tmp_path / "nomark.cir"
+    path.write_bytes("RC\nR1 a 0 1k\nC1 a 0 1n\n".encode(codec))
+    with pytest.raises(NetlistError) as info:
+        netnoise.load_netlist(path)
+    assert "looks like UTF-16 text without a byte-order mark" in info.value.message
+    assert "save the netlist as UTF-8" in info.value.hint

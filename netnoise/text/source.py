@@ -232,12 +232,31 @@ def read_netlist_text(path: Path, included_from: SourceLocation | None = None) -
     nul = raw.find(b"\x00")
     if nul >= 0:
         where = _offset_location(raw, nul, shown)
+        if _wide_without_mark(raw):
+            raise fail(
+                f"byte {nul} (line {where.line}) is a NUL character: the file looks like UTF-16 text "
+                "without a byte-order mark",
+                where,
+                "save the netlist as UTF-8 text (or as UTF-16 with a byte-order mark)",
+            )
         raise fail(
             f"byte {nul} (line {where.line}) is a NUL character: this is not a text netlist",
             where,
         )
     # bytes that are not UTF-8 become lone surrogates: prepare() tolerates them in comments only
     return raw.decode("utf-8", "surrogateescape").removeprefix("\ufeff")
+
+
+def _wide_without_mark(raw: bytes) -> bool:
+    """True when the first bytes alternate NUL and printable ASCII (UTF-16 of
+    ASCII text, either byte order, with no byte-order mark)."""
+    head = raw[:200] if len(raw) % 2 == 0 else raw[:199]
+    if len(head) < 8:
+        return False
+    for zeros, chars in ((head[1::2], head[0::2]), (head[0::2], head[1::2])):
+        if zeros.count(0) == len(zeros) and all(32 <= c < 127 or c in (9, 10, 13) for c in chars):
+            return True
+    return False
 
 
 _WIDE_BOMS = (
