@@ -82,7 +82,7 @@ def test_export_rc_takes_its_band_from_the_ac_card():
     expected = _rc_band(R, C, f1, f2)
     assert expected == pytest.approx(_rc_quad(R, C, f1, f2), rel=1e-9)  # closed form and quadrature agree
     assert (result.band_low_Hz, result.band_high_Hz) == (f1, f2)
-    assert result.total_variance == pytest.approx(expected, rel=1e-3)
+    assert result.total_variance == pytest.approx(expected, rel=1e-6)
     # the whole band to infinity would be kT/C: visibly more, so the .ac band was used
     assert result.total_variance < 0.999 * K * T27 / C
     assert "band-from-ac" in _codes(result) and "band-default" not in _codes(result)
@@ -130,7 +130,7 @@ def test_start_up_cards_are_read_as_node_voltages_then_set_aside():
     Rp = 22e3 * 68e3 / 90e3
     expected = _rc_band(Rp, 3.3e-9, 20.0, 20e3)
     assert expected == pytest.approx(_rc_quad(Rp, 3.3e-9, 20.0, 20e3), rel=1e-9)
-    assert result.total_variance == pytest.approx(expected, rel=1e-3)
+    assert result.total_variance == pytest.approx(expected, rel=1e-6)
     assert ".ic (" in _netlist_notes(result) and ".nodeset (" in _netlist_notes(result)
     assert not circuit.operating_point_requested
 
@@ -139,7 +139,7 @@ def test_summary_field_on_noise_is_accepted_with_a_notice():
     _, result = _analyze("noise_summary_field.cir")
     expected = _rc_band(100e3, 47e-12, 1.0, 1e6)
     assert expected == pytest.approx(_rc_quad(100e3, 47e-12, 1.0, 1e6), rel=1e-9)
-    assert result.total_variance == pytest.approx(expected, rel=1e-3)
+    assert result.total_variance == pytest.approx(expected, rel=1e-6)
     assert "points per summary" in _netlist_notes(result)
 
 
@@ -184,7 +184,7 @@ def test_library_section_nominal():
     assert circuit.element("X1.R1").origin.file.endswith("networks.lib")
     expected = _rc_band(10e3, 1e-9, 1.0, 1e6)
     assert expected == pytest.approx(_rc_quad(10e3, 1e-9, 1.0, 1e6), rel=1e-9)
-    assert result.total_variance == pytest.approx(expected, rel=1e-3)
+    assert result.total_variance == pytest.approx(expected, rel=1e-6)
 
 
 def test_library_section_hot_at_its_temperature():
@@ -193,7 +193,7 @@ def test_library_section_hot_at_its_temperature():
     T = 85.0 + 273.15
     expected = _rc_band(12e3, 1e-9, 1.0, 1e6, T)
     assert expected == pytest.approx(_rc_quad(12e3, 1e-9, 1.0, 1e6, T), rel=1e-9)
-    assert result.total_variance == pytest.approx(expected, rel=1e-3)
+    assert result.total_variance == pytest.approx(expected, rel=1e-6)
 
 
 def test_library_problems(tmp_path):
@@ -240,7 +240,7 @@ def test_short_include_card():
         return 4 * K * T27 / R * (abs(h1) ** 2 + abs(h2) ** 2)
 
     expected, _ = integrate.quad(lambda u: density(math.exp(u)) * math.exp(u), math.log(10), math.log(1e6), limit=200)
-    assert result.total_variance == pytest.approx(expected, rel=1e-3)
+    assert result.total_variance == pytest.approx(expected, rel=1e-6)
 
 
 def test_functions_and_conditions():
@@ -251,7 +251,7 @@ def test_functions_and_conditions():
     assert circuit.element("C1").capacitance == pytest.approx(C, rel=1e-12)
     expected = _rc_band(10e3, C, 1.0, 100e3)
     assert expected == pytest.approx(_rc_quad(10e3, C, 1.0, 100e3), rel=1e-9)
-    assert result.total_variance == pytest.approx(expected, rel=1e-3)
+    assert result.total_variance == pytest.approx(expected, rel=1e-6)
 
 
 def test_recursive_function_is_refused(capsys):
