@@ -14,7 +14,7 @@ from __future__ import annotations
 import importlib
 from typing import TYPE_CHECKING, Any
 
-from netnoise.errors import CircuitError, NetlistError, NetnoiseError, UsageError
+from netnoise.errors import CircuitError, NetlistError, NetlistProblems, NetnoiseError, UsageError
 
 # The public API, loaded when first used: ``import netnoise`` (and the command
 # line, which imports this package) stays light until a name is asked for.
@@ -69,6 +69,7 @@ __all__ = [
     "Contribution",
     "NetnoiseError",
     "NetlistError",
+    "NetlistProblems",
     "UsageError",
     "CircuitError",
     "montecarlo",

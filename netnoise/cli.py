@@ -60,6 +60,7 @@ _INFINITY_WORDS = {"inf", "infinity", "+inf", "∞"}
 # what the command line adds to the notes of a result, by note code (netnoise.results.notes)
 ADVICE = {
     "band-default": "choose one with --band LOW HIGH",
+    "band-from-ac": "choose another with --band LOW HIGH",
     "temperature-default": "set it with --temp CELSIUS",
     "integration-accuracy": "raise --points",
     "flicker-band-start": "choose the low edge with --band LOW HIGH",
@@ -727,7 +728,7 @@ def _compute(args: argparse.Namespace, circuit, band, temperature, signal, signa
 
         bits, full_scale, rate = converter
         extras["adc"] = adc_comparison(result, bits=bits, full_scale_V=full_scale, sample_rate_Hz=rate)
-    if args.dc:
+    if args.dc or getattr(circuit, "operating_point_requested", False):  # --dc, or an .op card
         from netnoise.engine.dc import operating_point
 
         extras["operating_point"] = operating_point(circuit, temperature_celsius=result.temperature_K - 273.15)

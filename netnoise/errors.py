@@ -20,6 +20,9 @@ __all__ = [
     "SourceLocation",
     "NetnoiseError",
     "NetlistError",
+    "NetlistProblems",
+    "PROBLEMS_SHOWN",
+    "raise_problems",
     "UsageError",
     "CircuitError",
 ]
@@ -80,6 +83,61 @@ class NetlistError(NetnoiseError, ValueError):
         if self.hint:
             parts.append(f"  hint: {self.hint}")
         return "\n".join(parts)
+
+
+PROBLEMS_SHOWN = 20
+"""How many problems of one reading are shown in full; the rest are counted."""
+
+
+class NetlistProblems(NetlistError):
+    """Every problem one reading of a netlist found, in the order found.
+
+    ``message``, ``location`` and ``hint`` are the first problem's (so code
+    that handles one :class:`NetlistError` still works); ``problems`` holds
+    them all.  ``str()`` shows the first :data:`PROBLEMS_SHOWN` in full and
+    counts the rest.
+    """
+
+    def __init__(self, problems: tuple[NetlistError, ...]):
+        first = problems[0]
+        super().__init__(first.message, first.location, first.hint)
+        self.instance = first.instance
+        self.problems = problems
+
+    def __str__(self) -> str:
+        blocks = [NetlistError.__str__(problem) for problem in self.problems[:PROBLEMS_SHOWN]]
+        hidden = len(self.problems) - PROBLEMS_SHOWN
+        if hidden > 0:
+            blocks.append(f"and {hidden} more problem{'s' if hidden > 1 else ''}")
+        blocks.append(f"{len(self.problems)} problems in all")
+        return "\n".join(blocks)
+
+
+def raise_problems(problems: list[NetlistError]) -> None:
+    """Raise what ``problems`` holds: nothing when empty, the problem itself
+    when alone, else a :class:`NetlistProblems` in the order of the files'
+    lines (repeats left out)."""
+    unique: dict[tuple[str, str], NetlistError] = {}
+    for problem in problems:
+        if isinstance(problem, NetlistProblems):
+            for inner in problem.problems:
+                unique.setdefault((str(inner.location), inner.message), inner)
+        else:
+            unique.setdefault((str(problem.location), problem.message), problem)
+    if not unique:
+        return
+    if len(unique) == 1:
+        raise next(iter(unique.values()))
+    # in file order: the files as they first appear, each from its first line to its last
+    files: dict[str, int] = {}
+    for problem in unique.values():
+        files.setdefault(problem.location.file if problem.location else "", len(files))
+
+    def place(problem: NetlistError) -> tuple[int, int, int]:
+        loc = problem.location
+        return (files[loc.file], loc.line, loc.column) if loc else (files[""], 0, 0)
+
+    raise NetlistProblems(tuple(sorted(unique.values(), key=place)))
 
 
 class UsageError(NetnoiseError, ValueError):

@@ -92,7 +92,7 @@ def test_undefined_parameter_suggests_close_names():
 
 def test_unknown_function_lists_known_ones():
     with pytest.raises(NetlistError) as info:
-        evaluate_text("ln(2)")
+        evaluate_text("lg(2)")
     for name in FUNCTIONS:
         assert name in info.value.hint
 
@@ -117,3 +117,48 @@ def test_nesting_limit_boundary():
         evaluate_text("-" * (MAX_DEPTH + 5) + "2")
     # parentheses alone add no operations: a thousand of them are fine
     assert evaluate_text("(" * 1000 + "3" + ")" * 1000) == pytest.approx(3.0, rel=1e-12)
+
+
+# ---- comparisons, conditions and ln (issue 10, item 3): 1 for true, 0 for false, as in C (common practice)
+@pytest.mark.parametrize(
+    "text, expected",
+    [
+        ("2 == 2", 1.0),
+        ("1 != 1", 0.0),
+        ("1 + 2 > 2", 1.0),  # comparisons are looser than arithmetic
+        ("-2 < -1", 1.0),
+        ("3 <= 3 && 2 > 1", 1.0),
+        ("0 || 0", 0.0),
+        ("1 || 1/0", 1.0),  # the right side of || is not evaluated when the left is true
+        ("0 && 1/0", 0.0),
+        ("if(1 > 2, 1/0, 5)", 5.0),  # only the branch taken is evaluated
+        ("if(2k >= 1k, 10, 20)", 10.0),
+        ("(1 < 2) + (2 < 1)", 1.0),
+        ("ln(exp(3))", 3.0),
+        ("ln(2)", math.log(2.0)),  # ln is the natural logarithm, like log
+    ],
+)
+def test_conditions(text, expected):
+    assert evaluate_text(text) == pytest.approx(expected, rel=1e-15)
+
+
+@pytest.mark.parametrize(
+    "text, fragment",
+    [
+        ("if(1, 2)", "if() takes 3 arguments"),
+        ("ln(0)", "ln of a number that is not positive"),
+        ("1 < 2 < 3", "is not allowed here"),  # comparisons do not chain
+    ],
+)
+def test_bad_conditions(text, fragment):
+    with pytest.raises(NetlistError) as info:
+        evaluate_text(text)
+    assert fragment in info.value.message
+
+
+def test_param_card_takes_comparisons_without_braces():
+    from netnoise.netlist import parse_netlist
+
+    circuit = parse_netlist("t\n.param rl=2k big=rl>1k\nR1 a 0 {if(big, rl, 1)}\n")
+    assert circuit.parameters["big"] == 1.0
+    assert circuit.element("R1").resistance == 2e3

@@ -160,6 +160,8 @@ class Circuit:
         probe = -1.0e3  # a temperature no element is at: those that follow it change
         return tuple(i for i, e in enumerate(self.elements) if e.at_temperature(probe) is not e)
 
+    operating_point_requested: bool = False  # the netlist has an .op card: report the DC operating point
+
     @cached_property
     def _index(self) -> dict[str, int]:
         return {name_key(e.name): i for i, e in enumerate(self.elements)}

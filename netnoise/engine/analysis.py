@@ -89,6 +89,17 @@ def _resolve(circuit, output, reference, input_source, band, points_per_decade, 
         input_source = card.input_source
 
     sweep = card.sweep if card is not None else None
+    if sweep is None and circuit.ac_sweep is not None:  # the usual pairing: the sweep is on the .ac card
+        sweep = circuit.ac_sweep
+        if band is None or points_per_decade is None:
+            notes.append(
+                Note(
+                    "band-from-ac",
+                    f"band and grid from the .ac card: {format_quantity(sweep.start, 'Hz')} to "
+                    f"{format_quantity(sweep.stop, 'Hz')}, {sweep.kind} {sweep.points}",
+                    {"low_Hz": sweep.start, "high_Hz": sweep.stop},
+                )
+            )
     band_defaulted = band is None and sweep is None
     if band is None:
         if sweep is not None:

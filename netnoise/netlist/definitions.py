@@ -12,11 +12,17 @@ from netnoise.netlist.statements import (
     AcCard,
     Assignment,
     EndsCard,
+    FuncCard,
+    InitialCard,
     Instance,
+    LeftOutLine,
     ModelCard,
     NoiseCard,
+    OperatingPointCard,
     OptionsCard,
     ParamCard,
+    ReaderNotice,
+    SetAsideCard,
     Statement,
     SubcktCard,
     TempCard,
@@ -41,7 +47,9 @@ __all__ = [
     "check_flat_size",
     "MAX_FLAT_ELEMENTS",
     "TOP_LEVEL_ONLY",
+    "NOT_ELEMENTS",
     "CARD_NAMES",
+    "all_statements",
 ]
 
 # A netlist whose subcircuits would expand to more elements than this is
@@ -50,6 +58,17 @@ __all__ = [
 MAX_FLAT_ELEMENTS = 5_000_000
 TOP_LEVEL_ONLY = (TempCard, AcCard, NoiseCard, OptionsCard)
 CARD_NAMES = {TempCard: ".temp", AcCard: ".ac", NoiseCard: ".noise", OptionsCard: ".options"}
+# statements that make no element (allowed anywhere; the elaborator reads them apart)
+NOT_ELEMENTS = (
+    ParamCard,
+    *TOP_LEVEL_ONLY,
+    SetAsideCard,
+    InitialCard,
+    OperatingPointCard,
+    FuncCard,
+    ReaderNotice,
+    LeftOutLine,
+)
 
 
 @dataclass
@@ -90,68 +109,104 @@ class Definition:
         return names
 
 
-def build_definitions(statements: list[Statement]) -> Definition:
+def all_statements(top: Definition):
+    """Every statement of ``top`` and of the definitions inside it, at any depth."""
+    stack = [top]
+    while stack:
+        definition = stack.pop()
+        yield from definition.body
+        stack.extend(definition.children.values())
+
+
+def build_definitions(statements: list[Statement], problems: list[NetlistError] | None = None) -> Definition:
+    """The top level and its ``.subckt`` definitions; ``problems``: where the
+    problems found go (the reading goes on), else the first is raised."""
     top = Definition("", (), (), None, None)
     current = top
     for statement in statements:
-        if isinstance(statement, SubcktCard):
-            key = statement.name.text.lower()
-            if key in current.children:
-                first = current.children[key].loc
-                raise _fail(
-                    f"subcircuit '{statement.name.text}' is defined twice",
-                    statement.name.loc,
-                    f"the first definition is at {_where(first)}" if first else "",
-                )
-            if key in current.models:
-                raise _fail(
-                    f"'{statement.name.text}' is both a subcircuit and a .model",
-                    statement.name.loc,
-                    f"the .model is at {_where(current.models[key].loc)}; rename one of them",
-                )
-            _check_pins(statement)
-            definition = Definition(statement.name.text, statement.pins, statement.defaults, statement.loc, current)
-            current.children[key] = definition
-            current = definition
-        elif isinstance(statement, ModelCard):
-            key = statement.name.text.lower()
-            if key in current.models:
-                raise _fail(
-                    f"model '{statement.name.text}' is defined twice",
-                    statement.name.loc,
-                    f"the first definition is at {_where(current.models[key].loc)}",
-                )
-            if key in current.children:
-                raise _fail(
-                    f"'{statement.name.text}' is both a subcircuit and a .model",
-                    statement.name.loc,
-                    f"the .subckt is at {_where(current.children[key].loc)}; rename one of them",
-                )
-            current.models[key] = statement
-        elif isinstance(statement, EndsCard):
-            if current is top:
-                raise _fail("'.ends' without a .subckt to close", statement.loc)
-            if statement.name is not None and statement.name.text.lower() != current.name.lower():
-                raise _fail(
-                    f"'.ends {statement.name.text}' does not match the open '.subckt {current.name}'",
-                    statement.name.loc,
-                    f"close '{current.name}' first (it starts at {_where(current.loc)})",
-                )
-            current = current.parent  # type: ignore[assignment]
-        else:
-            if current is not top and isinstance(statement, TOP_LEVEL_ONLY):
-                raise _fail(
-                    f"'{CARD_NAMES[type(statement)]}' belongs at the top level, not inside .subckt {current.name}",
-                    statement.loc,
-                )
-            current.body.append(statement)
+        try:
+            current, problem = _place(statement, current, top)
+        except NetlistError as refused:
+            problem = refused
+        if problem is not None:
+            if problems is None:
+                raise problem
+            problems.append(problem)
     if current is not top:
-        raise _fail(
+        problem = _fail(
             f"'.subckt {current.name}' is never closed",
             current.loc,
             f"add '.ends {current.name}' after its last line",
         )
+        if problems is None:
+            raise problem
+        problems.append(problem)
     return top
+
+
+def _place(statement: Statement, current: Definition, top: Definition) -> tuple[Definition, NetlistError | None]:
+    """Put ``statement`` where it belongs: the definition open after it, and
+    the problem with it (a refused .subckt still opens a definition, kept
+    apart, so its lines do not fall to the level around it)."""
+    if isinstance(statement, SubcktCard):
+        key = statement.name.text.lower()
+        definition = Definition(statement.name.text, statement.pins, statement.defaults, statement.loc, current)
+        problem: NetlistError | None = None
+        if key in current.children:
+            first = current.children[key].loc
+            problem = _fail(
+                f"subcircuit '{statement.name.text}' is defined twice",
+                statement.name.loc,
+                f"the first definition is at {_where(first)}" if first else "",
+            )
+        elif key in current.models:
+            problem = _fail(
+                f"'{statement.name.text}' is both a subcircuit and a .model",
+                statement.name.loc,
+                f"the .model is at {_where(current.models[key].loc)}; rename one of them",
+            )
+        else:
+            try:
+                _check_pins(statement)
+            except NetlistError as bad:
+                problem = bad
+            else:
+                current.children[key] = definition
+        return definition, problem
+    if isinstance(statement, ModelCard):
+        key = statement.name.text.lower()
+        if key in current.models:
+            raise _fail(
+                f"model '{statement.name.text}' is defined twice",
+                statement.name.loc,
+                f"the first definition is at {_where(current.models[key].loc)}",
+            )
+        if key in current.children:
+            raise _fail(
+                f"'{statement.name.text}' is both a subcircuit and a .model",
+                statement.name.loc,
+                f"the .subckt is at {_where(current.children[key].loc)}; rename one of them",
+            )
+        current.models[key] = statement
+    elif isinstance(statement, EndsCard):
+        if current is top:
+            raise _fail("'.ends' without a .subckt to close", statement.loc)
+        mismatch = None
+        if statement.name is not None and statement.name.text.lower() != current.name.lower():
+            mismatch = _fail(
+                f"'.ends {statement.name.text}' does not match the open '.subckt {current.name}'",
+                statement.name.loc,
+                f"close '{current.name}' first (it starts at {_where(current.loc)})",
+            )
+        return current.parent, mismatch  # type: ignore[return-value]
+    else:
+        if current is not top and isinstance(statement, TOP_LEVEL_ONLY):
+            raise _fail(
+                f"'{CARD_NAMES[type(statement)]}' belongs at the top level, not inside .subckt {current.name}",
+                statement.loc,
+            )
+        current.body.append(statement)
+    return current, None
 
 
 def _check_pins(statement: SubcktCard) -> None:
@@ -200,7 +255,7 @@ def flat_element_counts(top: Definition) -> dict[int, int]:
                 if isinstance(statement, Instance):
                     child = _instance_target(definition, statement)
                     total += 1 if child is None else counts.get(id(child), 0)
-                elif not isinstance(statement, (ParamCard, *TOP_LEVEL_ONLY)):
+                elif not isinstance(statement, NOT_ELEMENTS):
                     total += 1
             counts[id(definition)] = total
             continue

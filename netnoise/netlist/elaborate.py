@@ -15,6 +15,10 @@ What happens here, in order:
    Parameters are looked up in the instance scope, then the scope the
    subcircuit was defined in, out to the global ``.param`` values.
 
+Every statement is tried on its own: a problem is kept and the reading goes
+on, and all are raised together at the end (see DEVELOPERS.md, "Every
+problem in one pass").
+
 Naming: element ``R2`` inside instance ``X1`` is ``X1.R2``; internal node
 ``mid`` is ``x1.mid``; pins stand for the outer nodes they are connected to;
 ``0`` (alias ``gnd``) is the one global node.  ``F``/``H`` controlling
@@ -28,6 +32,7 @@ import dataclasses
 import difflib
 import functools
 import math
+from collections.abc import Callable
 from dataclasses import dataclass, field
 from pathlib import Path
 from typing import Any
@@ -35,30 +40,35 @@ from typing import Any
 from netnoise import circuit as c
 from netnoise.circuit.elements.amplifier import OpAmp, check_opamp_param
 from netnoise.constants import ABSOLUTE_ZERO_C, GROUND_ALIASES
-from netnoise.errors import NetlistError, SourceLocation
+from netnoise.errors import NetlistError, SourceLocation, raise_problems
 from netnoise.netlist.definitions import (
     CARD_NAMES as _CARD_NAMES,
 )
 from netnoise.netlist.definitions import (
     MAX_FLAT_ELEMENTS,
+    NOT_ELEMENTS,
     Definition,
+    all_statements,
     build_definitions,
     check_flat_size,
     flat_element_counts,
-)
-from netnoise.netlist.definitions import (
-    TOP_LEVEL_ONLY as _TOP_LEVEL_ONLY,
 )
 from netnoise.netlist.includes import MAX_INCLUDE_DEPTH, expand_includes
 from netnoise.netlist.statements import (
     AcCard,
     Assignment,
+    FuncCard,
+    InitialCard,
     Instance,
+    LeftOutLine,
     ModelCard,
     NoiseCard,
+    OperatingPointCard,
     OptionsCard,
     ParamCard,
     ParsedFile,
+    ReaderNotice,
+    SetAsideCard,
     Statement,
     Sweep,
     TempCard,
@@ -66,7 +76,7 @@ from netnoise.netlist.statements import (
     Value,
     Word,
 )
-from netnoise.text.expressions import CONSTANTS, evaluate, referenced_names
+from netnoise.text.expressions import CONSTANTS, FUNCTIONS, Function, evaluate, referenced_names
 from netnoise.text.fields import shown
 from netnoise.text.source import bounded
 from netnoise.text.values import SMALLEST_NORMAL, exact
@@ -120,6 +130,7 @@ class _Scope:
     params: dict[str, float] = field(default_factory=dict)
     param_origin: dict[str, SourceLocation] = field(default_factory=dict)
     overridden: set[str] = field(default_factory=set)  # parameters set on the instance's X line
+    within: str = ""  # for messages: "X1, an instance of subcircuit 'amp' (top.cir:9)"
     # shared by every scope of one elaboration: node names written at the top level with a dot,
     # and the internal nodes instances made, so a top-level 'x1.mid' cannot join X1's 'mid' unseen
     names: _NodeNames = field(default_factory=lambda: _NodeNames())
@@ -230,9 +241,27 @@ def _origin(value: Value, scope: _Scope) -> c.ValueOrigin:
     return c.ValueOrigin(kind, value.text, names, value.loc)
 
 
+class _Skipped(Exception):
+    """A value that uses a parameter whose own definition was refused: the
+    problem is reported once, at that definition, not at every use."""
+
+
 class _Elaborator:
-    def __init__(self, notices: list[str], param_overrides: dict[str, float] | None = None) -> None:
+    def __init__(
+        self,
+        notices: list[str],
+        param_overrides: dict[str, float] | None = None,
+        problems: list[NetlistError] | None = None,
+        functions: dict[str, Function] | None = None,
+    ) -> None:
         self.param_overrides = param_overrides or {}
+        # every problem found, in order; a statement that fails is left out and the reading goes on
+        self.problems: list[NetlistError] = problems if problems is not None else []
+        self.incomplete = bool(self.problems)  # lines were left out: checks across lines may mislead
+        self.broken: set[str] = set()  # parameters whose definitions were refused
+        # name key -> (name, place) of element lines left out: their names stay taken
+        self.failed: dict[str, tuple[str, SourceLocation]] = {}
+        self.functions = functions or {}
         self.origins: dict[str, c.ValueOrigin] = {}
         self.tolerances: dict[str, float] = {}  # element name -> tolerance=, as a fraction
         self.elements: list[c.Element] = []
@@ -247,7 +276,9 @@ class _Elaborator:
             result = value.number
         else:
             assert value.tree is not None and value.source is not None
-            result = evaluate(value.tree, scope.visible(), value.source.location)
+            if self.broken and referenced_names(value.tree) & self.broken:
+                raise _Skipped
+            result = evaluate(value.tree, scope.visible(), value.source.location, self.functions)
         if not math.isfinite(result):
             raise _fail("the value is not a finite number", value.loc)
         if result != 0 and abs(result) < SMALLEST_NORMAL:
@@ -263,24 +294,57 @@ class _Elaborator:
         """Set each assignment in ``scope``, evaluating it in ``where``; at the
         top level a value in ``self.param_overrides`` replaces the written one."""
         for assignment in assignments:
-            key = assignment.name.lower()
-            if key in CONSTANTS:
-                raise _fail(f"'{assignment.name}' is a built-in constant and cannot be redefined", assignment.loc)
-            if key in scope.param_origin:
-                raise _fail(
-                    f"parameter '{assignment.name}' is already defined in this scope",
-                    assignment.loc,
-                    f"the first definition is at {_where(scope.param_origin[key])}",
-                )
-            if scope.parent is None and key in self.param_overrides:
-                scope.params[key] = self.param_overrides[key]
-            else:
-                scope.params[key] = self.number(assignment.value, where)
-            scope.param_origin[key] = assignment.loc
+            try:
+                self.define_param(assignment, scope, where)
+            except NetlistError as problem:
+                self.report(problem, scope)
+                self.broken.add(assignment.name.lower())
+            except _Skipped:
+                self.broken.add(assignment.name.lower())
+
+    def attempt(self, work: Callable[[], Any]) -> Any:
+        """``work()``, or None with its problem kept (a card that fails is left out)."""
+        try:
+            return work()
+        except NetlistError as problem:
+            self.problems.append(problem)
+        except _Skipped:
+            pass
+        return None
+
+    def report(self, problem: NetlistError, scope: _Scope) -> None:
+        """Keep ``problem`` (naming the instance it happened in) and go on."""
+        if not problem.instance and scope.within:
+            problem.instance = scope.within
+        self.problems.append(problem)
+        self.incomplete = True
+
+    def define_param(self, assignment: Assignment, scope: _Scope, where: _Scope) -> None:
+        key = assignment.name.lower()
+        if key in CONSTANTS:
+            raise _fail(f"'{assignment.name}' is a built-in constant and cannot be redefined", assignment.loc)
+        if key in scope.param_origin:
+            raise _fail(
+                f"parameter '{assignment.name}' is already defined in this scope",
+                assignment.loc,
+                f"the first definition is at {_where(scope.param_origin[key])}",
+            )
+        if scope.parent is None and key in self.param_overrides:
+            scope.params[key] = self.param_overrides[key]
+        else:
+            scope.params[key] = self.number(assignment.value, where)
+        scope.param_origin[key] = assignment.loc
 
     # ---- elements
     def add(self, element: c.Element, loc: SourceLocation) -> int:
         key = c.name_key(element.name)
+        if key in self.failed:
+            name, first = self.failed[key]
+            raise _fail(
+                f"duplicate element name '{element.name}'",
+                loc,
+                f"the first '{name}' is at {_where(first)} (a line with a problem of its own)",
+            )
         if key in self.by_key:
             first = self.by_key[key][1]
             raise _fail(
@@ -298,10 +362,38 @@ class _Elaborator:
             if isinstance(statement, ParamCard):
                 self.define_params(statement.assignments, scope, scope)
         for statement in body:
-            if isinstance(statement, Instance):
-                self.instance(statement, scope)
-            elif not isinstance(statement, (ParamCard, *_TOP_LEVEL_ONLY)):
-                self.element(statement, scope)
+            if isinstance(statement, LeftOutLine):
+                self.left_out(scope.element_prefix + statement.name.text, statement.loc)
+                continue
+            if isinstance(statement, NOT_ELEMENTS):
+                continue
+            try:
+                if isinstance(statement, Instance):
+                    self.instance(statement, scope)
+                else:
+                    self.element(statement, scope)
+            except NetlistError as problem:
+                self.report(problem, scope)
+                self.left_out(scope.element_prefix + _statement_name(statement), statement.loc)
+            except _Skipped:
+                self.incomplete = True
+                self.left_out(scope.element_prefix + _statement_name(statement), statement.loc)
+
+    def left_out(self, name: str, loc: SourceLocation) -> None:
+        """Element ``name`` (at ``loc``) could not be read or built: its name stays taken."""
+        self.incomplete = True
+        key = c.name_key(name)
+        if key in self.by_key:
+            first = self.by_key[key]
+            self.problems.append(
+                _fail(
+                    f"duplicate element name '{name}'",
+                    loc,
+                    f"the first '{first[0].name}' is at {_where(first[1])}",
+                )
+            )
+        else:
+            self.failed.setdefault(key, (name, loc))
 
     def element(self, statement: Any, scope: _Scope) -> None:
         if isinstance(statement, Toleranced):  # the line's tolerance, kept for Monte Carlo studies
@@ -409,6 +501,7 @@ class _Elaborator:
             name.lower() + ".",
             {pin.text.lower(): scope.node(node) for pin, node in zip(definition.pins, statement.nodes)},
             names=scope.names,
+            within=f"{name}, an instance of subcircuit '{definition.name}' ({_where(statement.loc)})",
         )
         declared = {a.name.lower(): a for a in definition.defaults}
         overrides: dict[str, Assignment] = {}
@@ -443,16 +536,17 @@ class _Elaborator:
     def resolve(self) -> None:
         for item in self.pending:
             found = self.by_key.get(c.name_key(item.full_name))
+            if found is None and self.incomplete:
+                continue  # the line that would define it may be one of those left out
             if found is None or not isinstance(found[0], item.wanted):
                 candidates = [e.name for e, _ in self.by_key.values() if isinstance(e, item.wanted)]
                 close = difflib.get_close_matches(item.full_name, candidates, n=3)
                 hint = "did you mean " + " or ".join(f"'{n}'" for n in close) + "?" if close else ""
                 what = "is not a" if found is not None else "names no"
-                raise _fail(
-                    f"{item.owner}: '{item.word.text}' {what} {item.what} in this scope",
-                    item.word.loc,
-                    hint,
+                self.problems.append(
+                    _fail(f"{item.owner}: '{item.word.text}' {what} {item.what} in this scope", item.word.loc, hint)
                 )
+                continue
             target = found[0].name
             element = self.elements[item.index]
             if item.slot == "control_source":
@@ -469,13 +563,14 @@ class _Elaborator:
 # analysis cards
 
 
-def _one(statements: list[Statement], kind: type) -> Statement | None:
+def _one(statements: list[Statement], kind: type, problems: list[NetlistError]) -> Statement | None:
+    """The one card of ``kind`` (a second, third... is a problem; the first is used)."""
     found = [s for s in statements if isinstance(s, kind)]
-    if len(found) > 1:
-        raise _fail(
-            f"a second '{_CARD_NAMES[kind]}' card",
-            found[1].loc,
-            f"the first is at {_where(found[0].loc)}; keep one",
+    for extra in found[1:]:
+        problems.append(
+            _fail(
+                f"a second '{_CARD_NAMES[kind]}' card", extra.loc, f"the first is at {_where(found[0].loc)}; keep one"
+            )
         )
     return found[0] if found else None
 
@@ -497,11 +592,13 @@ def _sweep(sweep: Sweep, engine: _Elaborator, scope: _Scope) -> c.Sweep:
     return c.Sweep(sweep.kind, int(points), start, stop)
 
 
-def _node_check(word: Word, nodes: set[str], what: str, spelled: dict[str, str]) -> str:
+def _node_check(word: Word, nodes: set[str], what: str, spelled: dict[str, str], incomplete: bool = False) -> str:
+    """``word`` as a node of the circuit; ``incomplete``: lines were left out
+    (one of them may connect it), so a node not found is not refused."""
     key = word.text.lower()
     if key in GROUND_ALIASES:
         return c.GROUND
-    if key not in nodes:
+    if key not in nodes and not incomplete:
         close = difflib.get_close_matches(key, sorted(nodes), n=3)
         hint = "did you mean " + " or ".join(f"'{spelled.get(n, n)}'" for n in close) + "?" if close else ""
         raise _fail(f"the {what} node '{word.text}' is not connected to any element", word.loc, hint)
@@ -510,15 +607,21 @@ def _node_check(word: Word, nodes: set[str], what: str, spelled: dict[str, str])
 
 def _noise_card(card: NoiseCard, engine: _Elaborator, scope: _Scope, nodes: set[str]) -> c.NoiseCard:
     spelled = scope.names.spelled
-    output = _node_check(card.output, nodes, ".noise output", spelled)
+    output = _node_check(card.output, nodes, ".noise output", spelled, engine.incomplete)
     if output == c.GROUND:
         raise _fail("the .noise output cannot be ground", card.output.loc)
-    reference = _node_check(card.reference, nodes, ".noise reference", spelled) if card.reference else c.GROUND
+    reference = (
+        _node_check(card.reference, nodes, ".noise reference", spelled, engine.incomplete)
+        if card.reference
+        else c.GROUND
+    )
     if reference == output:
         raise _fail("the .noise output and reference are the same node", card.reference.loc)  # type: ignore[union-attr]
     source_name = None
     if card.source is not None:
         found = engine.by_key.get(c.name_key(card.source.text))
+        if found is None and engine.incomplete:
+            raise _Skipped  # the line that defines it may be one of those left out
         if found is None or not found[0].can_drive:
             sources = [e.name for e, _ in engine.by_key.values() if e.can_drive]
             close = difflib.get_close_matches(card.source.text, sources, n=3)
@@ -571,49 +674,140 @@ def elaborate(
     ``base_dir`` is where its ``.include`` paths start; ``own_path`` (if the
     text came from a file) lets an include cycle back to it be caught;
     ``includes_within``: the folder whose tree every included file must be in.
+
+    Every problem is collected, in every file, and raised at the end together
+    (:func:`netnoise.errors.raise_problems`): one alone as itself, several as
+    a :class:`~netnoise.errors.NetlistProblems`.
     """
     try:
         chain = (own_path.resolve(),) if own_path is not None else ()
     except (RuntimeError, OSError):
         chain = ()
     within = includes_within.resolve() if includes_within is not None else None
-    statements = expand_includes(parsed, base_dir, chain, within=within)
-    top = build_definitions(statements)
-    check_flat_size(top)
-    return _flat_circuit(parsed, top, source_file, {})
+    problems: list[NetlistError] = list(parsed.problems)
+    statements = expand_includes(parsed, base_dir, chain, within=within, problems=problems)
+    top = build_definitions(statements, problems)
+    try:
+        check_flat_size(top)
+    except NetlistError as problem:  # nothing is expanded past this limit
+        raise_problems([*problems, problem])
+    return _flat_circuit(parsed, top, source_file, {}, problems)
 
 
 def _rebuilt(parsed: ParsedFile, top: Definition, source_file: str, overrides: dict[str, float], new_overrides):
     return _flat_circuit(parsed, top, source_file, {**overrides, **new_overrides})
 
 
-def _flat_circuit(parsed: ParsedFile, top: Definition, source_file: str, overrides: dict[str, float]) -> c.Circuit:
+def _functions(top: Definition, engine: _Elaborator) -> dict[str, Function]:
+    """The ``.func`` functions, wherever they are written (their names are global)."""
+    functions: dict[str, Function] = {}
+    first: dict[str, SourceLocation] = {}
+    for statement in all_statements(top):
+        if not isinstance(statement, FuncCard):
+            continue
+        key = statement.name.text.lower()
+        if key in FUNCTIONS or key == "if":
+            engine.problems.append(
+                _fail(
+                    f"'{statement.name.text}' is a built-in function and cannot be redefined",
+                    statement.name.loc,
+                    "give the .func another name",
+                )
+            )
+        elif key in functions:
+            engine.problems.append(
+                _fail(
+                    f"function '{statement.name.text}' is defined twice",
+                    statement.name.loc,
+                    f"the first definition is at {_where(first[key])}",
+                )
+            )
+        else:
+            body = statement.body
+            assert body.tree is not None and body.source is not None
+            params = tuple(p.text.lower() for p in statement.params)
+            functions[key] = Function(statement.name.text, params, body.tree, body.source.location)
+            first[key] = statement.loc
+    return functions
+
+
+def _set_aside_notice(top: Definition) -> str | None:
+    """One notice naming every card that was read and set aside, in file order."""
+    found: list[tuple[str, int, str]] = []  # file, line, text
+    for statement in all_statements(top):
+        if isinstance(statement, (SetAsideCard, InitialCard)):
+            loc = statement.loc
+            where = _where(loc)
+            if isinstance(statement, InitialCard):
+                text = f"{statement.name} ({where}, {len(statement.voltages)} node voltage(s))"
+            elif statement.name == ".control":
+                text = f".control block ({where}-{statement.last_line})"
+            else:
+                text = f"{statement.name} ({where})"
+            found.append((loc.file, loc.line, text))
+    if not found:
+        return None
+    files = list(dict.fromkeys(file for file, _, _ in found))
+    found.sort(key=lambda item: (files.index(item[0]), item[1]))
+    return (
+        "set aside, as they do not change a small-signal noise analysis (other analyses, printing, "
+        "start-up values): " + ", ".join(text for _, _, text in found)
+    )
+
+
+def _flat_circuit(
+    parsed: ParsedFile,
+    top: Definition,
+    source_file: str,
+    overrides: dict[str, float],
+    problems: list[NetlistError] | None = None,
+) -> c.Circuit:
     notices: list[str] = []
-    engine = _Elaborator(notices, overrides)
+    engine = _Elaborator(notices, overrides, problems)
+    engine.functions = _functions(top, engine)
     scope = _Scope(top, None, "", "", {})
     engine.expand(scope)
-    scope.names.check()
+    try:
+        scope.names.check()
+    except NetlistError as problem:
+        engine.problems.append(problem)
     engine.resolve()
-    if not engine.elements:
+    if not engine.elements and not engine.problems:
         raise _no_elements(parsed)
 
     temperature = None
-    temp_card = _one(top.body, TempCard)
-    if temp_card is not None:
-        temperature = engine.number(temp_card.value, scope)  # type: ignore[union-attr]
-        if temperature <= ABSOLUTE_ZERO_C:
-            raise _fail(
-                f"{exact(temperature)} °C is at or below absolute zero (-273.15 °C)",
-                temp_card.value.loc,  # type: ignore[union-attr]
-            )
-    ac_card = _one(top.body, AcCard)
-    ac_sweep = _sweep(ac_card.sweep, engine, scope) if ac_card is not None else None  # type: ignore[union-attr,arg-type]
+    temp_card = _one(top.body, TempCard, engine.problems)
+    if isinstance(temp_card, TempCard):
+        temperature = engine.attempt(lambda: _temperature(temp_card, engine, scope))
+    ac_card = _one(top.body, AcCard, engine.problems)
+    ac_sweep = engine.attempt(lambda: _sweep(ac_card.sweep, engine, scope)) if isinstance(ac_card, AcCard) else None
     circuit_nodes = {n for e in engine.elements for n in e.terminals()}
-    noise = _one(top.body, NoiseCard)
-    noise_card = _noise_card(noise, engine, scope, circuit_nodes) if noise is not None else None  # type: ignore[arg-type]
+    noise = _one(top.body, NoiseCard, engine.problems)
+    noise_card = (
+        engine.attempt(lambda: _noise_card(noise, engine, scope, circuit_nodes))
+        if isinstance(noise, NoiseCard)
+        else None
+    )
+    raise_problems(engine.problems)
+
     for statement in top.body:
         if isinstance(statement, OptionsCard):
             notices.append(f"{_where(statement.loc)}: .options ignored: netnoise has no simulator options to set")
+    set_aside = _set_aside_notice(top)
+    if set_aside is not None:
+        notices.append(set_aside)
+    operating_point = False
+    for statement in all_statements(top):
+        if isinstance(statement, ReaderNotice):
+            notices.append(statement.text if statement.loc is None else f"{_where(statement.loc)}: {statement.text}")
+        elif isinstance(statement, OperatingPointCard):
+            operating_point = True
+            notices.append(f"{_where(statement.loc)}: .op: the DC operating point is added to the report")
+    if isinstance(noise, NoiseCard) and noise.summary is not None:
+        notices.append(
+            f"{_where(noise.summary.loc)}: the last field of .noise (points per summary, "
+            f"'{shown(noise.summary.text)}') is not used: netnoise reports the whole budget once"
+        )
 
     # a partial of module-level functions, not a closure: the circuit can be pickled
     # (sent to worker processes or a cluster by netnoise.studies)
@@ -632,4 +826,18 @@ def _flat_circuit(parsed: ParsedFile, top: Definition, source_file: str, overrid
         tolerances=engine.tolerances,
         rebuild=rebuild,
         node_spellings=scope.names.spelled,
+        operating_point_requested=operating_point,
     )
+
+
+def _temperature(card: TempCard, engine: _Elaborator, scope: _Scope) -> float:
+    temperature = engine.number(card.value, scope)
+    if temperature <= ABSOLUTE_ZERO_C:
+        raise _fail(f"{exact(temperature)} °C is at or below absolute zero (-273.15 °C)", card.value.loc)
+    return temperature
+
+
+def _statement_name(statement: Any) -> str:
+    inner = statement.statement if isinstance(statement, Toleranced) else statement
+    name = getattr(inner, "name", "")
+    return name if isinstance(name, str) else ""

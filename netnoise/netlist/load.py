@@ -47,7 +47,7 @@ def parse_netlist(
     collecting = gc.isenabled()
     gc.disable()
     try:
-        parsed = parse_statements(text, filename, has_title=True)
+        parsed = parse_statements(text, filename, has_title=True, collect=True)
         return elaborate(
             parsed,
             Path(base_dir),

@@ -14,30 +14,43 @@ from lark import Token, Tree
 
 from netnoise.circuit.elements.amplifier import OPAMP_PARAMS, check_opamp_param, opamp_param_list
 from netnoise.circuit.registry import LINE_LETTERS, forms, kind_for_line, kinds_for
-from netnoise.errors import SourceLocation
+from netnoise.errors import NetlistError, SourceLocation, raise_problems
 from netnoise.netlist.statements import (
     AcCard,
     Assignment,
+    EndlCard,
     EndsCard,
+    FuncCard,
     IncludeCard,
+    InitialCard,
     Instance,
+    LeftOutLine,
+    LibCard,
+    LibSection,
     ModelCard,
     NoiseCard,
+    OperatingPointCard,
     OptionsCard,
     ParamCard,
     ParsedFile,
     Passive,
+    ReaderNotice,
+    SetAsideCard,
     Statement,
     SubcktCard,
     Sweep,
     TempCard,
     Toleranced,
 )
+from netnoise.text.behavioural import behavioural_refusal
 from netnoise.text.fields import (
+    IDENTIFIER,
+    Braced,
     Call,
     Field,
     FieldReader,
     Keyed,
+    KeyedCall,
     LineReader,
     Quoted,
     Value,
@@ -50,7 +63,7 @@ from netnoise.text.fields import (
 )
 from netnoise.text.source import SourceText, prepare
 from netnoise.text.source import fail as _fail
-from netnoise.text.syntax import parse_tree
+from netnoise.text.syntax import parse_lines, parse_tree
 
 # --------------------------------------------------------------------------
 # element lines
@@ -100,6 +113,8 @@ _PLAIN = {letter: kinds_for(letter)[0] for letter in "RCL"}
 
 def _check_letter(name_word: Word) -> None:
     name = name_word.text
+    if name[0].upper() == "B":
+        raise behavioural_refusal(name, "B", name_word.loc)
     if name[0].upper() not in SUPPORTED_LETTERS:
         reason = _UNSUPPORTED.get(name[0].upper(), f"element letter '{name[0]}' is not supported")
         raise _fail(
@@ -176,16 +191,36 @@ def _instance(line: LineReader) -> Instance:
 # --------------------------------------------------------------------------
 # dot-cards
 
-SUPPORTED_CARDS = (".subckt", ".ends", ".model", ".param", ".include", ".temp", ".ac", ".noise", ".options", ".end")
+SUPPORTED_CARDS = (
+    ".subckt",
+    ".ends",
+    ".model",
+    ".param",
+    ".func",
+    ".include",
+    ".lib",
+    ".temp",
+    ".ac",
+    ".noise",
+    ".title",
+    ".options",
+    ".end",
+)
+# cards for other analyses and for output: a small-signal noise analysis does
+# not depend on them, so they are read and set aside (one notice names them)
+SET_ASIDE_CARDS = frozenset(
+    {".tran", ".dc", ".print", ".plot", ".probe", ".save", ".meas", ".measure", ".four", ".tf", ".sens", ".width"}
+)
 _NOT_YET = {
-    ".lib": "'.lib' is not supported; use .include FILE",
-    ".inc": "write '.include' in full",
     ".global": "'.global' is not supported: only ground (0) is shared between subcircuits",
 }
 
 
 class _Card:
-    def __init__(self, name: str, loc: SourceLocation, end: SourceLocation, fields: list[Field]) -> None:
+    def __init__(
+        self, name: str, loc: SourceLocation, end: SourceLocation, fields: list[Field], source: SourceText
+    ) -> None:
+        self.source = source
         self.name = name
         self.loc = loc
         self.fields = fields
@@ -234,7 +269,7 @@ def _card(tree: Tree, fields: FieldReader) -> Statement:
     loc = source.at(name_token)
     name = str(name_token).lower()
     items = fields.fields(tree.children[1:])
-    card = _Card(name, loc, source.after(name_token), items)
+    card = _Card(name, loc, source.after(name_token), items, source)
     if name == ".subckt":
         return _subckt(card)
     if name == ".ends":
@@ -242,13 +277,28 @@ def _card(tree: Tree, fields: FieldReader) -> Statement:
         label = card.word("name", form) if card.peek() is not None else None
         card.done(form)
         return EndsCard(label, loc)
-    if name == ".include":
-        form = ".include FILE"
+    if name in (".include", ".inc"):
+        form = f"{name} FILE"
         item = card.take("file name", form)
         if not isinstance(item, (Word, Quoted)):
             raise _fail(f"expected a file name here, not {describe(item)}", item.loc)
         card.done(form)
         return IncludeCard(item.text, loc)
+    if name in SET_ASIDE_CARDS:
+        return SetAsideCard(name, loc)
+    if name == ".op":
+        return OperatingPointCard(loc)
+    if name in (".ic", ".nodeset"):
+        return _initial(card)
+    if name == ".lib":
+        return _lib(card)
+    if name == ".endl":
+        form = ".endl [section]"
+        label = card.word("section name", form) if card.peek() is not None else None
+        card.done(form)
+        return EndlCard(label, loc)
+    if name == ".func":
+        return _func(card)
     if name == ".temp":
         form = ".temp degrees_celsius"
         value = as_value(card.take("temperature", form), "temperature")
@@ -272,6 +322,105 @@ def _card(tree: Tree, fields: FieldReader) -> Statement:
         loc,
         "netnoise reads " + " ".join(SUPPORTED_CARDS),
     )
+
+
+def _glued_key(item: Field, source: SourceText) -> Field:
+    """``v(out)=1`` or ``f(x)={x}`` read as one keyed word (the grammar keeps a word with a
+    glued group whole, since in node position it is a name): as the keyed call it is here."""
+    if isinstance(item, Keyed) and not item.rest and isinstance(item.value, (Word, Braced)):
+        call = glued_call(Word(item.key, source, item.loc.line, item.loc.column))
+        if call is not None:
+            return KeyedCall(call, item.value, item.loc, item.end)
+    if isinstance(item, Word):
+        return glued_call(item) or item
+    return item
+
+
+def _initial(card: _Card) -> InitialCard:
+    """``.ic v(n)=value ...`` / ``.nodeset v(n)=value ...``."""
+    form = f"{card.name} v(node)=value ..."
+    voltages: list[tuple[Word, Value]] = []
+    while card.peek() is not None:
+        item = _glued_key(card.take("node voltage", form), card.source)
+        node = item.call.args[0] if isinstance(item, KeyedCall) and len(item.call.args) == 1 else None
+        if not isinstance(item, KeyedCall) or item.call.name.lower() != "v" or not isinstance(node, Word):
+            raise _fail(
+                f"expected a node voltage v(node)=value on {card.name}, not {describe(item)}",
+                item.loc,
+                f"the form is: {form}",
+            )
+        voltages.append((node, as_value(item.value, f"voltage of node '{shown(node.text)}'")))
+    if not voltages:
+        card.take("node voltage", form)
+    return InitialCard(card.name, tuple(voltages), card.loc)
+
+
+def _lib(card: _Card) -> LibCard | LibSection:
+    """``.lib FILE SECTION`` reads a section; ``.lib SECTION`` (in a library file) starts one."""
+    form = ".lib FILE SECTION  (or, inside a library file, .lib SECTION ... .endl)"
+    first = card.take("file name and section name", form)
+    if not isinstance(first, (Word, Quoted)):
+        raise _fail(f"expected a file name here, not {describe(first)}", first.loc, f"the form is: {form}")
+    if card.peek() is None:
+        if isinstance(first, Quoted):
+            raise _fail(
+                f'.lib "{shown(first.text)}" names a file but no section of it',
+                card.last_end,
+                f"write '.lib \"{shown(first.text)}\" SECTION', or '.include \"{shown(first.text)}\"' for the whole file",
+            )
+        return LibSection(first, card.loc)  # type: ignore[arg-type]
+    section = card.word("section name", form)
+    card.done(form)
+    return LibCard(first.text, section, card.loc)
+
+
+def _func(card: _Card) -> FuncCard:
+    """``.func name(a, b) {expression}`` (also ``= {expression}`` or ``= expression``)."""
+    form = ".func name(arg, ...) {expression}"
+    head = _glued_key(card.take("name(arguments)", form), card.source)
+    body: Field | None
+    if isinstance(head, KeyedCall):
+        call: Field = head.call
+        body = head.value
+    else:
+        call = head
+        body = card.take("expression", form) if card.peek() is not None else None
+    if not isinstance(call, Call):
+        raise _fail(
+            f"expected the function as name(arg, ...) here, not {describe(call)}", call.loc, f"the form is: {form}"
+        )
+    if not IDENTIFIER.match(call.name):
+        raise _fail(f"'{shown(call.name)}' is not a function name", call.loc, "names are letters, digits and '_'")
+    params: list[Word] = []
+    for arg in call.args:
+        if not isinstance(arg, Word) or not IDENTIFIER.match(arg.text):
+            raise _fail(
+                f".func {shown(call.name)}: an argument is a name, not {describe(arg)}", arg.loc, f"the form is: {form}"
+            )
+        if arg.text.lower() in {p.text.lower() for p in params}:
+            raise _fail(f".func {shown(call.name)}: argument '{arg.text}' is named twice", arg.loc)
+        params.append(arg)
+    if body is None:
+        raise _fail(f".func {shown(call.name)} is missing its expression", card.last_end, f"the form is: {form}")
+    card.done(form)
+    if isinstance(body, Braced):
+        value = as_value(body, "expression")
+    elif isinstance(body, Word):
+        value = _word_expression(body, card)
+    else:
+        raise _fail(f"expected the expression here, not {describe(body)}", body.loc, f"the form is: {form}")
+    name = Word(call.name, card.source, call.loc.line, call.loc.column)
+    return FuncCard(name, tuple(params), value, card.loc)
+
+
+def _word_expression(word: Word, card: _Card) -> Value:
+    """An expression written without braces (``= x*2``): parsed in place, so
+    its tokens keep their line and column."""
+    loc = word.loc
+    # the line breaks before it as continuation marks (skipped like blanks), then blanks to its column
+    padded = "\n+" * (loc.line - 1) + " " * (loc.column - (2 if loc.line > 1 else 1)) + word.text
+    tree = parse_tree(padded, "expression", card.source)
+    return Value(word.text, loc, None, tree, card.source)
 
 
 def _subckt(card: _Card) -> SubcktCard:
@@ -313,8 +462,10 @@ def _noise(card: _Card) -> NoiseCard:
     names_sweep = isinstance(upcoming, Word) and upcoming.text.lower() in ("dec", "oct", "lin")
     source = card.word("input source name", form) if upcoming is not None and not names_sweep else None
     sweep = _sweep(card, form) if card.peek() is not None else None
+    # a last number after the sweep (points per summary) shapes another program's printout only
+    summary = as_value(card.take("points per summary", form), "points per summary") if sweep and card.peek() else None
     card.done(form)
-    return NoiseCard(output, reference, source, sweep, card.loc)  # type: ignore[arg-type]
+    return NoiseCard(output, reference, source, sweep, card.loc, summary)  # type: ignore[arg-type]
 
 
 _MODEL_FORM = ".model NAME opamp [(] en=... in=... aol=... gbw=... [)]"
@@ -388,23 +539,59 @@ def _param_card(tree: Tree, source: SourceText) -> ParamCard:
 # the entry point
 
 
-def parse_statements(text: str, filename: str = "<text>", has_title: bool = True) -> ParsedFile:
+def _element_name(node: Tree | Token, fields: FieldReader) -> Word | None:
+    """The name of an element line (None for a dot-card)."""
+    if isinstance(node, Token):  # PLAIN_LINE
+        return fields.words(node)[0]
+    if node.data == "element_line":
+        return fields.word(node.children[0])  # type: ignore[arg-type]
+    return None
+
+
+def parse_statements(
+    text: str, filename: str = "<text>", has_title: bool = True, *, collect: bool = False
+) -> ParsedFile:
     """Parse netlist ``text`` into statements.
 
     ``has_title``: the first line is the title (true for the top-level file,
-    false for included files).
+    false for included files).  A line that cannot be read is left out and
+    the reading goes on; its problem is raised at the end (with the others),
+    or, with ``collect``, kept in the result's ``problems``.
     """
-    prepared, title, source = prepare(text, filename, has_title)
-    tree = parse_tree(prepared, "netlist", source)
+    prepared = prepare(text, filename, has_title)
+    source = prepared.source
+    problems: list[NetlistError] = list(prepared.problems)
+    unread: list[Statement] = []  # set-aside cards the grammar could not read: set aside all the same
+
+    def forgive(number: int, text: str) -> bool:
+        name = text.split(maxsplit=1)[0].lower() if text.strip() else ""
+        if name not in SET_ASIDE_CARDS:
+            return False
+        unread.append(SetAsideCard(name, source.location(number, text.index(".") + 1)))
+        return True
+
+    children = parse_lines(prepared.text, source, problems, forgive)
     fields = FieldReader(source)
-    statements: list[Statement] = []
-    for node in tree.children:
-        if isinstance(node, Token):  # PLAIN_LINE
-            statements.append(_plain_element(node, fields))
-        elif node.data == "element_line":
-            statements.append(_element(node, fields))
-        elif node.data == "param_line":
-            statements.append(_param_card(node, source))
-        else:
-            statements.append(_card(node, fields))
-    return ParsedFile(title, tuple(statements), source)
+    statements: list[Statement] = [ReaderNotice(text) for text in prepared.notices]
+    statements.extend(unread)
+    statements.extend(SetAsideCard(name, loc, last) for name, loc, last in prepared.set_aside)
+    for node in children:
+        try:
+            if isinstance(node, Token):  # PLAIN_LINE
+                statements.append(_plain_element(node, fields))
+            elif node.data == "element_line":
+                statements.append(_element(node, fields))
+            elif node.data == "param_line":
+                statements.append(_param_card(node, source))
+            else:
+                statements.append(_card(node, fields))
+        except NetlistError as problem:  # the line is left out; the reading goes on
+            problems.append(problem)
+            name = _element_name(node, fields)
+            if name is not None:
+                statements.append(LeftOutLine(name, name.loc))
+    if problems:
+        problems.sort(key=lambda p: (p.location.line, p.location.column) if p.location else (0, 0))
+        if not collect:
+            raise_problems(problems)
+    return ParsedFile(prepared.title, tuple(statements), source, tuple(problems))

@@ -13,7 +13,7 @@ from netnoise.circuit.elements.controlled import CurrentControlled, VoltageContr
 from netnoise.circuit.elements.coupling import Coupling
 from netnoise.circuit.elements.lossy_capacitor import LossyCapacitorLine
 from netnoise.circuit.elements.sources import IndependentSource
-from netnoise.errors import SourceLocation
+from netnoise.errors import NetlistError, SourceLocation
 from netnoise.text.fields import Assignment, Value, Word
 from netnoise.text.source import SourceText
 
@@ -35,6 +35,15 @@ __all__ = [
     "AcCard",
     "NoiseCard",
     "OptionsCard",
+    "SetAsideCard",
+    "InitialCard",
+    "OperatingPointCard",
+    "LibCard",
+    "LibSection",
+    "EndlCard",
+    "FuncCard",
+    "ReaderNotice",
+    "LeftOutLine",
     "Statement",
     "ParsedFile",
     "Toleranced",
@@ -118,6 +127,86 @@ class NoiseCard:
     source: Word | None
     sweep: Sweep | None
     loc: SourceLocation = field(compare=False)
+    summary: Value | None = field(default=None, compare=False)  # points per summary (not used)
+
+
+@dataclass(frozen=True)
+class SetAsideCard:
+    """A card that does not change a small-signal noise analysis (``.tran``,
+    ``.print``, a ``.control`` block, ...): read, then set aside with a notice.
+    ``last_line``: the block's last line (``.endc``), None for one card."""
+
+    name: str  # lower case, '.tran'
+    loc: SourceLocation = field(compare=False)
+    last_line: int | None = None
+
+
+@dataclass(frozen=True)
+class InitialCard:
+    """``.ic`` / ``.nodeset``: node voltages ``v(node)=value`` that start a
+    transient or a nonlinear solve; a linear noise analysis sets them aside."""
+
+    name: str  # '.ic' or '.nodeset'
+    voltages: tuple[tuple[Word, Value], ...]
+    loc: SourceLocation = field(compare=False)
+
+
+@dataclass(frozen=True)
+class OperatingPointCard:
+    """``.op``: asks for the DC operating point beside the noise report."""
+
+    loc: SourceLocation = field(compare=False)
+
+
+@dataclass(frozen=True)
+class LibCard:
+    """``.lib FILE SECTION``: the lines of one section of a library file."""
+
+    path: str
+    section: Word
+    loc: SourceLocation = field(compare=False)
+
+
+@dataclass(frozen=True)
+class LibSection:
+    """``.lib NAME`` inside a library file: a section starts (ends at ``.endl``)."""
+
+    name: Word
+    loc: SourceLocation = field(compare=False)
+
+
+@dataclass(frozen=True)
+class EndlCard:
+    name: Word | None
+    loc: SourceLocation = field(compare=False)
+
+
+@dataclass(frozen=True)
+class FuncCard:
+    """``.func name(arg, ...) {expression}``: a function for expressions."""
+
+    name: Word
+    params: tuple[Word, ...]
+    body: Value
+    loc: SourceLocation = field(compare=False)
+
+
+@dataclass(frozen=True)
+class LeftOutLine:
+    """An element line that could not be read (its problem is reported): its
+    name stays taken, so a second element of that name is still a duplicate."""
+
+    name: Word
+    loc: SourceLocation = field(compare=False)
+
+
+@dataclass(frozen=True)
+class ReaderNotice:
+    """A remark the reading of a file made (bytes in comments that were not
+    UTF-8, an unused field): becomes one of the circuit's notices."""
+
+    text: str
+    loc: SourceLocation | None = field(default=None, compare=False)
 
 
 @dataclass(frozen=True)
@@ -153,6 +242,15 @@ Statement = Union[
     AcCard,
     NoiseCard,
     OptionsCard,
+    SetAsideCard,
+    InitialCard,
+    OperatingPointCard,
+    LibCard,
+    LibSection,
+    EndlCard,
+    FuncCard,
+    ReaderNotice,
+    LeftOutLine,
 ]
 
 
@@ -163,3 +261,4 @@ class ParsedFile:
     title: str
     statements: tuple[Statement, ...]
     source: SourceText = field(repr=False)
+    problems: tuple[NetlistError, ...] = field(default=(), repr=False)  # lines that could not be read

@@ -6,7 +6,7 @@ line adds its own advice to the codes it knows (:data:`netnoise.cli.ADVICE`);
 the Python API reads the code and data.
 
 Codes: ``netlist`` (a remark about the netlist: ignored cards, suspicious
-values), ``band-default``, ``sweep-linear``, ``temperature-default``,
+values), ``band-default``, ``band-from-ac`` (the band and grid of the ``.ac`` card), ``sweep-linear``, ``temperature-default``,
 ``flicker-band-start``, ``spectrum-range``, ``integration-accuracy``,
 ``signal-unbounded``, ``stability-unchecked``, ``outside-rails`` (an amplifier's
 pin outside its supply rails at DC), ``other``.

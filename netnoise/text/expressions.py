@@ -7,9 +7,15 @@ We walk the lark parse tree ourselves; nothing is ever handed to Python's
 * parameter names (case-insensitive) and the constant ``pi``
 * ``+ - * /``, unary ``-`` and ``+``, powers ``**`` or ``^`` (right
   associative and tighter than a sign: ``-2**2`` is -4), parentheses
-* functions: ``sqrt exp log log10 sin cos tan abs`` (one argument), ``pow``
-  (two), ``min max`` (two or more); ``log`` is the natural logarithm and the
-  trigonometric functions take radians.
+* functions: ``sqrt exp log ln log10 sin cos tan abs`` (one argument), ``pow``
+  (two), ``min max`` (two or more); ``log`` and ``ln`` are the natural
+  logarithm and the trigonometric functions take radians
+* comparisons ``== != < <= > >=`` (1 when true, 0 when false), ``&&`` and
+  ``||`` (on non-zero as true), and ``if(condition, a, b)``, which evaluates
+  only the branch it takes
+* functions of the netlist's ``.func`` cards (:class:`Function`): their
+  arguments, and the parameters visible where they are called; a function
+  that calls itself, directly or through others, is refused.
 
 Every failure is a :class:`~netnoise.errors.NetlistError` at the place in the
 file where it happened.
@@ -20,13 +26,23 @@ from __future__ import annotations
 import difflib
 import math
 from collections.abc import Callable, Mapping
+from dataclasses import dataclass, field
 
 from lark import Token, Tree
 
 from netnoise.errors import NetlistError, SourceLocation
 from netnoise.text.values import split_value
 
-__all__ = ["CONSTANTS", "FUNCTIONS", "MAX_DEPTH", "Locator", "evaluate", "evaluate_text", "referenced_names"]
+__all__ = [
+    "CONSTANTS",
+    "FUNCTIONS",
+    "MAX_DEPTH",
+    "Function",
+    "Locator",
+    "evaluate",
+    "evaluate_text",
+    "referenced_names",
+]
 
 Locator = Callable[[int, int], SourceLocation]
 """Turns a (line, column) of the parsed text into a SourceLocation."""
@@ -52,6 +68,7 @@ FUNCTIONS: dict[str, tuple[int, int | None, Callable[..., float]]] = {
     "sqrt": (1, 1, _domain(lambda x: x >= 0, "sqrt of a negative number", math.sqrt)),
     "exp": (1, 1, math.exp),
     "log": (1, 1, _domain(lambda x: x > 0, "log of a number that is not positive", math.log)),
+    "ln": (1, 1, _domain(lambda x: x > 0, "ln of a number that is not positive", math.log)),
     "log10": (1, 1, _domain(lambda x: x > 0, "log10 of a number that is not positive", math.log10)),
     "sin": (1, 1, math.sin),
     "cos": (1, 1, math.cos),
@@ -60,6 +77,29 @@ FUNCTIONS: dict[str, tuple[int, int | None, Callable[..., float]]] = {
     "min": (2, None, min),
     "max": (2, None, max),
     "pow": (2, 2, lambda x, y: _power(x, y)),
+}
+
+
+@dataclass(frozen=True)
+class Function:
+    """A ``.func`` card: ``name(params) = tree``; ``locate`` places the
+    tree's tokens in its file."""
+
+    name: str
+    params: tuple[str, ...]  # lower case
+    tree: Tree
+    locate: Locator = field(compare=False, repr=False)
+
+
+# names an expression reads specially (a function or its condition form)
+_IF = "if"
+_COMPARISONS: dict[str, Callable[[float, float], bool]] = {
+    "==": lambda a, b: a == b,
+    "!=": lambda a, b: a != b,
+    "<": lambda a, b: a < b,
+    "<=": lambda a, b: a <= b,
+    ">": lambda a, b: a > b,
+    ">=": lambda a, b: a >= b,
 }
 
 
@@ -89,9 +129,13 @@ MAX_DEPTH = 200
 
 
 class _Evaluator:
-    def __init__(self, params: Mapping[str, float], locate: Locator) -> None:
+    def __init__(
+        self, params: Mapping[str, float], locate: Locator, functions: Mapping[str, Function] | None = None
+    ) -> None:
         self.params = params
         self.locate = locate
+        self.functions = functions or {}
+        self.calling: list[str] = []  # .func functions being evaluated, outermost first
         self.depth = 0
 
     def fail(self, node: Tree | Token, message: str, hint: str = "") -> NetlistError:
@@ -179,12 +223,31 @@ class _Evaluator:
         except _DomainError as exc:
             raise self.fail(base_node, str(exc)) from None
 
+    def do_compare(self, node: Tree) -> float:
+        left, operator, right = node.children
+        return 1.0 if _COMPARISONS[str(operator)](self.value(left), self.value(right)) else 0.0
+
+    def do_both(self, node: Tree) -> float:  # && : the right side only when the left is true
+        return 1.0 if self.value(node.children[0]) != 0.0 and self.value(node.children[2]) != 0.0 else 0.0
+
+    def do_either(self, node: Tree) -> float:  # || : the right side only when the left is false
+        return 1.0 if self.value(node.children[0]) != 0.0 or self.value(node.children[2]) != 0.0 else 0.0
+
     def do_function(self, node: Tree) -> float:
         name_token = node.children[0]
         arguments = node.children[1].children if len(node.children) > 1 else []
         key = str(name_token).lower()
+        if key == _IF:
+            if len(arguments) != 3:
+                raise self.fail(
+                    name_token,
+                    f"if() takes 3 arguments (condition, value if true, value if false), not {len(arguments)}",
+                )
+            return self.value(arguments[1] if self.value(arguments[0]) != 0.0 else arguments[2])
+        if key in self.functions:
+            return self.call(node, self.functions[key], arguments)
         if key not in FUNCTIONS:
-            known = ", ".join(sorted(FUNCTIONS))
+            known = ", ".join(sorted({*FUNCTIONS, _IF, *self.functions}))
             raise self.fail(name_token, f"unknown function '{name_token}'", f"the functions are: {known}")
         low, high, func = FUNCTIONS[key]
         if len(arguments) < low or (high is not None and len(arguments) > high):
@@ -200,10 +263,37 @@ class _Evaluator:
         except ValueError:
             raise self.fail(name_token, f"{key}() is not defined for these arguments") from None
 
+    def call(self, name_token: Tree | Token, function: Function, arguments: list) -> float:
+        """A ``.func`` function: its body, with its arguments bound, where it is written."""
+        if function.name.lower() in self.calling:
+            cycle = " -> ".join([*self.calling[self.calling.index(function.name.lower()) :], function.name.lower()])
+            raise self.fail(
+                name_token,
+                f"the function '{function.name}' calls itself ({cycle}): a .func cannot be recursive",
+                "write the function out without calling itself (a netlist function has no loops to end one)",
+            )
+        if len(arguments) != len(function.params):
+            raise self.fail(
+                name_token, f"{function.name}() takes {len(function.params)} argument(s), not {len(arguments)}"
+            )
+        values = [self.value(argument) for argument in arguments]
+        bound = {**self.params, **dict(zip(function.params, values))}
+        outer = (self.params, self.locate)
+        self.params, self.locate = bound, function.locate
+        self.calling.append(function.name.lower())
+        try:
+            return self.value(function.tree)
+        finally:
+            self.calling.pop()
+            self.params, self.locate = outer
 
-def evaluate(tree: Tree, params: Mapping[str, float], locate: Locator) -> float:
-    """The value of the expression ``tree``; ``params`` keys are lower case."""
-    return _Evaluator(params, locate).value(tree)
+
+def evaluate(
+    tree: Tree, params: Mapping[str, float], locate: Locator, functions: Mapping[str, Function] | None = None
+) -> float:
+    """The value of the expression ``tree``; ``params`` keys are lower case;
+    ``functions``: the ``.func`` functions, by lower-case name."""
+    return _Evaluator(params, locate, functions).value(tree)
 
 
 def referenced_names(tree: Tree) -> set[str]:

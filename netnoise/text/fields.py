@@ -12,6 +12,7 @@ from typing import Union
 from lark import Token, Tree
 
 from netnoise.errors import SourceLocation
+from netnoise.text.behavioural import behavioural_refusal
 from netnoise.text.source import SourceText
 from netnoise.text.source import fail as _fail
 from netnoise.text.values import split_value
@@ -22,6 +23,7 @@ __all__ = [
     "Braced",
     "Keyed",
     "Call",
+    "KeyedCall",
     "Field",
     "Value",
     "Assignment",
@@ -116,7 +118,17 @@ class Call:
     end: SourceLocation = field(compare=False, repr=False)
 
 
-Field = Union[Word, Quoted, Braced, Keyed, Call]
+@dataclass(frozen=True)
+class KeyedCall:
+    """``v(out)=1.5`` on ``.ic``/``.nodeset``, ``f(x)={x*2}`` on ``.func``."""
+
+    call: Call
+    value: Word | Braced
+    loc: SourceLocation = field(compare=False)
+    end: SourceLocation = field(compare=False, repr=False)
+
+
+Field = Union[Word, Quoted, Braced, Keyed, Call, KeyedCall]
 
 
 def shown(text: str, limit: int = 40) -> str:
@@ -137,6 +149,8 @@ def describe(item: Field) -> str:
         return "a {...} expression"
     if isinstance(item, Keyed):
         return f"'{shown(item.key)}=...'"
+    if isinstance(item, KeyedCall):
+        return f"'{shown(item.call.name)}(...)=...'"
     return f"'{shown(item.name)}(...)'"
 
 
@@ -317,6 +331,19 @@ class FieldReader:
             value = self.word(raw)
         return Keyed(str(key), value, self.source.at(key), self.source.after(node))
 
+    def call(self, children: list, last: Tree | Token) -> Call:
+        name = children[0]
+        args: list[Word | Braced | Keyed] = []
+        if len(children) > 3:  # name LPAR call_args RPAR
+            for arg in children[2].children:
+                if arg.data == "word":
+                    args.append(self.word(arg.children[0]))  # type: ignore[arg-type]
+                elif arg.data == "keyed":
+                    args.append(self.keyed(arg))
+                else:
+                    args.append(self.braced(arg))
+        return Call(str(name), tuple(args), self.source.at(name), self.source.after(last))
+
     def field(self, node: Tree) -> Field:
         kind = node.data
         if kind == "word":
@@ -329,17 +356,12 @@ class FieldReader:
         if kind in ("keyed", "keyed_list"):
             return self.keyed(node)
         if kind == "call":
-            name = node.children[0]
-            args: list[Word | Braced | Keyed] = []
-            if len(node.children) > 3:  # name LPAR call_args RPAR
-                for arg in node.children[2].children:
-                    if arg.data == "word":
-                        args.append(self.word(arg.children[0]))  # type: ignore[arg-type]
-                    elif arg.data == "keyed":
-                        args.append(self.keyed(arg))
-                    else:
-                        args.append(self.braced(arg))
-            return Call(str(name), tuple(args), self.source.at(name), self.source.after(node))
+            return self.call(node.children, node)
+        if kind == "keyed_call":  # name LPAR [call_args] RPAR value
+            *call_part, raw = node.children
+            call = self.call(call_part, call_part[-1])
+            value: Word | Braced = self.braced(raw) if isinstance(raw, Tree) else self.word(raw)
+            return KeyedCall(call, value, call.loc, self.source.after(node))
         raise _fail(f"unexpected '{kind}'", self.source.at(node))  # grammar and code disagree
 
 
@@ -401,7 +423,7 @@ class LineReader:
                 "netnoise takes one linear gain per controlled source",
             )
         if isinstance(item, Keyed) and item.key.lower() in BEHAVIOURAL_KEYS:
-            raise _fail(f"{self.name}: behavioural sources are not supported", item.loc)
+            raise behavioural_refusal(self.name, item.key, item.loc)
 
     def node(self, what: str) -> Word:
         item = self.take(what, node=True)

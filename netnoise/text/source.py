@@ -7,10 +7,14 @@ Before lark sees the text we blank, without moving anything else:
 * comment lines (first non-blank character ``*``),
 * inline comments: from ``;`` to the end of the line, and from a ``$`` that
   starts the line or follows a blank,
-* the ``.end`` line and everything after it.
+* the ``.end`` line and everything after it,
+* ``.title`` cards (their text is the title) and ``.control`` ... ``.endc``
+  blocks (commands for an interactive simulator; reported as set aside).
 
 Lines starting with ``+`` continue the previous line; the grammar skips the
-line break.
+line break.  Bytes that are not UTF-8 reach :func:`prepare` as lone
+surrogates (``surrogateescape``): inside a comment they are tolerated with a
+notice, elsewhere they are a problem that says which encoding to save in.
 """
 
 from __future__ import annotations
@@ -28,6 +32,7 @@ from netnoise.errors import NetlistError, SourceLocation
 
 __all__ = [
     "SourceText",
+    "Prepared",
     "MAX_NETLIST_BYTES",
     "not_a_file",
     "read_netlist_text",
@@ -213,23 +218,53 @@ def read_netlist_text(path: Path, included_from: SourceLocation | None = None) -
             raise fail(f"cannot read '{shown}': {exc.strerror or exc}", included_from) from None
         if len(raw) > MAX_NETLIST_BYTES:
             raise fail(f"'{shown}' {_too_big(f'more than {_size(MAX_NETLIST_BYTES)}')}", included_from)
+    for bom, codec in _WIDE_BOMS:  # UTF-32 and UTF-16 with a byte-order mark (they are full of NUL bytes)
+        if raw.startswith(bom):
+            try:
+                return raw[len(bom) :].decode(codec)
+            except UnicodeDecodeError as exc:
+                raise fail(
+                    f"'{shown}' starts with a {codec.upper()} byte-order mark, but byte {exc.start + len(bom)} "
+                    f"is not valid {codec.upper()}",
+                    included_from,
+                    "save the netlist as UTF-8 text",
+                ) from None
     nul = raw.find(b"\x00")
     if nul >= 0:
         where = _offset_location(raw, nul, shown)
+        if _wide_without_mark(raw):
+            raise fail(
+                f"byte {nul} (line {where.line}) is a NUL character: the file looks like UTF-16 text "
+                "without a byte-order mark",
+                where,
+                "save the netlist as UTF-8 text (or as UTF-16 with a byte-order mark)",
+            )
         raise fail(
             f"byte {nul} (line {where.line}) is a NUL character: this is not a text netlist",
             where,
         )
-    try:
-        text = raw.decode("utf-8")
-    except UnicodeDecodeError as exc:
-        where = _offset_location(raw, exc.start, shown)
-        raise fail(
-            f"byte {exc.start} (0x{raw[exc.start]:02X}, line {where.line}) is not valid UTF-8",
-            where,
-            "save the netlist as UTF-8 text",
-        ) from None
-    return text.removeprefix("\ufeff")
+    # bytes that are not UTF-8 become lone surrogates: prepare() tolerates them in comments only
+    return raw.decode("utf-8", "surrogateescape").removeprefix("\ufeff")
+
+
+def _wide_without_mark(raw: bytes) -> bool:
+    """True when the first bytes alternate NUL and printable ASCII (UTF-16 of
+    ASCII text, either byte order, with no byte-order mark)."""
+    head = raw[:200] if len(raw) % 2 == 0 else raw[:199]
+    if len(head) < 8:
+        return False
+    for zeros, chars in ((head[1::2], head[0::2]), (head[0::2], head[1::2])):
+        if zeros.count(0) == len(zeros) and all(32 <= c < 127 or c in (9, 10, 13) for c in chars):
+            return True
+    return False
+
+
+_WIDE_BOMS = (
+    (b"\xff\xfe\x00\x00", "utf-32-le"),
+    (b"\x00\x00\xfe\xff", "utf-32-be"),
+    (b"\xff\xfe", "utf-16-le"),
+    (b"\xfe\xff", "utf-16-be"),
+)
 
 
 # --------------------------------------------------------------------------
@@ -267,40 +302,130 @@ def _lone_cr_line_ends(text: str) -> bool:
     return lone > 0 and lone > text.count("\n")
 
 
-def prepare(text: str, file: str, has_title: bool) -> tuple[str, str, SourceText]:
-    """(text for lark, title, source) -- every kept character stays in place."""
+@dataclass(frozen=True)
+class Prepared:
+    """A file's text made ready for lark, and what was taken out of it.
+
+    ``text``: every kept character in its place; ``title``: the first line's
+    text, or the last ``.title`` card's; ``set_aside``: (card, location, last
+    line) of each ``.control`` block skipped; ``notices``: remarks for the
+    user; ``problems``: what is wrong in the lines themselves (the reading
+    goes on: each bad character is blanked)."""
+
+    text: str
+    title: str
+    source: SourceText
+    set_aside: tuple[tuple[str, SourceLocation, int], ...] = ()
+    notices: tuple[str, ...] = ()
+    problems: tuple[NetlistError, ...] = ()
+
+
+_SPECIAL_CARD = re.compile(r"\s*\.(title|control)(?!\S)", re.IGNORECASE)
+_CONTROL_END = re.compile(r"\s*\.endc(?!\S)", re.IGNORECASE)
+_NOT_UTF8 = re.compile("[\udc80-\udcff]")
+
+
+def _readable(line: str) -> str:
+    """``line`` with each byte that was not UTF-8 shown as U+FFFD."""
+    return _NOT_UTF8.sub("\ufffd", line)
+
+
+def _not_utf8(line: str, number: int, column: int, source: SourceText) -> NetlistError:
+    byte = ord(line[column - 1]) - 0xDC00
+    return fail(
+        f"the byte 0x{byte:02X} is not valid UTF-8",
+        source.location(number, column),
+        "save the netlist as UTF-8 text (the file looks like Latin-1 or Windows-1252: "
+        "in the editor, save it again with the encoding UTF-8)",
+    )
+
+
+def prepare(text: str, file: str, has_title: bool) -> Prepared:
+    """The text for lark, the title and what was set aside -- every kept
+    character stays in place."""
     if _lone_cr_line_ends(text):  # old Mac files: a lone carriage return ends each line
         physical = _ANY_LINE_END.split(text)
     else:
         physical = [line.removesuffix("\r") for line in text.split("\n")]
-    source = SourceText(file, tuple(physical))
+    undecoded = _NOT_UTF8.search(text) is not None  # bytes that were not UTF-8 (rare: checked line by line then)
+    source = SourceText(file, tuple(_readable(line) for line in physical) if undecoded else tuple(physical))
     title = ""
     kept: list[str] = []
+    problems: list[NetlistError] = []
+    set_aside: list[tuple[str, SourceLocation, int]] = []
+    comment_bytes: list[int] = []  # lines whose comments hold bytes that are not UTF-8
     seen_statement = False
+    control: SourceLocation | None = None  # the open .control card
     for number, line in enumerate(physical, start=1):
-        if number == 1 and has_title:
-            title = line.strip()
+        if control is not None:  # inside a .control block: skipped whole
+            kept.append("")
+            if _CONTROL_END.match(line):
+                set_aside.append((".control", control, number))
+                control = None
+            continue
+        special = _SPECIAL_CARD.match(line)  # .title or .control
+        if (number == 1 and has_title) or (special is not None and special.group(1).lower() == "title"):
+            if undecoded and _NOT_UTF8.search(line):
+                comment_bytes.append(number)
+            words = _readable(line).strip()
+            title = words[len(".title") :].strip() if special is not None else words
             kept.append("")
             continue
         if _COMMENT_LINE.match(line):
+            if undecoded and _NOT_UTF8.search(line):
+                comment_bytes.append(number)
+            kept.append("")
+            continue
+        if special is not None:  # .control: the block is skipped whole
+            control = source.location(number, line.index(".") + 1)
             kept.append("")
             continue
         if _END_CARD.match(line):
             break
-        line = _strip_inline_comment(line)
+        stripped = _strip_inline_comment(line)
+        if undecoded:
+            if len(stripped) < len(line) and _NOT_UTF8.search(line, len(stripped)):
+                comment_bytes.append(number)
+            bad = _NOT_UTF8.search(stripped)
+            if bad is not None:  # reported once; the line is not read (its words would be wrong anyway)
+                problems.append(_not_utf8(stripped, number, bad.start() + 1, source))
+                stripped = ""
+        line = stripped
         if _CONTINUATION.match(line) and not seen_statement:
-            raise fail(
-                "a '+' line continues the line before it, but there is none",
-                source.location(number, line.index("+") + 1),
+            problems.append(
+                fail(
+                    "a '+' line continues the line before it, but there is none",
+                    source.location(number, line.index("+") + 1),
+                )
             )
+            line = ""
         if line.strip():
             seen_statement = True
         kept.append(line)
+    if control is not None:
+        problems.append(
+            fail(
+                "this '.control' block is never closed",
+                control,
+                "end it with a '.endc' line (netnoise skips the whole block: its commands drive other programs)",
+            )
+        )
     prepared = "\n".join(kept) + "\n"
-    bad = _HIDDEN.search(prepared)
-    if bad is not None:
-        raise _hidden_character(prepared, bad.start(), source)
-    return prepared, title, source
+    if _HIDDEN.search(prepared) is not None:  # reported, and the line is not read (its words would be wrong)
+        for number, line in enumerate(kept, start=1):
+            bad = _HIDDEN.search(line)
+            if bad is not None:
+                problems.append(_hidden_character(line, number, bad.start() + 1, source))
+                kept[number - 1] = ""
+        prepared = "\n".join(kept) + "\n"
+    notices: list[str] = []
+    if comment_bytes:
+        lines = ", ".join(str(n) for n in comment_bytes[:10]) + (", ..." if len(comment_bytes) > 10 else "")
+        notices.append(
+            f"{file}: comments on line{'s' if len(comment_bytes) > 1 else ''} {lines} hold bytes that are not "
+            "UTF-8; they were skipped with the comments (save the file as UTF-8 to keep them readable)"
+        )
+    return Prepared(prepared, title, source, tuple(set_aside), tuple(notices), tuple(problems))
 
 
 # control characters (other than blanks) and the invisible text-direction
@@ -309,11 +434,10 @@ def prepare(text: str, file: str, has_title: bool) -> tuple[str, str, SourceText
 _HIDDEN = re.compile("[\x00-\x08\x0e-\x1b\x7f-\x84\x86-\x9f\u200b-\u200f\u202a-\u202e\u2066-\u2069\ufeff]")
 
 
-def _hidden_character(prepared: str, index: int, source: SourceText) -> NetlistError:
-    line = prepared.count("\n", 0, index) + 1
-    column = index - prepared.rfind("\n", 0, index)
-    code = f"U+{ord(prepared[index]):04X}"
-    kind = "control character" if ord(prepared[index]) < 0xA0 else "invisible formatting character"
+def _hidden_character(text: str, line: int, column: int, source: SourceText) -> NetlistError:
+    char = text[column - 1]
+    code = f"U+{ord(char):04X}"
+    kind = "control character" if ord(char) < 0xA0 else "invisible formatting character"
     return fail(
         f"the {kind} {code} is not allowed in a netlist line",
         source.location(line, column),

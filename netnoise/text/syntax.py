@@ -2,15 +2,19 @@
 
 from __future__ import annotations
 
+from collections.abc import Callable
+from typing import Any
+
 from lark import Token, Tree
 from lark.exceptions import UnexpectedCharacters, UnexpectedEOF, UnexpectedInput, UnexpectedToken
 
 from netnoise.errors import NetlistError
+from netnoise.text.behavioural import behavioural_line
 from netnoise.text.grammar import netlist_parser
 from netnoise.text.source import SourceText
 from netnoise.text.source import fail as _fail
 
-__all__ = ["parse_tree", "parse_expression"]
+__all__ = ["parse_tree", "parse_lines", "parse_expression", "MAX_PROBLEMS"]
 
 _TERMINAL_WORDS = {
     "WORDS": "a node name or a value",
@@ -33,6 +37,9 @@ _TERMINAL_WORDS = {
     "STAR": "an operator",
     "SLASH": "an operator",
     "POWER": "an operator",
+    "COMPARE": "an operator",
+    "AND": "an operator",
+    "OR": "an operator",
     "_NL": "the end of the line",
     "$END": "the end of the file",
 }
@@ -136,6 +143,109 @@ def parse_tree(prepared: str, start: str, source: SourceText) -> Tree:
         return netlist_parser().parse(prepared, start=start)
     except UnexpectedInput as exc:
         raise _unwrap(exc, source) from None
+
+
+MAX_PROBLEMS = 1000
+"""A file with more lines that cannot be read than this is not read further
+(it is probably not a netlist); what was found is reported."""
+
+
+def _error_line(exc: UnexpectedInput, lines: list[str]) -> int:
+    """The physical line (1-based) lark stopped at."""
+    if isinstance(exc, UnexpectedToken) and exc.token.type == "$END" or isinstance(exc, UnexpectedEOF):
+        return max((n for n, line in enumerate(lines, start=1) if line.strip()), default=1)
+    line = exc.token.line if isinstance(exc, UnexpectedToken) else exc.line
+    return max(1, min(line or 1, len(lines)))
+
+
+def _logical_line(lines: list[str], line: int) -> tuple[int, int]:
+    """First and last physical line (1-based) of the logical line holding
+    ``line``: back over '+' continuations (and the blank lines between), and
+    forward over the ones that follow."""
+
+    def continues(n: int) -> bool:
+        return lines[n - 1].lstrip().startswith("+")
+
+    first = line
+    while continues(first) and first > 1:
+        first -= 1
+        while first > 1 and not lines[first - 1].strip():
+            first -= 1
+    last = line
+    probe = line + 1
+    while probe <= len(lines):
+        if not lines[probe - 1].strip():
+            probe += 1
+            continue
+        if not continues(probe):
+            break
+        last = probe
+        probe += 1
+    return first, last
+
+
+def _stretch(prepared: str, starts: list[int], done: int, end: int | None) -> Any:
+    """Lines ``done + 1`` .. ``end`` (to the end if None) of ``prepared``, for
+    lark, keeping their line numbers: a slice of the text itself where lark
+    reads slices (1.3 and later: no copy, lines counted from the text's
+    start), else a copy with the lines before blanked to line breaks."""
+    stop = starts[end] if end is not None else len(prepared)
+    try:
+        from lark.utils import TextSlice  # type: ignore[attr-defined,unused-ignore]
+    except ImportError:  # pragma: no cover - lark before 1.3
+        return "\n" * done + prepared[starts[done] : stop]
+    return TextSlice(prepared, starts[done], stop)
+
+
+def parse_lines(
+    prepared: str,
+    source: SourceText,
+    problems: list[NetlistError],
+    forgive: Callable[[int, str], bool] | None = None,
+) -> list:
+    """The children of the netlist tree (one per line) for every logical line
+    that reads; a line that does not is reported in ``problems`` (unless
+    ``forgive(line number, text)`` says it can be left out unread), left out,
+    and the reading goes on at the next line.
+
+    lark stops at the first token that cannot follow; every line before the
+    logical line holding it is complete, so that stretch is parsed again
+    alone, and the parse restarts after the bad line (on a slice of the same
+    text: lark counts lines from the text's start, so line and column numbers
+    stay the file's).  Each line is read at most three times, whatever the
+    number of problems."""
+    parser = netlist_parser()
+    try:
+        return parser.parse(prepared, start="netlist").children
+    except UnexpectedInput as exc:
+        failure: UnexpectedInput | None = exc
+    lines = prepared.split("\n")
+    starts = [0]
+    for line in lines:
+        starts.append(starts[-1] + len(line) + 1)
+    children: list = []
+    done = 0  # lines 1..done are read (or reported) already
+    while failure is not None:
+        bad = _error_line(failure, lines)
+        first, last = _logical_line(lines, bad)
+        first = max(first, done + 1)
+        last = max(last, first)
+        if forgive is None or not forgive(first, lines[first - 1]):  # forgiven: a card set aside anyway
+            problems.append(behavioural_line(lines, first, source) or _unwrap(failure, source))
+        if first - 1 > done:  # the complete lines before the bad one
+            try:
+                children.extend(parser.parse(_stretch(prepared, starts, done, first - 1), start="netlist").children)
+            except UnexpectedInput:  # pragma: no cover - lark stopped later than the first bad line
+                return children
+        done = last
+        if done >= len(lines) or len(problems) >= MAX_PROBLEMS:
+            return children
+        try:
+            children.extend(parser.parse(_stretch(prepared, starts, done, None), start="netlist").children)
+            failure = None
+        except UnexpectedInput as exc:
+            failure = exc
+    return children
 
 
 def parse_expression(text: str, filename: str = "<expression>"):
