@@ -18,6 +18,7 @@ from netnoise.circuit.elements.controlled import (
     VoltageControlledVoltageSource,
 )
 from netnoise.circuit.elements.coupling import MutualCoupling
+from netnoise.circuit.elements.diode import Diode
 from netnoise.circuit.elements.inductor import Inductor
 from netnoise.circuit.elements.lossy_capacitor import LossyCapacitor
 from netnoise.circuit.elements.resistor import Resistor
@@ -38,6 +39,7 @@ KINDS: tuple[type[Element], ...] = (
     CurrentControlledVoltageSource,
     OpAmp,
     LossyCapacitor,
+    Diode,
 )
 
 _BY_LETTER: dict[str, list[type[Element]]] = {}

@@ -34,6 +34,7 @@ from typing import Any
 
 from netnoise import circuit as c
 from netnoise.circuit.elements.amplifier import OpAmp, check_opamp_param
+from netnoise.circuit.elements.base import ModelValues
 from netnoise.constants import ABSOLUTE_ZERO_C, GROUND_ALIASES
 from netnoise.errors import NetlistError, SourceLocation
 from netnoise.netlist.definitions import (
@@ -208,6 +209,33 @@ class _BuildContext:
     def fail(self, message: str, loc: SourceLocation | None, hint: str = "") -> NetlistError:
         return _fail(message, loc, hint)
 
+    def model(self, word: Word, types: tuple[str, ...]) -> ModelValues:
+        """The ``.model`` called ``word`` visible here, of one of ``types``, its
+        values evaluated where it is written (upper-case names)."""
+        found = self.scope.definition.find_model(word.text.lower())
+        wanted = " or ".join(t.upper() for t in types)
+        if found is None:
+            names = [n for n in self.scope.definition.visible_names()]
+            close = difflib.get_close_matches(word.text.lower(), [n.lower() for n in names], n=3)
+            hint = "did you mean " + " or ".join(f"'{n}'" for n in close) + "?" if close else ""
+            raise _fail(
+                f"{self.name}: no .model called '{word.text}'",
+                word.loc,
+                hint or f"add a card: .model {word.text} {types[0].upper()} (param=value ...)",
+            )
+        card, home = found
+        if card.kind not in types:
+            raise _fail(
+                f"{self.name}: model '{word.text}' is a {card.kind.upper()} model; this element takes {wanted}",
+                word.loc,
+                f"the .model is at {_where(card.loc)}",
+            )
+        where: _Scope | None = self.scope
+        while where is not None and where.definition is not home:
+            where = where.parent
+        values = {a.name.upper(): self.engine.number(a.value, where or self.scope) for a in card.params}
+        return ModelValues(card.name.text, card.kind, values, card.loc)
+
     def settle(self, index: int) -> None:
         """The element now has an index: its references are checked once all exist."""
         for word, full_name, wanted, what, slot in self._refs:
@@ -317,6 +345,12 @@ class _Elaborator:
 
     def opamp(self, statement: Instance, scope: _Scope, model: ModelCard, home: Definition) -> None:
         name = scope.element_prefix + statement.name
+        if model.kind != "opamp":
+            raise _fail(
+                f"{name}: '{model.name.text}' is a {model.kind.upper()} device model, not an amplifier or subcircuit",
+                statement.subckt.loc,
+                "a device model is used by its element letter (D, Q, J, M), not by an X line",
+            )
         if len(statement.nodes) != 3:
             raise _fail(
                 f"{name} connects {len(statement.nodes)} node(s) but the amplifier "

@@ -1,0 +1,131 @@
+"""The diode D: its operating point and noise against published results.
+
+Every reference value names its source.  Tolerances are relative.
+"""
+
+from __future__ import annotations
+
+import math
+
+import numpy as np
+import pytest
+from scipy import constants
+from scipy.special import lambertw
+
+from netnoise.engine.analysis import analyze
+from netnoise.engine.dc import operating_point
+from netnoise.errors import CircuitError, NetlistError
+from netnoise.netlist.load import parse_netlist
+
+K_B = constants.Boltzmann
+Q = constants.elementary_charge
+T = 300.15  # K, 27 °C
+VT = K_B * T / Q
+
+
+def _netlist(body: str) -> str:
+    return "diode test\n" + body + "\n.end\n"
+
+
+def test_diode_series_resistor_operating_point_is_lambert_w():
+    # V = I·R + n·Vt·ln(1 + I/IS) solved exactly: I = n·Vt/R · W(IS·R/(n·Vt) · exp((V + IS·R)/(n·Vt))) − IS
+    # (the closed form with the Lambert W function: Banwell & Jayakumar, Electronics Letters 36, 2000).
+    vs, r, i_s, n = 5.0, 1e3, 1e-14, 1.5
+    circuit = parse_netlist(_netlist(f"V1 in 0 {vs}\nR1 in a {r}\nD1 a 0 dm\n.model dm D (IS={i_s} N={n})"))
+    op = operating_point(circuit)
+    nvt = n * VT
+    arg = i_s * r / nvt * math.exp((vs + i_s * r) / nvt)
+    current = nvt / r * float(np.real(lambertw(arg))) - i_s
+    assert op.element_currents["R1"] == pytest.approx(current, rel=1e-9)
+    assert op.devices["D1"]["current_A"] == pytest.approx(current, rel=1e-9)
+    assert op.node_voltages["a"] == pytest.approx(vs - current * r, rel=1e-9)
+
+
+def test_forward_diode_noise_is_half_a_resistor_rd():
+    # A forward-biased diode's voltage noise density is √(2kT·r_d), r_d = Vt/I: half the thermal
+    # noise power of a resistor r_d (Motchenbacher & Connelly, Low-Noise Electronic System Design,
+    # ch. on diodes).  Driven by an ideal current source so only the diode is seen.
+    i_dc = 1e-3
+    circuit = parse_netlist(_netlist(f"I1 0 a {i_dc}\nD1 a 0 dm\n.model dm D (IS=1e-14)"))
+    result = analyze(circuit, output="a", band=(10.0, 1e3), temperature_celsius=27.0)
+    rd = VT / i_dc
+    assert result.spot_density(100.0) == pytest.approx(math.sqrt(2 * K_B * T * rd), rel=1e-6)
+    assert result.source_mechanisms == ("shot",)
+
+
+def test_diode_flicker_corner_from_kf_and_af():
+    # Flicker density KF·I^AF/f equals shot 2qI at fc = KF·I^(AF−1)/(2q) (the SPICE noise model;
+    # common practice).
+    i_dc, kf, af = 1e-4, 1e-15, 1.2
+    circuit = parse_netlist(_netlist(f"I1 0 a {i_dc}\nD1 a 0 dm\n.model dm D (IS=1e-14 KF={kf} AF={af})"))
+    result = analyze(circuit, output="a", band=(1.0, 1e6), temperature_celsius=27.0)
+    corner = kf * i_dc ** (af - 1) / (2 * Q)
+    rd = VT / i_dc
+    white = 2 * Q * i_dc * rd**2  # Schottky 1918, across r_d
+    assert corner == pytest.approx(494.6, rel=1e-3)  # the numbers above (arithmetic)
+    assert result.spot_density(100.0) ** 2 == pytest.approx(white * (1 + corner / 100.0), rel=1e-6)
+
+
+def test_series_resistance_adds_its_thermal_noise():
+    # RS in series: v² = 2kT·r_d + 4kT·RS (Johnson 1928; Motchenbacher & Connelly).
+    i_dc, rs = 1e-3, 50.0
+    circuit = parse_netlist(_netlist(f"I1 0 a {i_dc}\nD1 a 0 dm\n.model dm D (IS=1e-14 RS={rs})"))
+    result = analyze(circuit, output="a", band=(10.0, 1e3), temperature_celsius=27.0)
+    rd = VT / i_dc
+    assert result.spot_density(100.0) ** 2 == pytest.approx(2 * K_B * T * rd + 4 * K_B * T * rs, rel=1e-6)
+
+
+def test_depletion_capacitance_sets_the_pole():
+    # A reverse-biased junction is Cj = CJO/(1 − V/VJ)^M (Sze, Physics of Semiconductor Devices;
+    # common practice): with R to a source the noise bandwidth of kT/C gives v² = kT/Cj.
+    cjo, vj, m, vr = 10e-12, 0.8, 0.5, 5.0
+    circuit = parse_netlist(
+        _netlist(f"V1 k 0 {vr}\nR1 k0 a 1meg\nV2 k0 0 0\nD1 a k dm\n.model dm D (IS=1e-14 CJO={cjo} VJ={vj} M={m})")
+    )
+    op = operating_point(circuit)
+    cj = cjo / (1 + vr / vj) ** m
+    assert op.devices["D1"]["capacitance_F"] == pytest.approx(cj, rel=1e-9)
+
+
+def test_unknown_parameters_are_listed_once_and_level_is_refused():
+    circuit = parse_netlist(
+        _netlist("V1 in 0 1\nR1 in a 1k\nD1 a 0 dm\nD2 a 0 dm\n.model dm D (IS=1e-14 ISR=1n NR=2 TNOM=25)")
+    )
+    listed = [n for n in circuit.notices if "not modelled" in n]
+    assert len(listed) == 1 and "ISR, NR, TNOM" in listed[0]
+    with pytest.raises(NetlistError, match="level 3 is not implemented"):
+        parse_netlist(_netlist("V1 in 0 1\nR1 in a 1k\nD1 a 0 dm\n.model dm D (LEVEL=3)"))
+
+
+def test_model_scoped_in_subcircuit():
+    text = _netlist(
+        "V1 in 0 1\nX1 in 0 clamp\n.subckt clamp a b\nR1 a c 1k\nD1 c b dl\n.model dl D (IS=1e-12)\n.ends\nD2 in 0 dl"
+    )
+    with pytest.raises(NetlistError, match="no .model called 'dl'"):
+        parse_netlist(text)
+
+
+def test_steep_exponential_converges():
+    # A diode straight across a 10 V source through 1 Ω: Newton from 0 V would step to 10 V on the
+    # junction (e^386); limited steps converge (Nagel 1975).  Check KCL against Lambert W as above.
+    vs, r, i_s = 10.0, 1.0, 1e-14
+    circuit = parse_netlist(_netlist(f"V1 in 0 {vs}\nR1 in a {r}\nD1 a 0 dm\n.model dm D (IS={i_s})"))
+    op = operating_point(circuit)
+    arg = i_s * r / VT * math.exp((vs + i_s * r) / VT)
+    current = VT / r * float(np.real(lambertw(arg))) - i_s
+    assert op.element_currents["R1"] == pytest.approx(current, rel=1e-9)
+
+
+def test_forced_reverse_current_has_no_solution():
+    # 1 mA forced into a diode's blocking direction with no other path: no DC solution exists.
+    circuit = parse_netlist(_netlist("I1 a 0 1m\nD1 a 0 dm\n.model dm D (IS=1e-14)"))
+    with pytest.raises(CircuitError, match="no DC operating point"):
+        operating_point(circuit)
+
+
+def test_linear_circuits_take_the_linear_path_unchanged():
+    from netnoise.engine.operating_point import biased
+
+    circuit = parse_netlist(_netlist("V1 in 0 1\nR1 in a 1k\nR2 a 0 1k"))
+    same, solution = biased(circuit, 300.0)
+    assert same is circuit and solution is None
