@@ -10,6 +10,7 @@ from __future__ import annotations
 
 from netnoise.circuit.elements.amplifier import OpAmp
 from netnoise.circuit.elements.base import Element
+from netnoise.circuit.elements.bipolar import Bipolar
 from netnoise.circuit.elements.capacitor import Capacitor
 from netnoise.circuit.elements.controlled import (
     CurrentControlledCurrentSource,
@@ -20,7 +21,9 @@ from netnoise.circuit.elements.controlled import (
 from netnoise.circuit.elements.coupling import MutualCoupling
 from netnoise.circuit.elements.diode import Diode
 from netnoise.circuit.elements.inductor import Inductor
+from netnoise.circuit.elements.jfet import JunctionFet
 from netnoise.circuit.elements.lossy_capacitor import LossyCapacitor
+from netnoise.circuit.elements.mosfet import Mosfet
 from netnoise.circuit.elements.resistor import Resistor
 from netnoise.circuit.elements.sources import CurrentSource, VoltageSource
 
@@ -40,6 +43,9 @@ KINDS: tuple[type[Element], ...] = (
     OpAmp,
     LossyCapacitor,
     Diode,
+    Bipolar,
+    JunctionFet,
+    Mosfet,
 )
 
 _BY_LETTER: dict[str, list[type[Element]]] = {}

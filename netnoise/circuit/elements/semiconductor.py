@@ -158,6 +158,7 @@ class Semiconductor(Element):
 
     nodes: tuple[str, ...] = ()
     model: str = ""
+    model_type: str = ""  # the card's type, lower case: d, npn, pnp, njf, pjf, nmos, pmos
     parameters: tuple[tuple[str, float], ...] = ()
     area: float = 1.0
     temperature_celsius: float | None = None
@@ -259,6 +260,7 @@ class Semiconductor(Element):
             ctx.name,
             nodes=tuple(ctx.node(n) for n in statement.nodes),
             model=card.name,
+            model_type=card.type,
             parameters=tuple(sorted(values.items())),
             area=area,
             temperature_celsius=temperature,
