@@ -246,7 +246,7 @@ def test_latch_settles_in_one_state_and_says_it_is_a_solution():
     op = operating_point(circuit)
     v, dev = op.node_voltages, op.devices
     # the point found satisfies Kirchhoff's current law at both collectors and both bases
-    for c, rc, b, q, other_b, rb in (("c1", 1e3, "b2", "Q1", "b1", "RB2"), ("c2", 1.1e3, "b1", "Q2", "b2", "RB1")):
+    for c, rc, b, q in (("c1", 1e3, "b2", "Q1"), ("c2", 1.1e3, "b1", "Q2")):
         into = (v["vcc"] - v[c]) / rc
         out = dev[q]["collector_current_A"] + (v[c] - v[b]) / 1e4
         assert into == pytest.approx(out, rel=1e-9)
