@@ -53,7 +53,7 @@ class FakeEngine:
         self.calls.append(kwargs)
         return self.result
 
-    def operating_point(self, circuit):
+    def operating_point(self, circuit, temperature_celsius=None):
         assert circuit is self.circuit
         self.dc_calls += 1
         return self.op
