@@ -55,7 +55,9 @@ BAD = [
     Bad("diode two areas", "t\nD1 a 0 dmod 2 3\n", "unexpected extra field '3' on D1", 2, 15),
     Bad("behavioural B", "t\nB1 a 0 V={2*v(b)}\n", "behavioural sources are not supported", 2, 1),
     Bad("behavioural E", "t\nE1 a 0 value={2}\n", "behavioural sources are not supported", 2, 8),
-    Bad("poly", "t\nE1 a 0 POLY(1) b 0 1\n", "POLY forms are not supported", 2, 8),
+    Bad("poly on a resistor", "t\nR1 a 0 POLY(1) b 0 1\n", "POLY forms are not supported", 2, 8),
+    Bad("poly controls short", "t\nE1 a 0 POLY(2) b 0 1\n", "E1: POLY(2) needs 2 controlling node pairs", 2, 21),
+    Bad("poly dimension", "t\nG1 a 0 POLY(x) b 0 1\n", "POLY(n) takes a whole number of controls", 2, 8),
     Bad("unknown letter", "t\nY1 a b 1\n", "element letter 'Y' is not supported", 2, 1),
     # ---- dot-cards
     Bad("unknown card", "t\n.tran 1n 1u\n", "unknown dot-card '.tran'", 2, 1),

@@ -24,6 +24,7 @@ from netnoise.circuit.elements.inductor import Inductor
 from netnoise.circuit.elements.jfet import JunctionFet
 from netnoise.circuit.elements.lossy_capacitor import LossyCapacitor
 from netnoise.circuit.elements.mosfet import Mosfet
+from netnoise.circuit.elements.polynomial import PolyCCCS, PolyCCVS, PolyVCCS, PolyVCVS
 from netnoise.circuit.elements.resistor import Resistor
 from netnoise.circuit.elements.sources import CurrentSource, VoltageSource
 
@@ -46,6 +47,10 @@ KINDS: tuple[type[Element], ...] = (
     Bipolar,
     JunctionFet,
     Mosfet,
+    PolyVCVS,
+    PolyVCCS,
+    PolyCCCS,
+    PolyCCVS,
 )
 
 _BY_LETTER: dict[str, list[type[Element]]] = {}

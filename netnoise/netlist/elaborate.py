@@ -176,7 +176,7 @@ class _Pending:
     full_name: str
     wanted: type
     what: str
-    slot: str  # 'control_source' or 'inductors0' / 'inductors1'
+    slot: str  # 'control_source', 'inductors0' / 'inductors1', or 'controls<i>' (POLY)
     owner: str
 
 
@@ -487,6 +487,10 @@ class _Elaborator:
             element = self.elements[item.index]
             if item.slot == "control_source":
                 element = dataclasses.replace(element, control_source=target)  # type: ignore[call-arg]
+            elif item.slot.startswith("controls"):  # one of a polynomial source's controlling sources
+                controls = list(element.controls)  # type: ignore[attr-defined]
+                controls[int(item.slot[len("controls") :])] = target
+                element = dataclasses.replace(element, controls=tuple(controls))  # type: ignore[call-arg]
             else:
                 pair = list(element.inductors)  # type: ignore[attr-defined]
                 pair[int(item.slot[-1])] = target

@@ -112,7 +112,11 @@ def _element_statement(name_word: Word, items: list[Field]) -> Statement:
     if marks:
         items = [item for item in items if item not in marks]
     line = LineReader(name_word, items, forms(letter))
-    statement = kind_for_line(letter, line.has_key).parse(line)
+
+    def selects(key: str) -> bool:  # a kind's selector: a key=value field, or a call such as POLY(n)
+        return line.has_key(key) or any(isinstance(i, Call) and i.name.lower() == key for i in items)
+
+    statement = kind_for_line(letter, selects).parse(line)
     if not marks:
         return statement
     if len(marks) > 1:
