@@ -10,6 +10,8 @@ so one extra (forward) solve per frequency serves every element at once
 (the adjoint method; Director and Rohrer, IEEE Trans. Circuit Theory 1969).
 ∂Y/∂p is each element's own stamp differentiated (central difference of
 its stamps, which are smooth in p); ∂S/∂p the same of its noise densities.
+With diodes or transistors a value also moves the operating point: ∂Y/∂p and
+∂S/∂p are then central differences of the whole circuit linearised again.
 The temperature enters through the thermal densities, ∝ T.
 
 Reported as the percent change of the rms total per percent change of the
@@ -31,6 +33,7 @@ from netnoise.engine.analysis import PreparedAnalysis
 from netnoise.engine.integrate import integrate_band
 from netnoise.engine.mna import _Layout, _Stamps
 from netnoise.engine.noise_sources import collect_noise_sources
+from netnoise.engine.operating_point import biased, is_nonlinear
 from netnoise.engine.transfer import solver_for
 
 __all__ = ["Sensitivity", "sensitivities", "TEMPERATURE"]
@@ -69,15 +72,42 @@ def _stamp_entries(element: Element, stamps: _Stamps):
     return out
 
 
-def _derivative_stamps(elements: list[Element], stamps: _Stamps, n: int):
-    """Stacked p·∂G/∂p and p·∂C/∂p of every element: (rows, cols, values, element index) each."""
+def _rebiased(prepared: PreparedAnalysis, element: Element, factor: float):
+    """The system and DC solution with ``element``'s value times ``factor`` and every
+    diode and transistor biased again at the operating point that value gives."""
+    problem = prepared.problem
+    p = float(element.primary_value or 0.0)
+    changed = problem.system.circuit.with_values({element.name: p * factor})
+    circuit, solution = biased(changed, problem.settings.temperature_K)
+    return problem.system.refilled(circuit), solution
+
+
+def _fixed(x: np.ndarray):
+    """A DC solution already found, as the noise collection asks for it."""
+    return lambda: x
+
+
+def _system_entries(system) -> list[tuple[np.ndarray, np.ndarray, np.ndarray]]:
+    out = []
+    for m in (system.G.tocoo(), system.C.tocoo()):
+        out.append((m.row, m.col, m.data))
+    return out
+
+
+def _derivative_stamps(elements: list[Element], stamps: _Stamps, n: int, prepared: PreparedAnalysis | None = None):
+    """Stacked p·∂G/∂p and p·∂C/∂p of every element: (rows, cols, values, element index) each.
+    With diodes or transistors (``prepared`` given), the whole linearised system's change:
+    a value moves the operating point and with it every device's small-signal model."""
     parts: dict[str, list[tuple[np.ndarray, np.ndarray, np.ndarray, np.ndarray]]] = {"G": [], "C": []}
     for index, element in enumerate(elements):
         p = float(element.primary_value or 0.0)
-        up, down = element.with_value(p * (1 + _STEP)), element.with_value(p * (1 - _STEP))
-        for (matrix, plus), (_, minus) in zip(
-            zip("GC", _stamp_entries(up, stamps)), zip("GC", _stamp_entries(down, stamps))
-        ):
+        if prepared is not None:
+            entries_up = _system_entries(_rebiased(prepared, element, 1 + _STEP)[0])
+            entries_down = _system_entries(_rebiased(prepared, element, 1 - _STEP)[0])
+        else:
+            up, down = element.with_value(p * (1 + _STEP)), element.with_value(p * (1 - _STEP))
+            entries_up, entries_down = _stamp_entries(up, stamps), _stamp_entries(down, stamps)
+        for (matrix, plus), (_, minus) in zip(zip("GC", entries_up), zip("GC", entries_down)):
             diff = (
                 sp.coo_matrix((plus[2], (plus[0], plus[1])), shape=(n, n))
                 - sp.coo_matrix((minus[2], (minus[0], minus[1])), shape=(n, n))
@@ -100,8 +130,12 @@ def _density_derivatives(prepared: PreparedAnalysis, elements: list[Element]):
         p = float(element.primary_value or 0.0)
         levels: list[tuple[np.ndarray, np.ndarray]] = []
         for factor in (1 + _STEP, 1 - _STEP):
-            changed = base.refilled(circuit.with_values({element.name: p * factor}))
-            sources = collect_noise_sources(changed, t)
+            if is_nonlinear(circuit):  # the devices' noise follows their operating point
+                changed, solution = _rebiased(prepared, element, factor)
+                sources = collect_noise_sources(changed, t, None if solution is None else _fixed(solution.x))
+            else:
+                changed = base.refilled(circuit.with_values({element.name: p * factor}))
+                sources = collect_noise_sources(changed, t)
             if len(sources) != k:  # a source appeared or vanished (a DC voltage through zero)
                 levels = []
                 break
@@ -120,7 +154,7 @@ def noise_sensitivities(prepared: PreparedAnalysis) -> tuple[list[Element], np.n
     elements = [e for e in system.circuit.elements if e.value_field is not None and e.primary_value]
     layout = _Layout(system.node_index, system.branch_index, system.internal_index, system.unknowns)
     stamps = _Stamps(system.circuit, layout)
-    derivs = _derivative_stamps(elements, stamps, system.size)
+    derivs = _derivative_stamps(elements, stamps, system.size, prepared if is_nonlinear(system.circuit) else None)
     dw, dflick = _density_derivatives(prepared, elements)
     sources = problem.sources
     injection = sources.injection.tocsc()
