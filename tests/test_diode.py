@@ -129,3 +129,15 @@ def test_linear_circuits_take_the_linear_path_unchanged():
     circuit = parse_netlist(_netlist("V1 in 0 1\nR1 in a 1k\nR2 a 0 1k"))
     same, solution = biased(circuit, 300.0)
     assert same is circuit and solution is None
+
+
+def test_op_card_shows_the_operating_point(tmp_path, capsys):
+    # `.op` in the netlist appends the operating point as --dc does; r_d = Vt/I (Shockley; common practice).
+    from netnoise.cli import main
+
+    path = tmp_path / "op.cir"
+    path.write_text(_netlist("I1 0 a 1m\nD1 a 0 dm\n.model dm D (IS=1e-14)\n.op\n.noise v(a) I1 dec 1 10 100"))
+    assert main(["analyze", str(path)]) == 0
+    text = capsys.readouterr().out
+    assert "DC operating point" in text and "D1" in text
+    assert f"r_d {VT / 1e-3:.4g} Ω" in text

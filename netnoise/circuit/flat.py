@@ -132,6 +132,7 @@ class Circuit:
     value_origins: Mapping[str, ValueOrigin] = field(default_factory=dict, compare=False, repr=False)
     rebuild: Callable[[Mapping[str, float]], Circuit] | None = field(default=None, compare=False, repr=False)
     tolerances: Mapping[str, float] = field(default_factory=dict, compare=False)  # element -> tolerance=, a fraction
+    operating_point_card: bool = False  # the netlist has .op: show the DC operating point
 
     @cached_property
     def _index(self) -> dict[str, int]:

@@ -15,6 +15,7 @@ from netnoise.netlist.statements import (
     Instance,
     ModelCard,
     NoiseCard,
+    OpCard,
     OptionsCard,
     ParamCard,
     Statement,
@@ -48,8 +49,8 @@ __all__ = [
 # refused before anything is expanded (the count is estimated from the
 # definitions); 5 million elements need gigabytes and hours.
 MAX_FLAT_ELEMENTS = 5_000_000
-TOP_LEVEL_ONLY = (TempCard, AcCard, NoiseCard, OptionsCard)
-CARD_NAMES = {TempCard: ".temp", AcCard: ".ac", NoiseCard: ".noise", OptionsCard: ".options"}
+TOP_LEVEL_ONLY = (TempCard, AcCard, NoiseCard, OptionsCard, OpCard)
+CARD_NAMES = {TempCard: ".temp", AcCard: ".ac", NoiseCard: ".noise", OptionsCard: ".options", OpCard: ".op"}
 
 
 @dataclass

@@ -23,6 +23,7 @@ from netnoise.netlist.statements import (
     Instance,
     ModelCard,
     NoiseCard,
+    OpCard,
     OptionsCard,
     ParamCard,
     ParsedFile,
@@ -173,7 +174,19 @@ def _instance(line: LineReader) -> Instance:
 # --------------------------------------------------------------------------
 # dot-cards
 
-SUPPORTED_CARDS = (".subckt", ".ends", ".model", ".param", ".include", ".temp", ".ac", ".noise", ".options", ".end")
+SUPPORTED_CARDS = (
+    ".subckt",
+    ".ends",
+    ".model",
+    ".param",
+    ".include",
+    ".temp",
+    ".ac",
+    ".noise",
+    ".options",
+    ".op",
+    ".end",
+)
 _NOT_YET = {
     ".lib": "'.lib' is not supported; use .include FILE",
     ".inc": "write '.include' in full",
@@ -262,6 +275,9 @@ def _card(tree: Tree, fields: FieldReader) -> Statement:
         return _model(card)
     if name in (".options", ".option"):
         return OptionsCard(loc)
+    if name == ".op":
+        card.done(".op")
+        return OpCard(loc)
     if name in _NOT_YET:
         raise _fail(_NOT_YET[name], loc)
     raise _fail(

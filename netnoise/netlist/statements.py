@@ -35,6 +35,7 @@ __all__ = [
     "AcCard",
     "NoiseCard",
     "OptionsCard",
+    "OpCard",
     "Statement",
     "ParsedFile",
     "Toleranced",
@@ -127,6 +128,13 @@ class OptionsCard:
 
 
 @dataclass(frozen=True)
+class OpCard:
+    """``.op``: show the DC operating point with the results."""
+
+    loc: SourceLocation = field(compare=False)
+
+
+@dataclass(frozen=True)
 class Toleranced:
     """An element line with ``tolerance=PCT%``: the line's own statement, and the
     tolerance of its value as a fraction (0.01 for 1 %), for Monte Carlo studies."""
@@ -154,6 +162,7 @@ Statement = Union[
     AcCard,
     NoiseCard,
     OptionsCard,
+    OpCard,
 ]
 
 
