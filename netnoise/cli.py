@@ -726,7 +726,7 @@ def _compute(args: argparse.Namespace, circuit, band, temperature, signal, signa
 
         bits, full_scale, rate = converter
         extras["adc"] = adc_comparison(result, bits=bits, full_scale_V=full_scale, sample_rate_Hz=rate)
-    if args.dc or circuit.operating_point_card:
+    if args.dc or getattr(circuit, "operating_point_card", False):
         from netnoise.constants import ZERO_CELSIUS_K
         from netnoise.engine.dc import operating_point
 
