@@ -318,3 +318,41 @@ def test_sensitivity_follows_the_operating_point():
     expected = (up - down) / (2 * 0.001) / nominal  # % per %
     assert found["V1"].rms_pct_per_pct == pytest.approx(expected, rel=2e-3)
     assert abs(expected) > 0.05  # the bias matters here
+
+
+def _follower():
+    return parse_netlist(
+        _net(
+            "VDD vdd 0 5\nVin in 0 2.5\nRsens in g 1meg\nM1 vdd g out 0 nf W=200u L=2u\nM2 out bias 0 0 ns W=50u L=4u\n"
+            "Vb bias 0 1.1\nQ1 vdd out e qn\nRE e 0 10k\n"
+            ".model nf NMOS (VTO=0.7 KP=110u GAMMA=0.45 PHI=0.7 LAMBDA=0.02)\n.model ns NMOS (VTO=0.7 KP=110u LAMBDA=0.01)\n"
+            ".model qn NPN (IS=1e-15 BF=100)"
+        )
+    )
+
+
+@pytest.mark.parametrize("method", ["_gmin_stepping", "_source_stepping"])
+def test_each_fallback_reaches_the_same_operating_point(method):
+    # gmin stepping and source stepping are continuation methods (Nagel 1975; Vladimirescu, The SPICE
+    # Book): each must land on the solution Newton finds, here checked by Kirchhoff's current law
+    # at the emitter (Q1's emitter current equals RE's) and by agreement with the default solve.
+    from netnoise.circuit.elements.base import DeviceEnvironment
+    from netnoise.engine import operating_point as opm
+    from netnoise.engine.mna import assemble
+
+    circuit = _follower()
+    reference = opm.solve_nonlinear(circuit, T)
+    newton = opm._Newton(assemble(circuit), DeviceEnvironment(T))
+    x = getattr(opm, method)(newton, np.zeros(reference.x.size))
+    assert x is not None
+    assert x == pytest.approx(reference.x, rel=1e-7, abs=1e-12)
+
+
+def test_a_failure_names_the_devices_and_their_voltages(monkeypatch):
+    from netnoise.engine import operating_point as opm
+    from netnoise.errors import CircuitError
+
+    monkeypatch.setattr(opm, "_MAX_ITERATIONS", 1)  # no method can converge in one step
+    with pytest.raises(CircuitError, match=r"did not settle") as info:
+        operating_point(_follower())
+    assert "M1 (" in str(info.value) and "out " in str(info.value) and " V" in str(info.value)
