@@ -356,3 +356,22 @@ def test_a_failure_names_the_devices_and_their_voltages(monkeypatch):
     with pytest.raises(CircuitError, match=r"did not settle") as info:
         operating_point(_follower())
     assert "M1 (" in str(info.value) and "out " in str(info.value) and " V" in str(info.value)
+
+
+def test_base_resistance_falls_with_high_injection():
+    # r_bb = RBM + (RB − RBM)/q_b with q_b = (1 + √(1 + 4·I_be1/IKF))/2 when VAF = VAR = 0, and with
+    # IRB: RBM + 3(RB − RBM)(tan z − z)/(z·tan²z), z = (−1 + √(1 + 144·I_B/(π²·IRB)))/((24/π²)·√(I_B/IRB))
+    # (Gummel–Poon as in Massobrio & Antognetti, Semiconductor Device Modeling with SPICE, ch. 2).
+    i_s, ikf, rb, rbm = 1e-15, 5e-3, 200.0, 20.0
+    base = f"VB b 0 0.78\nVC c 0 5\nQ1 c b 0 qn\n.model qn NPN (IS={i_s} BF=100 IKF={ikf} RB={rb} RBM={rbm}"
+    op = operating_point(parse_netlist(_net(base + ")"))).devices["Q1"]
+    ibe1 = i_s * math.expm1(op["base_emitter_V"] / VT)
+    qb = (1 + math.sqrt(1 + 4 * ibe1 / ikf)) / 2
+    assert op["base_resistance_ohm"] == pytest.approx(rbm + (rb - rbm) / qb, rel=1e-9)
+    irb = 1e-4
+    op = operating_point(parse_netlist(_net(base + f" IRB={irb})"))).devices["Q1"]
+    ib = op["base_current_A"]
+    z = (-1 + math.sqrt(1 + 144 * ib / (math.pi**2 * irb))) / (24 / math.pi**2 * math.sqrt(ib / irb))
+    expected = rbm + 3 * (rb - rbm) * (math.tan(z) - z) / (z * math.tan(z) ** 2)
+    assert op["base_resistance_ohm"] == pytest.approx(expected, rel=1e-9)
+    assert rbm < expected < rb

@@ -14,8 +14,11 @@ with vbe, vbc the internal junction voltages (signs reversed for PNP):
   qb = q1(1 + √(1 + 4q2))/2,
   Ic = (Ibe1 − Ibc1)/qb − Ibc1/BR − Ibc2, Ib = Ibe1/BF + Ibe2 + Ibc1/BR + Ibc2.
 
-RB, RE and RC are ohmic resistances to internal nodes (RB held constant:
-its current crowding, RBM and IRB, is not modelled).  The substrate node is
+RE and RC are ohmic resistances to internal nodes; the base resistance
+between the base and the internal base falls from RB towards RBM as
+RBM + (RB − RBM)/qb, or with IRB as RBM + 3(RB − RBM)(tan z − z)/(z·tan²z)
+(its value is held across each Newton step, and its small-signal value is
+the resistance at the operating point).  The substrate node is
 accepted and left unconnected (no substrate junction).  At the operating
 point: the Jacobian (gm, gπ, gμ, go), Cbe = Cje(vbe) + TF·gm and Cbc =
 Cjc(vbc) + TR·gbc.  Noise: base shot 2q|Ib| and flicker KF·|Ib|^AF/f
@@ -42,7 +45,7 @@ from netnoise.circuit.elements.semiconductor import (
     saturation_current_at,
     thermal_voltage,
 )
-from netnoise.noise.mechanisms import FLICKER, SHOT, shot_current_density
+from netnoise.noise.mechanisms import FLICKER, SHOT, THERMAL, shot_current_density, thermal_current_density
 
 __all__ = ["Bipolar"]
 
@@ -77,6 +80,8 @@ class Bipolar(Semiconductor):
         "ISC": 0.0,
         "NC": 2.0,
         "RB": 0.0,
+        "RBM": -1.0,  # negative: equal to RB (no modulation)
+        "IRB": 0.0,  # 0: the base resistance falls with qb instead
         "RE": 0.0,
         "RC": 0.0,
         "CJE": 0.0,
@@ -106,17 +111,42 @@ class Bipolar(Semiconductor):
         return ((b, e), (b, c), (c, e))
 
     def series_resistances(self) -> tuple[float, ...]:
+        # RB is not a fixed resistance: it lives in the core, between the base and the internal base
         p = self.p
-        return (p["RC"] / self.area, p["RB"] / self.area, p["RE"] / self.area)
+        return (p["RC"] / self.area, 0.0, p["RE"] / self.area)
+
+    @property
+    def _has_rb(self) -> bool:
+        return self.p["RB"] > 0.0
 
     def internal_nodes(self) -> tuple[str, ...]:
-        return tuple(role for role, r in zip(self.roles, self.series_resistances()) if r > 0.0)
+        rs = self.series_resistances()
+        return tuple(role for role, r in zip(self.roles, rs) if r > 0.0 or (role == "base" and self._has_rb))
 
     def device_nodes(self) -> tuple[str, ...]:
-        return tuple(
-            f"#{role}" if r > 0.0 else node
-            for node, role, r in zip(self.nodes[:3], self.roles, self.series_resistances())
-        )
+        """(collector', base', emitter') and, with RB, the external base last."""
+        c, b, e = self.nodes[:3]
+        rc, _, re = self.series_resistances()
+        core = ("#collector" if rc > 0.0 else c, "#base" if self._has_rb else b, "#emitter" if re > 0.0 else e)
+        return (*core, b) if self._has_rb else core
+
+    def base_resistance(self, qb: float, ib: float) -> float:
+        """The base spreading resistance (Ω): RBM + (RB − RBM)/qb, or with IRB the current-crowding
+        form RBM + 3(RB − RBM)(tan z − z)/(z·tan²z) (Massobrio & Antognetti 1993)."""
+        p, a = self.p, self.area
+        rb = p["RB"] / a
+        rbm = rb if p["RBM"] < 0.0 else p["RBM"] / a
+        irb = p["IRB"] * a
+        if irb <= 0.0:
+            return rbm + (rb - rbm) / qb
+        if ib <= 0.0:
+            return rb
+        root = math.sqrt(ib / irb)
+        z = (-1.0 + math.sqrt(1.0 + 144.0 * ib / (math.pi**2 * irb))) / (24.0 / math.pi**2 * root)
+        if z < 1e-6:
+            return rb
+        tz = math.tan(z)
+        return rbm + 3.0 * (rb - rbm) * (tz - z) / (z * tz * tz)
 
     def _scaled(self, env: DeviceEnvironment) -> dict[str, float]:
         p, a = self.p, self.area
@@ -188,7 +218,20 @@ class Bipolar(Semiconductor):
         currents = pol * np.array([ic, ib, -(ic + ib)])
         by_u = np.array([dic, dib, (-(dic[0] + dib[0]), -(dic[1] + dib[1]))])
         # u = pol·P·v and the currents are pol·I(u): by u, pol·dI/du
-        return currents, pol * by_u, _PROJECTION * pol, np.array([vbe, vbc]), settled
+        if not self._has_rb:
+            return currents, pol * by_u, _PROJECTION * pol, np.array([vbe, vbc]), settled
+        # the base resistance: its value follows qb (or the base current) and is held for the step
+        # (its own derivative left out of the Jacobian, as is common practice)
+        vx = pol * float(v[3] - v[1])
+        gx = 1.0 / self.base_resistance(c["qb"], c["ib"])
+        currents = np.append(currents, pol * gx * vx)
+        currents[1] -= pol * gx * vx
+        by_u = np.vstack([np.hstack([by_u, np.zeros((3, 1))]), [0.0, 0.0, gx]])
+        by_u[1, 2] = -gx
+        projection = np.zeros((3, 4))
+        projection[:2, :3] = _PROJECTION
+        projection[2, 3], projection[2, 1] = 1.0, -1.0
+        return currents, pol * by_u, projection * pol, np.array([vbe, vbc, vx]), settled
 
     def operating_details(self, v: np.ndarray, env: DeviceEnvironment) -> tuple[Any, Any, Any]:
         p, pol, a = self.p, self.polarity, self.area
@@ -201,6 +244,7 @@ class Bipolar(Semiconductor):
         go = -c["dic_bc"]  # dIc/dvce at fixed vbe
         cbe = depletion_capacitance(vbe, p["CJE"] * a, p["VJE"], p["MJE"]) + p["TF"] * gm
         cbc = depletion_capacitance(vbc, p["CJC"] * a, p["VJC"], p["MJC"]) + p["TR"] * c["gbc"]
+        rbb = self.base_resistance(c["qb"], ib) if self._has_rb else 0.0
         noise = [
             DeviceNoise("base shot", SHOT, 1, 2, shot_current_density(ib), value=ib, unit="A"),
             DeviceNoise("collector shot", SHOT, 0, 2, shot_current_density(ic), value=ic, unit="A"),
@@ -208,6 +252,19 @@ class Bipolar(Semiconductor):
         if p["KF"] > 0.0 and ib != 0.0:
             noise.append(
                 DeviceNoise("base flicker", FLICKER, 1, 2, 0.0, p["KF"] * abs(ib) ** p["AF"], value=ib, unit="A")
+            )
+        if rbb > 0.0:
+            noise.append(
+                DeviceNoise(
+                    "base resistance",
+                    THERMAL,
+                    3,
+                    1,
+                    thermal_current_density(rbb, s["T"]),
+                    value=rbb,
+                    unit="Ω",
+                    temperature_K=s["T"],
+                )
             )
         summary = (
             ("collector_current_A", pol * ic),
@@ -218,7 +275,7 @@ class Bipolar(Semiconductor):
             ("transconductance_S", gm),
             ("r_pi_ohm", 1.0 / gpi if gpi > 0.0 else math.inf),
             ("output_resistance_ohm", 1.0 / go if go > 0.0 else math.inf),
-            ("base_resistance_ohm", p["RB"] / a),
+            ("base_resistance_ohm", rbb),
             ("c_pi_F", cbe),
             ("c_mu_F", cbc),
             ("temperature_K", s["T"]),
