@@ -25,6 +25,7 @@ from functools import cached_property
 
 from netnoise.circuit.elements.amplifier import OpAmp, OpAmpModel
 from netnoise.circuit.elements.base import Element
+from netnoise.circuit.elements.bipolar import Bipolar
 from netnoise.circuit.elements.capacitor import Capacitor
 from netnoise.circuit.elements.controlled import (
     CurrentControlledCurrentSource,
@@ -33,8 +34,11 @@ from netnoise.circuit.elements.controlled import (
     VoltageControlledVoltageSource,
 )
 from netnoise.circuit.elements.coupling import MutualCoupling
+from netnoise.circuit.elements.diode import Diode
 from netnoise.circuit.elements.inductor import Inductor
+from netnoise.circuit.elements.jfet import JunctionFet
 from netnoise.circuit.elements.lossy_capacitor import LossyCapacitor
+from netnoise.circuit.elements.mosfet import Mosfet
 from netnoise.circuit.elements.resistor import Resistor
 from netnoise.circuit.elements.sources import CurrentSource, NoiseSpec, VoltageSource
 from netnoise.constants import GROUND
@@ -58,6 +62,10 @@ __all__ = [
     "NoiseSpec",
     "OpAmpModel",
     "OpAmp",
+    "Diode",
+    "Bipolar",
+    "JunctionFet",
+    "Mosfet",
     "Sweep",
     "NoiseCard",
     "ValueOrigin",
