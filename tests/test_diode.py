@@ -98,11 +98,12 @@ def test_unknown_parameters_are_listed_once_and_level_is_refused():
 
 
 def test_model_scoped_in_subcircuit():
-    text = _netlist(
-        "V1 in 0 1\nX1 in 0 clamp\n.subckt clamp a b\nR1 a c 1k\nD1 c b dl\n.model dl D (IS=1e-12)\n.ends\nD2 in 0 dl"
-    )
-    with pytest.raises(NetlistError, match="no .model called 'dl'"):
-        parse_netlist(text)
+    # a .model inside a .subckt is local to it (SPICE scoping; common practice)
+    inner = "V1 in 0 1\nX1 in 0 clamp\n.subckt clamp a b\nR1 a c 1k\nD1 c b dl\n.model dl D (IS=1e-12)\n.ends\n"
+    circuit = parse_netlist(_netlist(inner))
+    assert circuit.element("X1.D1").p["IS"] == 1e-12
+    with pytest.raises(NetlistError, match="D2: no .model called 'dl'"):
+        parse_netlist(_netlist(inner + "D2 in 0 dl"))
 
 
 def test_steep_exponential_converges():
