@@ -142,3 +142,13 @@ def test_op_card_shows_the_operating_point(tmp_path, capsys):
     text = capsys.readouterr().out
     assert "DC operating point" in text and "D1" in text
     assert f"r_d {VT / 1e-3:.4g} Ω" in text
+
+
+def test_reverse_breakdown_follows_bv_and_ibv():
+    # Beyond BV the reverse current is IBV·exp(−(V + BV)/(N·Vt)) (the SPICE2 breakdown form,
+    # Massobrio & Antognetti, Semiconductor Device Modeling with SPICE, ch. 1): a 10 mA reverse
+    # current puts the junction at V = −(BV + N·Vt·ln(I/IBV)) (the forward IS term is negligible).
+    bv, ibv, i_rev = 5.1, 1e-3, 10e-3
+    circuit = parse_netlist(_netlist(f"I1 a 0 {i_rev}\nD1 a 0 dz\n.model dz D (IS=1e-14 BV={bv} IBV={ibv})"))
+    op = operating_point(circuit)
+    assert op.node_voltages["a"] == pytest.approx(-(bv + VT * math.log(i_rev / ibv)), rel=1e-6)

@@ -375,3 +375,35 @@ def test_base_resistance_falls_with_high_injection():
     expected = rbm + 3 * (rb - rbm) * (math.tan(z) - z) / (z * math.tan(z) ** 2)
     assert op["base_resistance_ohm"] == pytest.approx(expected, rel=1e-9)
     assert rbm < expected < rb
+
+
+@pytest.mark.parametrize(("kind", "sign"), [("NJF", 1.0), ("PJF", -1.0)])
+def test_p_channel_mirrors_n_channel(kind, sign):
+    # Reversing every voltage and the polarity gives the same current reversed (common practice).
+    vto = -2.0  # a PJF card writes VTO as an NJF's (the SPICE convention, from memory)
+    circuit = parse_netlist(
+        _net(f"VG g 0 {-0.5 * sign}\nVD d 0 {5 * sign}\nJ1 d g 0 j\n.model j {kind} (VTO={vto} BETA=1m LAMBDA=0.01)")
+    )
+    op = operating_point(circuit).devices["J1"]
+    # BETA(VGS − VTO)²(1 + λVDS) in the n-channel sense (Shichman & Hodges 1968)
+    assert sign * op["drain_current_A"] == pytest.approx(1e-3 * 1.5**2 * 1.05, rel=1e-9)
+
+
+def test_pmos_square_law_and_mos_flicker():
+    # PMOS: I_D = (KP/2)(W/L)(V_SG − |V_TO|)² (Shichman & Hodges 1968); its drain flicker KF·I^AF/f
+    # against the channel's 8kT·g_m/3 at the output, referred to the input (the SPICE noise model).
+    kp, w, length, kf = 50e-6, 40e-6, 4e-6, 1e-17
+    circuit = parse_netlist(
+        _net(
+            f"VDD vdd 0 5\nV1 g 0 DC 3.5\nM1 d g vdd vdd pm W={w} L={length}\nRD d 0 2k noiseless\n"
+            f".model pm PMOS (VTO=-0.8 KP={kp} KF={kf} AF=1)"
+        )
+    )
+    op = operating_point(circuit).devices["M1"]
+    i_d = kp / 2 * w / length * (1.5 - 0.8) ** 2
+    assert -op["drain_current_A"] == pytest.approx(i_d, rel=1e-7)
+    gm = op["transconductance_S"]
+    result = analyze(circuit, output="d", input_source="V1", band=(1.0, 1e5), temperature_celsius=27.0)
+    white = 8 * K_B * T * gm / 3
+    expected = (white + kf * i_d / result.frequency_Hz) / gm**2
+    assert result.input_referred_density == pytest.approx(expected, rel=1e-6)

@@ -4,9 +4,10 @@ Form: ``Jname drain gate source model [area] [temp=CELSIUS]`` with
 ``.model NAME NJF|PJF (VTO= BETA= LAMBDA= RD= RS= CGS= CGD= PB= IS= KF= AF=)``.
 
 DC: the channel I = BETA·(vgs − VTO)²·(1 + LAMBDA·vds) in saturation and its
-triode continuation (see :mod:`netnoise.circuit.elements.fet`; signs
-reversed for PJF); the gate-source and gate-drain junctions each IS·(e^{v/Vt}
-− 1) plus GMIN; RD and RS ohmic to internal nodes.  BETA, IS, CGS and CGD
+triode continuation (see :mod:`netnoise.circuit.elements.fet`; every
+voltage's sign reversed for PJF, whose card writes VTO as an NJF's does,
+negative for a depletion device: the SPICE convention, from memory); the
+gate-source and gate-drain junctions each IS·(e^{v/Vt} − 1) plus GMIN; RD and RS ohmic to internal nodes.  BETA, IS, CGS and CGD
 scale with the area, RD and RS divide by it; parameters do not follow the
 temperature.  At the operating point: gm, gds and the junction conductances,
 Cgs = CGS/(1 − vgs/PB)^½ and Cgd likewise.  Noise: channel thermal 8kT·gm/3,

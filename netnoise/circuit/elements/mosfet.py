@@ -7,9 +7,9 @@ RD= RS= CBD= CBS= CGSO= CGDO= CGBO= TOX= KF= AF=)``.
 DC (Shichman & Hodges 1968, the level-1 model): threshold VT = VTO +
 GAMMA·(√(PHI − vbs) − √PHI), channel I = (KP/2)(W/L)(vgs − VT)²(1 +
 LAMBDA·vds) in saturation and its triode continuation (see
-:mod:`netnoise.circuit.elements.fet`; signs reversed for PMOS), times m.  The
-bulk junctions are not modelled as diodes (no DC current, CBD and CBS as
-fixed capacitances).  Gate capacitances (Meyer, IEEE JSSC 6, 1971) from
+:mod:`netnoise.circuit.elements.fet`; every voltage reversed for PMOS, whose
+card writes VTO negative), times m.  The bulk junctions are not modelled as
+diodes (no DC current, CBD and CBS as fixed capacitances).  Gate capacitances (Meyer, IEEE JSSC 6, 1971) from
 Cox = εox·W·L/TOX (εox = 3.9·ε0): in saturation Cgs = 2/3·Cox, in triode
 Cgs = Cgd = Cox/2, in cut-off Cgb = Cox; plus the overlaps CGSO·W, CGDO·W,
 CGBO·L.  Noise: channel thermal 8kT·gm/3 (long channel), flicker KF·|Id|^AF/f
@@ -97,10 +97,11 @@ class Mosfet(Semiconductor):
     def _threshold(self, vbs: float) -> tuple[float, float]:
         """VT and dVT/dvbs."""
         p = self.p
+        vto = self.polarity * p["VTO"]  # a PMOS card writes VTO negative (common practice)
         if p["GAMMA"] == 0.0:
-            return p["VTO"], 0.0
+            return vto, 0.0
         root = math.sqrt(max(p["PHI"] - vbs, 1e-6))
-        return p["VTO"] + p["GAMMA"] * (root - math.sqrt(p["PHI"])), -p["GAMMA"] / (2.0 * root)
+        return vto + p["GAMMA"] * (root - math.sqrt(p["PHI"])), -p["GAMMA"] / (2.0 * root)
 
     def _channel(self, vgs: float, vds: float, vbs: float) -> dict[str, Any]:
         """I (drain to source) and its derivatives by (vgs, vds, vbs)."""
@@ -121,7 +122,8 @@ class Mosfet(Semiconductor):
         vgs, vds, vbs = pol * float(v[1] - v[2]), pol * float(v[0] - v[2]), pol * float(v[3] - v[2])
         settled = True
         if previous is not None:
-            vgs, ok1 = limit_step(vgs, float(previous[0]), 1.0 + abs(float(previous[0]) - self.p["VTO"]))
+            vto = self.polarity * self.p["VTO"]
+            vgs, ok1 = limit_step(vgs, float(previous[0]), 1.0 + abs(float(previous[0]) - vto))
             vds, ok2 = limit_step(vds, float(previous[1]), 2.0 + abs(float(previous[1])))
             settled = ok1 and ok2
         c = self._channel(vgs, vds, vbs)
