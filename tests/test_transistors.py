@@ -407,3 +407,12 @@ def test_pmos_square_law_and_mos_flicker():
     white = 8 * K_B * T * gm / 3
     expected = (white + kf * i_d / result.frequency_Hz) / gm**2
     assert result.input_referred_density == pytest.approx(expected, rel=1e-6)
+
+
+def test_mos_geometry_options_are_read_and_named():
+    circuit = parse_netlist(
+        _net(
+            "VDD d 0 5\nVG g 0 2\nM1 d g 0 0 nm W=10u L=1u AD=20p AS=20p PD=24u PS=24u\n.model nm NMOS (VTO=0.7 KP=100u)"
+        )
+    )
+    assert any("AD=, AS=, PD=, PS= read but not modelled" in notice for notice in circuit.notices)

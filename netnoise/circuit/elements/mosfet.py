@@ -1,7 +1,7 @@
 """M: a MOS transistor (level 1) at its operating point, with its noise.
 
 Form: ``Mname drain gate source bulk model [W=metres] [L=metres] [m=count]
-[temp=CELSIUS]`` with ``.model NAME NMOS|PMOS (VTO= KP= GAMMA= PHI= LAMBDA=
+[temp=CELSIUS]`` (AD= AS= PD= PS= NRD= NRS= are read and named in a notice) with ``.model NAME NMOS|PMOS (VTO= KP= GAMMA= PHI= LAMBDA=
 RD= RS= CBD= CBS= CGSO= CGDO= CGBO= TOX= KF= AF=)``.
 
 DC (Shichman & Hodges 1968, the level-1 model): threshold VT = VTO +
@@ -32,6 +32,8 @@ from netnoise.noise.mechanisms import CHANNEL_THERMAL, FLICKER
 
 __all__ = ["Mosfet"]
 
+# drain and source geometry for bulk junctions that are not modelled: read, named in a notice
+_GEOMETRY_READ = ("ad", "as", "pd", "ps", "nrd", "nrs")
 _EPS_OX = 3.9 * 8.8541878128e-12  # F/m, silicon dioxide (common practice)
 # control voltages u = (vgs, vds, vbs) from device node voltages (d', g, s', b)
 _PROJECTION = np.array([[0.0, 1.0, -1.0, 0.0], [1.0, 0.0, -1.0, 0.0], [0.0, 0.0, -1.0, 1.0]])
@@ -50,7 +52,7 @@ class Mosfet(Semiconductor):
     model_types: ClassVar[tuple[str, ...]] = ("nmos", "pmos")
     node_counts: ClassVar[tuple[int, ...]] = (4,)
     roles: ClassVar[tuple[str, ...]] = ("drain", "gate", "source", "bulk")
-    line_options: ClassVar[tuple[str, ...]] = ("temp", "w", "l", "m")
+    line_options: ClassVar[tuple[str, ...]] = ("temp", "w", "l", "m", *_GEOMETRY_READ)
     takes_area: ClassVar[bool] = False
     defaults: ClassVar[dict[str, float]] = {
         "VTO": 0.0,
@@ -73,6 +75,9 @@ class Mosfet(Semiconductor):
     @classmethod
     def build_options(cls, options: dict[str, tuple[float, Any]], ctx: BuildContext) -> dict[str, Any]:
         out = {}
+        unused = [key.upper() for key in _GEOMETRY_READ if key in options]
+        if unused:
+            ctx.notice(f"{ctx.name}: {'=, '.join(unused)}= read but not modelled (no bulk junction diodes)")
         for key, field_name in (("w", "width"), ("l", "length"), ("m", "count")):
             if key in options:
                 value, loc = options[key]
