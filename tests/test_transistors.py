@@ -355,7 +355,7 @@ def test_a_failure_names_the_devices_and_their_voltages(monkeypatch):
     monkeypatch.setattr(opm, "_MAX_ITERATIONS", 1)  # no method can converge in one step
     with pytest.raises(CircuitError, match=r"did not settle") as info:
         operating_point(_follower())
-    assert "M1 (" in str(info.value) and "out " in str(info.value) and " V" in str(info.value)
+    assert "M1 (v(vdd) 5 V, v(g) " in str(info.value) and "v(out) " in str(info.value)
 
 
 def test_base_resistance_falls_with_high_injection():

@@ -138,16 +138,17 @@ def _refuse(newton: _Newton) -> CircuitError:
     names = newton.unsettled or [device.name for device, _ in newton.devices]
     parts = []
     for name in names[:5]:
-        device, rows = next((d, r) for d, r in newton.devices if d.name == name)
-        volts = ", ".join(
-            f"{node.lstrip('#')} {value:.4g} V"
-            for node, value in zip(device.device_nodes(), newton._at(newton.last_x, rows))
-        )
-        parts.append(f"{name} ({volts})")
+        _, rows = next((d, r) for d, r in newton.devices if d.name == name)
+        labels = newton.system.unknowns
+        shown = [
+            f"{labels[row]} {newton.last_x[row]:.4g} {'V' if labels[row].startswith('v(') else 'A'}"
+            for row in dict.fromkeys(int(r) for r in rows if r >= 0)
+        ]
+        parts.append(f"{name} ({', '.join(shown)})")
     more = f" and {len(names) - 5} more" if len(names) > 5 else ""
     return CircuitError(
         "the DC operating point was not found (Newton's method, then gmin stepping, then source stepping): "
-        f"{'; '.join(parts)}{more} did not settle (last voltages shown). Check the bias network: a supply, "
+        f"{'; '.join(parts)}{more} did not settle (shown with the last values of Newton's method at full supply). Check the bias network: a supply, "
         "a missing resistor, a device connected the wrong way round or a model value out of range"
     )
 
@@ -163,6 +164,7 @@ def solve_nonlinear(circuit: ck.Circuit, temperature_K: float) -> NonlinearSolut
     zero = np.zeros(system.size)
     method = "Newton"
     x = newton.run(zero, 0.0, 1.0)
+    first = (newton.last_x, newton.unsettled)  # what a failure reports: the full circuit's last iterate
     if x is None:
         method = "gmin stepping"
         x = _gmin_stepping(newton, zero)
@@ -170,6 +172,7 @@ def solve_nonlinear(circuit: ck.Circuit, temperature_K: float) -> NonlinearSolut
         method = "source stepping"
         x = _source_stepping(newton, zero)
     if x is None:
+        newton.last_x, newton.unsettled = first
         raise _refuse(newton)
     _refuse_runaway(system, x)
     elements = list(plain.elements)
