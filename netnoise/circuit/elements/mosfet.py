@@ -5,7 +5,8 @@ Form: ``Mname drain gate source bulk model [W=metres] [L=metres] [m=count]
 RD= RS= CBD= CBS= CGSO= CGDO= CGBO= TOX= KF= AF=)``.
 
 DC (Shichman & Hodges 1968, the level-1 model): threshold VT = VTO +
-GAMMA·(√(PHI − vbs) − √PHI), channel I = (KP/2)(W/L)(vgs − VT)²(1 +
+GAMMA·(√(PHI − vbs) − √PHI) (for vbs > 0, √PHI/(1 + vbs/(2·PHI)) in place of
+the first root), channel I = (KP/2)(W/L)(vgs − VT)²(1 +
 LAMBDA·vds) in saturation and its triode continuation (see
 :mod:`netnoise.circuit.elements.fet`; every voltage reversed for PMOS, whose
 card writes VTO negative), times m.  The bulk junctions are not modelled as
@@ -105,8 +106,14 @@ class Mosfet(Semiconductor):
         vto = self.polarity * p["VTO"]  # a PMOS card writes VTO negative (common practice)
         if p["GAMMA"] == 0.0:
             return vto, 0.0
-        root = math.sqrt(max(p["PHI"] - vbs, 1e-6))
-        return vto + p["GAMMA"] * (root - math.sqrt(p["PHI"])), -p["GAMMA"] / (2.0 * root)
+        phi = p["PHI"]
+        if vbs <= 0.0:
+            root = math.sqrt(phi - vbs)
+            slope = -1.0 / (2.0 * root)
+        else:  # forward body bias: √φ/(1 + vbs/2φ), smooth at 0 and never negative (common practice)
+            root = math.sqrt(phi) / (1.0 + vbs / (2.0 * phi))
+            slope = -math.sqrt(phi) / (2.0 * phi) / (1.0 + vbs / (2.0 * phi)) ** 2
+        return vto + p["GAMMA"] * (root - math.sqrt(phi)), p["GAMMA"] * slope
 
     def _channel(self, vgs: float, vds: float, vbs: float) -> dict[str, Any]:
         """I (drain to source) and its derivatives by (vgs, vds, vbs)."""
