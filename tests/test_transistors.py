@@ -416,3 +416,27 @@ def test_mos_geometry_options_are_read_and_named():
         )
     )
     assert any("AD=, AS=, PD=, PS= read but not modelled" in notice for notice in circuit.notices)
+
+
+@settings(max_examples=30, deadline=None, suppress_health_check=[HealthCheck.too_slow])
+@given(
+    st.integers(10, 300).map(lambda k: k / 10.0),
+    st.lists(st.integers(0, 60).map(lambda k: 10.0 ** (k / 10.0)), min_size=4, max_size=4),
+)
+def test_random_bias_networks_converge_and_satisfy_kcl(vcc, scale):
+    # A divider-biased stage with any supply and resistors from 1 Ω·10^0 to 10^6: the point found
+    # satisfies Kirchhoff's current law at the base, collector and emitter (Kirchhoff 1845),
+    # whether the transistor is off, active or saturated.
+    r1, r2, rc, re = 1e3 * scale[0], 1e3 * scale[1], 100.0 * scale[2], 1.0 * scale[3]
+    text = (
+        f"VCC vcc 0 {vcc}\nR1 vcc b {r1}\nR2 b 0 {r2}\nRC vcc c {rc}\nRE e 0 {re}\nQ1 c b e q\n"
+        ".model q NPN (IS=1e-15 BF=150 VAF=50 IKF=0.05)"
+    )
+    op = operating_point(parse_netlist(_net(text)))
+    v, q = op.node_voltages, op.devices["Q1"]
+    ic, ib = q["collector_current_A"], q["base_current_A"]
+    tol = 1e-9
+    leak = 2e-12 * vcc  # the 1 pS across each junction carries up to this; the device summary omits it
+    assert (vcc - v["c"]) / rc == pytest.approx(ic, rel=tol, abs=leak)
+    assert v["e"] / re == pytest.approx(ic + ib, rel=tol, abs=leak)
+    assert (vcc - v["b"]) / r1 - v["b"] / r2 == pytest.approx(ib, rel=1e-6, abs=leak)
