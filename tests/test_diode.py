@@ -152,3 +152,11 @@ def test_reverse_breakdown_follows_bv_and_ibv():
     circuit = parse_netlist(_netlist(f"I1 a 0 {i_rev}\nD1 a 0 dz\n.model dz D (IS=1e-14 BV={bv} IBV={ibv})"))
     op = operating_point(circuit)
     assert op.node_voltages["a"] == pytest.approx(-(bv + VT * math.log(i_rev / ibv)), rel=1e-6)
+
+
+def test_model_values_out_of_range_are_refused_by_name():
+    circuit = parse_netlist(_netlist("V1 in 0 1\nR1 in a 1k\nD1 a 0 dm\n.model dm D (IS=0 RS=-1)"))
+    with pytest.raises(CircuitError, match=r"D1: model dm has IS=0, RS=-1"):
+        operating_point(circuit)
+    with pytest.raises(CircuitError, match=r"D1: model dm has IS=0, RS=-1"):
+        analyze(circuit, output="a", band=(1.0, 10.0))

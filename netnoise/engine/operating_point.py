@@ -30,6 +30,7 @@ import scipy.sparse.linalg as spla
 
 from netnoise import circuit as ck
 from netnoise.circuit.elements.base import DeviceEnvironment
+from netnoise.circuit.topology import check_element_values
 from netnoise.engine.mna import MnaSystem, assemble
 from netnoise.errors import CircuitError
 
@@ -226,5 +227,6 @@ def biased(circuit: ck.Circuit, temperature_K: float) -> tuple[ck.Circuit, Nonli
     nonlinear elements biased at their DC operating point, and that point."""
     if not is_nonlinear(circuit):
         return circuit, None
+    check_element_values(circuit)  # before Newton divides by them
     solution = solve_nonlinear(circuit, temperature_K)
     return solution.circuit, solution

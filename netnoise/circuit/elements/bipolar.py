@@ -65,6 +65,8 @@ class Bipolar(Semiconductor):
     model_types: ClassVar[tuple[str, ...]] = ("npn", "pnp")
     node_counts: ClassVar[tuple[int, ...]] = (3, 4)
     roles: ClassVar[tuple[str, ...]] = ("collector", "base", "emitter")
+    positive: ClassVar[tuple[str, ...]] = ("IS", "BF", "BR", "NF", "NR", "NE", "NC", "VJE", "VJC")
+    signed: ClassVar[tuple[str, ...]] = ("RBM",)
     defaults: ClassVar[dict[str, float]] = {
         "IS": 1e-16,
         "BF": 100.0,

@@ -45,6 +45,8 @@ class Diode(Semiconductor):
     model_types: ClassVar[tuple[str, ...]] = ("d",)
     node_counts: ClassVar[tuple[int, ...]] = (2,)
     roles: ClassVar[tuple[str, ...]] = ("anode", "cathode")
+    positive: ClassVar[tuple[str, ...]] = ("IS", "N", "VJ")
+    signed: ClassVar[tuple[str, ...]] = ()
     defaults: ClassVar[dict[str, float]] = {
         "IS": 1e-14,
         "N": 1.0,

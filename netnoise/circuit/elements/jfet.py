@@ -49,6 +49,8 @@ class JunctionFet(Semiconductor):
     model_types: ClassVar[tuple[str, ...]] = ("njf", "pjf")
     node_counts: ClassVar[tuple[int, ...]] = (3,)
     roles: ClassVar[tuple[str, ...]] = ("drain", "gate", "source")
+    positive: ClassVar[tuple[str, ...]] = ("BETA", "IS", "PB")
+    signed: ClassVar[tuple[str, ...]] = ("VTO",)
     defaults: ClassVar[dict[str, float]] = {
         "VTO": -2.0,
         "BETA": 1e-4,

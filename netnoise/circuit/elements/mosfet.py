@@ -55,6 +55,8 @@ class Mosfet(Semiconductor):
     roles: ClassVar[tuple[str, ...]] = ("drain", "gate", "source", "bulk")
     line_options: ClassVar[tuple[str, ...]] = ("temp", "w", "l", "m", *_GEOMETRY_READ)
     takes_area: ClassVar[bool] = False
+    positive: ClassVar[tuple[str, ...]] = ("KP", "PHI")
+    signed: ClassVar[tuple[str, ...]] = ("VTO",)
     defaults: ClassVar[dict[str, float]] = {
         "VTO": 0.0,
         "KP": 2e-5,

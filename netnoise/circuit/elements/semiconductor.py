@@ -172,6 +172,8 @@ class Semiconductor(Element):
     defaults: ClassVar[Mapping[str, float]] = {}  # the model parameters this kind computes with
     line_options: ClassVar[tuple[str, ...]] = ("temp", "area")
     takes_area: ClassVar[bool] = True
+    positive: ClassVar[tuple[str, ...]] = ()  # model values that must be above zero (divisors, logarithms)
+    signed: ClassVar[tuple[str, ...]] = ()  # model values that may be negative
 
     # ---- netlist form
     @classmethod
@@ -306,6 +308,15 @@ class Semiconductor(Element):
         bad = [k for k, v in self.parameters if not math.isfinite(v)]
         if bad:
             raise CircuitError(f"{self.name}: model {self.model} has values that are not finite: {', '.join(bad)}")
+        p = self.p
+        not_positive = [k for k in self.positive if not p[k] > 0.0]
+        negative = [k for k, v in self.parameters if v < 0.0 and k not in self.signed]
+        if not_positive or negative:
+            names = ", ".join(f"{k}={p[k]:g}" for k in (*not_positive, *negative))
+            raise CircuitError(
+                f"{self.name}: model {self.model} has {names}; "
+                f"{', '.join(self.positive)} must be positive and the others not negative"
+            )
 
     # ---- stamps
     def stamp(self, s: Stamper) -> None:
