@@ -177,8 +177,12 @@ class Bipolar(Semiconductor):
         ibe2, gbe2 = junction_current(vbe, s["ISE"], p["NE"] * vt) if s["ISE"] > 0 else (0.0, 0.0)
         ibc2, gbc2 = junction_current(vbc, s["ISC"], p["NC"] * vt) if s["ISC"] > 0 else (0.0, 0.0)
         inv_vaf, inv_var = _inverse(p["VAF"]), _inverse(p["VAR"])
-        q1 = 1.0 / (1.0 - vbc * inv_vaf - vbe * inv_var)
-        dq1_be, dq1_bc = q1 * q1 * inv_var, q1 * q1 * inv_vaf
+        early = 1.0 - vbc * inv_vaf - vbe * inv_var
+        if early > 1e-6:
+            q1 = 1.0 / early
+            dq1_be, dq1_bc = q1 * q1 * inv_var, q1 * q1 * inv_vaf
+        else:  # a junction voltage beyond an Early voltage (a far Newton step): held, not divided by zero
+            q1, dq1_be, dq1_bc = 1e6, 0.0, 0.0
         inv_ikf, inv_ikr = _inverse(s["IKF"]), _inverse(s["IKR"])
         q2 = ibe1 * inv_ikf + ibc1 * inv_ikr
         root = math.sqrt(max(1.0 + 4.0 * q2, 1e-12))
