@@ -82,6 +82,19 @@ def test_bipolar_input_voltage_noise():
     assert _input_density(result) == pytest.approx(4 * K_B * T * (rb + 1 / (2 * gm)), rel=3e-2)
 
 
+def test_bipolar_input_current_noise():
+    # iₙ² = 2qI_B (Gray & Meyer, noise chapter): driven by a current into the base, the base shot noise
+    # enters exactly as the input does; the collector shot adds 2qI_C/(g_m·r_π)² ≈ 2qI_C/β² beside it.
+    circuit = parse_netlist(
+        _net("I1 0 b DC 5u AC 1\nVCC vcc 0 10\nRC vcc c 1k noiseless\nQ1 c b 0 qn\n.model qn NPN (IS=1e-15 BF=120)")
+    )
+    op = operating_point(circuit).devices["Q1"]
+    ib, ic, gm, r_pi = op["base_current_A"], op["collector_current_A"], op["transconductance_S"], op["r_pi_ohm"]
+    result = analyze(circuit, output="c", input_source="I1", band=(100.0, 1e3), temperature_celsius=27.0)
+    assert _input_density(result) == pytest.approx(2 * Q * ib + 2 * Q * ic / (gm * r_pi) ** 2, rel=1e-6)
+    assert _input_density(result) == pytest.approx(2 * Q * ib, rel=2 / 120)
+
+
 def test_bipolar_optimum_source_resistance_and_minimum_noise_figure():
     # With r_b = 0: eₙ² = 2kT/g_m, iₙ² = 2qI_B, R_opt = eₙ/iₙ = √β/g_m and F_min ≈ 1 + 1/√β
     # (Gray & Meyer, noise chapter; Motchenbacher & Connelly, Low-Noise Electronic System Design).
