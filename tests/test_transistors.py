@@ -330,6 +330,13 @@ def test_sensitivity_follows_the_operating_point():
     nominal = prepared.analyze().total_rms
     expected = (up - down) / (2 * 0.001) / nominal  # % per %
     assert found["V1"].rms_pct_per_pct == pytest.approx(expected, rel=2e-3)
+    # the temperature moves the bias too (IS(T), Vt): per % of the absolute temperature
+    kelvin = 27.0 + 273.15
+    warm, cool = (
+        netnoise.analyze(circuit, output="c", band=(100.0, 1e4), temperature_celsius=kelvin * f - 273.15).total_rms
+        for f in (1.001, 0.999)
+    )
+    assert found["temp"].rms_pct_per_pct == pytest.approx((warm - cool) / (2 * 0.001) / nominal, rel=2e-3)
     assert abs(expected) > 0.05  # the bias matters here
 
 
