@@ -160,3 +160,11 @@ def test_model_values_out_of_range_are_refused_by_name():
         operating_point(circuit)
     with pytest.raises(CircuitError, match=r"D1: model dm has IS=0, RS=-1"):
         analyze(circuit, output="a", band=(1.0, 10.0))
+
+
+def test_source_straight_across_a_junction_is_refused():
+    # 10 V held across an ideal junction implies IS·e^(10/Vt), beyond any real current (Shockley):
+    # refused with the remedy, not shown as a number.
+    circuit = parse_netlist(_netlist("V1 a 0 10\nD1 a 0 dm\n.model dm D (IS=1e-14)"))
+    with pytest.raises(CircuitError, match="D1: 10 V held across its junction"):
+        operating_point(circuit)

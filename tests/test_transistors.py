@@ -294,7 +294,7 @@ def test_random_diode_networks_satisfy_kcl(case):
     lines.append(f"R{n} n{n} 0 {chain[n - 1]}")
     names = {0: "0", **{k: f"n{k}" for k in range(1, n + 1)}}
     for j, (a, b, i_s) in enumerate(diodes):
-        if a == b:
+        if a == b or {a, b} == {0, 1}:  # none straight across the source (refused above 80·Vt, see test_diode)
             continue
         lines.append(f"D{j} {names[a]} {names[b]} dm{j}\n.model dm{j} D (IS={i_s})")
     circuit = parse_netlist(_net("\n".join(lines)))

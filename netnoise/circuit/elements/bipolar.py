@@ -42,6 +42,7 @@ from netnoise.circuit.elements.semiconductor import (
     depletion_capacitance,
     junction_current,
     limit_junction,
+    refuse_forced_junction,
     saturation_current_at,
     thermal_voltage,
 )
@@ -243,6 +244,8 @@ class Bipolar(Semiconductor):
         p, pol, a = self.p, self.polarity, self.area
         s = self._scaled(env)
         vbe, vbc = pol * float(v[1] - v[2]), pol * float(v[1] - v[0])
+        refuse_forced_junction(self.name, "base-emitter", vbe, p["NF"] * s["VT"])
+        refuse_forced_junction(self.name, "base-collector", vbc, p["NR"] * s["VT"])
         c = self._currents(vbe, vbc, s)
         ic, ib = c["ic"], c["ib"]
         gm = c["dic_be"]

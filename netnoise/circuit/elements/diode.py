@@ -27,6 +27,7 @@ from netnoise.circuit.elements.semiconductor import (
     depletion_capacitance,
     junction_current,
     limit_junction,
+    refuse_forced_junction,
     saturation_current_at,
     thermal_voltage,
 )
@@ -109,6 +110,7 @@ class Diode(Semiconductor):
     def operating_details(self, v: np.ndarray, env: DeviceEnvironment) -> tuple[Any, Any, Any]:
         p = self.p
         vd = float(v[0] - v[1])
+        refuse_forced_junction(self.name, "", vd, self._junction(env)[1])
         i, g = self._current(vd, env)
         t = self.device_temperature_K(env.temperature_K)
         depletion = depletion_capacitance(vd, p["CJO"] * self.area, p["VJ"], p["M"])

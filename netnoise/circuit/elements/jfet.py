@@ -31,6 +31,7 @@ from netnoise.circuit.elements.semiconductor import (
     junction_current,
     limit_junction,
     limit_step,
+    refuse_forced_junction,
     thermal_voltage,
 )
 from netnoise.noise.mechanisms import CHANNEL_THERMAL, FLICKER, SHOT, shot_current_density
@@ -141,6 +142,8 @@ class JunctionFet(Semiconductor):
         p, pol = self.p, self.polarity
         vgs, vgd = pol * float(v[1] - v[2]), pol * float(v[1] - v[0])
         x = self._parts(vgs, vgd, env)
+        refuse_forced_junction(self.name, "gate-source", vgs, x["vt"])
+        refuse_forced_junction(self.name, "gate-drain", vgd, x["vt"])
         ch, t = x["ch"], x["T"]
         ids = x["ids"]
         cgs = depletion_capacitance(vgs, p["CGS"] * self.area, p["PB"], 0.5)

@@ -56,6 +56,7 @@ __all__ = [
     "Semiconductor",
     "thermal_voltage",
     "limit_junction",
+    "refuse_forced_junction",
     "critical_voltage",
     "junction_current",
     "depletion_capacitance",
@@ -86,6 +87,17 @@ def junction_current(v: float, saturation: float, n_vt: float) -> tuple[float, f
     """Shockley: I = IS·(exp(v/(N·Vt)) − 1) and dI/dv (A, S)."""
     e, de = _exp(v / n_vt)
     return saturation * (e - 1.0), saturation * de / n_vt
+
+
+def refuse_forced_junction(owner: str, what: str, v: float, n_vt: float) -> None:
+    """Refuse a solution whose junction sits past the exponential's computed range: only an ideal
+    source straight across it puts it there, and the current it implies is beyond any real part's."""
+    if v / n_vt > _EXP_LIMIT:
+        raise CircuitError(
+            f"{owner}: {v:.4g} V held across its {what + ' ' if what else ''}junction (beyond {_EXP_LIMIT * n_vt:.3g} V) would drive "
+            "an unbounded current: a source is connected straight across it. Put a resistance in series "
+            "(RS on the model card, or a resistor)"
+        )
 
 
 def critical_voltage(n_vt: float, saturation: float) -> float:
