@@ -53,6 +53,7 @@ BAD = [
     Bad("diode three nodes", "t\nD1 a b c dmod\n", "D1 connects 3 node(s) before its model 'dmod'; it takes 2", 2, 10),
     Bad("diode option", "t\nD1 a 0 dmod foo=1\n", "D1: 'foo=' is not an option of this element", 2, 13),
     Bad("diode two areas", "t\nD1 a 0 dmod 2 3\n", "unexpected extra field '3' on D1", 2, 15),
+    Bad("device tolerance", "t\nD1 a 0 dmod tolerance=5%\n", "D1: tolerance= applies to an element's value", 2, 13),
     Bad("behavioural B", "t\nB1 a 0 V={2*v(b)}\n", "behavioural sources are not supported", 2, 1),
     Bad("behavioural E", "t\nE1 a 0 value={2}\n", "behavioural sources are not supported", 2, 8),
     Bad("poly on a resistor", "t\nR1 a 0 POLY(1) b 0 1\n", "POLY forms are not supported", 2, 8),

@@ -117,9 +117,16 @@ def _element_statement(name_word: Word, items: list[Field]) -> Statement:
     def selects(key: str) -> bool:  # a kind's selector: a key=value field, or a call such as POLY(n)
         return line.has_key(key) or any(isinstance(i, Call) and i.name.lower() == key for i in items)
 
-    statement = kind_for_line(letter, selects).parse(line)
+    kind = kind_for_line(letter, selects)
+    statement = kind.parse(line)
     if not marks:
         return statement
+    if kind.value_field is None:
+        raise _fail(
+            f"{name_word.text}: {TOLERANCE_KEY}= applies to an element's value, and this element has none",
+            marks[0].loc,
+            "give a model parameter a tolerance through a .param it uses",
+        )
     if len(marks) > 1:
         raise _fail(f"{name_word.text} has two {TOLERANCE_KEY}= values", marks[1].loc)
     return Toleranced(statement, _tolerance(marks[0], name_word.text), marks[0].loc)
