@@ -95,7 +95,8 @@ def refuse_forced_junction(owner: str, what: str, v: float, n_vt: float) -> None
     if v / n_vt > _EXP_LIMIT:
         raise CircuitError(
             f"{owner}: {v:.4g} V held across its {what + ' ' if what else ''}junction (beyond {_EXP_LIMIT * n_vt:.3g} V) would drive "
-            "an unbounded current: a source is connected straight across it. Put a resistance in series "
+            "an unbounded current: a source is connected straight across it (or across a chain of bare junctions). "
+            "Put a resistance in series "
             "(RS on the model card, or a resistor)"
         )
 
