@@ -729,9 +729,10 @@ def _compute(args: argparse.Namespace, circuit, band, temperature, signal, signa
         bits, full_scale, rate = converter
         extras["adc"] = adc_comparison(result, bits=bits, full_scale_V=full_scale, sample_rate_Hz=rate)
     if args.dc or getattr(circuit, "operating_point_requested", False):  # --dc, or an .op card
+        from netnoise.constants import ZERO_CELSIUS_K
         from netnoise.engine.dc import operating_point
 
-        extras["operating_point"] = operating_point(circuit, temperature_celsius=result.temperature_K - 273.15)
+        extras["operating_point"] = operating_point(circuit, temperature_celsius=result.temperature_K - ZERO_CELSIUS_K)
     extras.update(_studies(args, circuit, band, temperature, result))
 
     # build every text first: a refusal (a NaN, an infinity) prints and writes nothing

@@ -133,7 +133,7 @@ def test_a_glued_call_is_a_name_in_node_position():
         ("t\nR1 Net-(R1-Pad2 0 1k\n", "a '(' is not closed", 2, 21),
         ("t\nR1 a(b c) 0 1k\n", "parentheses in closed pairs", 2, 4),
         ("t\nR1 (a) 0 1k\n", "a name cannot start with '('", 2, 4),
-        ("t\nE1 a 0 POLY(1) b 0 1\n", "POLY forms are not supported", 2, 8),
+        ("t\nE1 a 0 b POLY(1) 1\n", "expected POLY(n) here, not 'b'", 2, 8),
     ],
 )
 def test_bad_options(text, fragment, line, column):

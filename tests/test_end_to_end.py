@@ -90,7 +90,16 @@ def test_every_shipped_circuit_runs_and_writes_the_json_shape(netlist, tmp_path,
     shares = [c["share"] for c in data["contributions"]]
     assert shares == sorted(shares, reverse=True)
     assert sum(shares) == pytest.approx(1.0, rel=1e-9)
-    allowed = {"thermal", "shot", "excess", "amplifier-voltage", "amplifier-current", "source"}
+    allowed = {
+        "thermal",
+        "shot",
+        "excess",
+        "amplifier-voltage",
+        "amplifier-current",
+        "source",
+        "flicker",
+        "channel-thermal",
+    }
     assert {c["mechanism"] for c in data["contributions"]} <= allowed
     assert len(data["spectrum"]["frequency_Hz"]) == len(data["spectrum"]["output_density_V_per_rtHz"])
     assert data["total_rms_V"] > 0

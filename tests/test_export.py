@@ -210,7 +210,16 @@ def test_atomic_write_failure_keeps_the_old_file(tmp_path):
 
 
 # --- noise figure, groups, SNR, converter, DC (issue 3) ------------------------------
-MECHANISMS = {"thermal", "shot", "excess", "amplifier-voltage", "amplifier-current", "source"}  # fixed by issue 3
+MECHANISMS = {
+    "thermal",
+    "shot",
+    "excess",
+    "amplifier-voltage",
+    "amplifier-current",
+    "source",
+    "flicker",
+    "channel-thermal",
+}  # issues 3 and 11
 
 
 @pytest.mark.parametrize("build", [samples.white, samples.resistors, samples.rc_unbounded, samples.many])

@@ -47,17 +47,24 @@ BAD = [
     Bad("source extra", "t\nV1 a 0 1 2\n", "unexpected extra field '2' on V1", 2, 10),
     Bad("instance without subckt", "t\nX1\n", "X1 is missing its subcircuit name", 2, 3),
     # ---- element letters outside the subset
-    Bad("diode", "t\nD1 a 0 dmod\n", "diodes are not supported", 2, 1),
-    Bad("bjt", "t\nQ1 c b e npn\n", "bipolar transistors are not supported", 2, 1),
-    Bad("mosfet", "t\nM1 d g s b nmos\n", "MOS transistors are not supported", 2, 1),
-    Bad("jfet", "t\nJ1 d g s jmod\n", "junction FETs are not supported", 2, 1),
+    Bad("mesfet", "t\nZ1 d g s zmod\n", "MESFETs are not supported", 2, 1),
+    # ---- device lines
+    Bad("diode without model", "t\nD1 a 0\n", "D1 is missing its model name", 2, 7),
+    Bad("diode three nodes", "t\nD1 a b c dmod\n", "D1 connects 3 node(s) before its model 'dmod'; it takes 2", 2, 10),
+    Bad("diode option", "t\nD1 a 0 dmod foo=1\n", "D1: 'foo=' is not an option of this element", 2, 13),
+    Bad("diode two areas", "t\nD1 a 0 dmod 2 3\n", "unexpected extra field '3' on D1", 2, 15),
+    Bad("device tolerance", "t\nD1 a 0 dmod tolerance=5%\n", "D1: tolerance= applies to an element's value", 2, 13),
     Bad("behavioural B", "t\nB1 a 0 V={2*v(b)}\n", "behavioural sources are not supported", 2, 1),
     Bad("behavioural E", "t\nE1 a 0 value={2}\n", "behavioural sources are not supported", 2, 8),
-    Bad("poly", "t\nE1 a 0 POLY(1) b 0 1\n", "POLY forms are not supported", 2, 8),
+    Bad("poly on a resistor", "t\nR1 a 0 POLY(1) b 0 1\n", "POLY forms are not supported", 2, 8),
+    Bad("poly controls short", "t\nE1 a 0 POLY(2) b 0 1\n", "E1: POLY(2) needs 2 controlling node pairs", 2, 21),
+    Bad("poly dimension", "t\nG1 a 0 POLY(x) b 0 1\n", "POLY(n) takes a whole number of controls", 2, 8),
     Bad("unknown letter", "t\nY1 a b 1\n", "element letter 'Y' is not supported", 2, 1),
     # ---- dot-cards
     Bad("unknown card", "t\n.transient 1n 1u\n", "unknown dot-card '.transient'", 2, 1),
-    Bad("diode model card", "t\n.model dmod d\n", ".model dmod: diode models are not supported", 2, 13),
+    Bad(
+        "device model bare parameter", "t\n.model dmod d is\n", "expected a name=value parameter on .model dmod", 2, 15
+    ),
     Bad("param without value", "t\n.param x\n", "the line ends too early; expected '='", 2, 9),
     Bad("param bad start", "t\n.param 1=2\n", "'1' is not allowed here", 2, 8),
     Bad("include without file", "t\n.include\n", ".include is missing its file name", 2, 9),
@@ -296,13 +303,7 @@ BAD = [
     # ---- amplifier models
     Bad("model unknown parameter", "t\n.model m opamp(en=1n foo=2)\n", "an opamp model has no parameter 'foo'", 2, 22),
     Bad("model unknown parameter, no parens", "t\n.model m opamp gain=2\n", "no parameter 'gain'", 2, 16),
-    Bad(
-        "transistor model",
-        "t\n.model q1 npn(bf=100)\n",
-        ".model q1: bipolar transistor models are not supported",
-        2,
-        11,
-    ),
+    Bad("device model twice", "t\n.model q1 npn(bf=100 BF=50)\n", "parameter 'BF' is given twice", 2, 22),
     Bad("unknown model type", "t\n.model x weird\n", "model type 'weird' is not supported", 2, 10),
     Bad("model without type", "t\n.model m\n", ".model is missing its model type", 2, 9),
     Bad(

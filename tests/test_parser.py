@@ -293,8 +293,8 @@ def test_errors_in_plain_lines_point_at_the_word():
     assert "C7 is missing its second node" in str(missing.value)
     assert (missing.value.location.line, missing.value.location.column) == (2, 5)
     with pytest.raises(NetlistError) as letter:
-        parse_statements("t\nQ1 c b e\n")
-    assert "bipolar transistors are not supported" in str(letter.value)
+        parse_statements("t\nZ1 c b e\n")
+    assert "MESFETs are not supported" in str(letter.value)
 
 
 # ---- resistor options (issue 3)

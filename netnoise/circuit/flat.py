@@ -27,6 +27,7 @@ from functools import cached_property
 
 from netnoise.circuit.elements.amplifier import OpAmp, OpAmpModel
 from netnoise.circuit.elements.base import Element
+from netnoise.circuit.elements.bipolar import Bipolar
 from netnoise.circuit.elements.capacitor import Capacitor
 from netnoise.circuit.elements.controlled import (
     CurrentControlledCurrentSource,
@@ -35,8 +36,11 @@ from netnoise.circuit.elements.controlled import (
     VoltageControlledVoltageSource,
 )
 from netnoise.circuit.elements.coupling import MutualCoupling
+from netnoise.circuit.elements.diode import Diode
 from netnoise.circuit.elements.inductor import Inductor
+from netnoise.circuit.elements.jfet import JunctionFet
 from netnoise.circuit.elements.lossy_capacitor import LossyCapacitor
+from netnoise.circuit.elements.mosfet import Mosfet
 from netnoise.circuit.elements.resistor import Resistor
 from netnoise.circuit.elements.sources import CurrentSource, NoiseSpec, VoltageSource
 from netnoise.constants import GROUND, canonical_node
@@ -60,6 +64,10 @@ __all__ = [
     "NoiseSpec",
     "OpAmpModel",
     "OpAmp",
+    "Diode",
+    "Bipolar",
+    "JunctionFet",
+    "Mosfet",
     "Sweep",
     "NoiseCard",
     "ValueOrigin",

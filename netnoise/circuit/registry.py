@@ -10,6 +10,7 @@ from __future__ import annotations
 
 from netnoise.circuit.elements.amplifier import OpAmp
 from netnoise.circuit.elements.base import Element
+from netnoise.circuit.elements.bipolar import Bipolar
 from netnoise.circuit.elements.capacitor import Capacitor
 from netnoise.circuit.elements.controlled import (
     CurrentControlledCurrentSource,
@@ -18,8 +19,12 @@ from netnoise.circuit.elements.controlled import (
     VoltageControlledVoltageSource,
 )
 from netnoise.circuit.elements.coupling import MutualCoupling
+from netnoise.circuit.elements.diode import Diode
 from netnoise.circuit.elements.inductor import Inductor
+from netnoise.circuit.elements.jfet import JunctionFet
 from netnoise.circuit.elements.lossy_capacitor import LossyCapacitor
+from netnoise.circuit.elements.mosfet import Mosfet
+from netnoise.circuit.elements.polynomial import PolyCCCS, PolyCCVS, PolyVCCS, PolyVCVS
 from netnoise.circuit.elements.resistor import Resistor
 from netnoise.circuit.elements.sources import CurrentSource, VoltageSource
 
@@ -38,6 +43,14 @@ KINDS: tuple[type[Element], ...] = (
     CurrentControlledVoltageSource,
     OpAmp,
     LossyCapacitor,
+    Diode,
+    Bipolar,
+    JunctionFet,
+    Mosfet,
+    PolyVCVS,
+    PolyVCCS,
+    PolyCCCS,
+    PolyCCVS,
 )
 
 _BY_LETTER: dict[str, list[type[Element]]] = {}

@@ -31,6 +31,7 @@ from netnoise.engformat import format_quantity
 from netnoise.engine.integrate import integrate_band
 from netnoise.engine.mna import MnaSystem, assemble
 from netnoise.engine.noise_sources import NoiseSources, collect_noise_sources
+from netnoise.engine.operating_point import NonlinearSolution, biased
 from netnoise.engine.options import SolverOptions
 from netnoise.engine.rails import rail_notes
 from netnoise.engine.resources import require_memory
@@ -190,18 +191,23 @@ class _Problem:
         progress: Callable[[int], None] | None = None,
         system: MnaSystem | None = None,
         options: SolverOptions | None = None,
+        solution: NonlinearSolution | None = None,
     ):
         self.progress = progress
         self.settings = settings
         self.options = options or SolverOptions()
         if system is None:
             check_topology(circuit)
+            # nonlinear elements: linearised at their DC operating point (a linear circuit is returned as it is)
+            circuit, solution = biased(circuit, settings.temperature_K)
         check_element_values(circuit)  # values can change on a refill: checked every time
         if system is None:
             system = assemble(circuit)
         self.system: MnaSystem = system
+        self.solution = solution
         self.selector = self.system.node_pair_vector(settings.output, settings.reference)
-        self.sources: NoiseSources = collect_noise_sources(self.system, settings.temperature_K)
+        dc = None if solution is None else (lambda: solution.x)
+        self.sources: NoiseSources = collect_noise_sources(self.system, settings.temperature_K, dc)
         self.input_vector = None
         self.input_unit = None
         if settings.input_source is not None:
@@ -211,7 +217,8 @@ class _Problem:
         """The same problem for ``circuit``, a copy of this one's circuit with
         other values: topology, ordering and output kept; G, C and the noise
         densities stamped anew."""
-        return _Problem(circuit, self.settings, self.progress, self.system.refilled(circuit), self.options)
+        circuit, solution = biased(circuit, self.settings.temperature_K)
+        return _Problem(circuit, self.settings, self.progress, self.system.refilled(circuit), self.options, solution)
 
     @property
     def has_input(self) -> bool:
@@ -867,7 +874,7 @@ def _noise_figure(problem: _Problem, name: str, variance: np.ndarray, density: n
     if not found or variance[found[0]] <= 0.0:
         raise CircuitError(
             f"the noise figure needs the thermal noise of '{name}' to reach the output, and it does not "
-            "(marked noiseless, or not connected to the signal path)"
+            "(marked quiet, or not connected to the signal path)"
         )
     i = found[0]
     to_t0 = T0_KELVIN / (sources[i].temperature_K or T0_KELVIN)

@@ -39,6 +39,7 @@ from typing import Any
 
 from netnoise import circuit as c
 from netnoise.circuit.elements.amplifier import OpAmp, check_opamp_param
+from netnoise.circuit.elements.base import ModelValues
 from netnoise.constants import ABSOLUTE_ZERO_C, GROUND_ALIASES
 from netnoise.errors import NetlistError, SourceLocation, raise_problems
 from netnoise.netlist.definitions import (
@@ -189,7 +190,7 @@ class _Pending:
     full_name: str
     wanted: type
     what: str
-    slot: str  # 'control_source' or 'inductors0' / 'inductors1'
+    slot: str  # 'control_source', 'inductors0' / 'inductors1', or 'controls<i>' (POLY)
     owner: str
 
 
@@ -221,6 +222,33 @@ class _BuildContext:
 
     def fail(self, message: str, loc: SourceLocation | None, hint: str = "") -> NetlistError:
         return _fail(message, loc, hint)
+
+    def model(self, word: Word, types: tuple[str, ...]) -> ModelValues:
+        """The ``.model`` called ``word`` visible here, of one of ``types``, its
+        values evaluated where it is written (upper-case names)."""
+        found = self.scope.definition.find_model(word.text.lower())
+        wanted = " or ".join(t.upper() for t in types)
+        if found is None:
+            names = [n for n in self.scope.definition.visible_names()]
+            close = difflib.get_close_matches(word.text.lower(), [n.lower() for n in names], n=3)
+            hint = "did you mean " + " or ".join(f"'{n}'" for n in close) + "?" if close else ""
+            raise _fail(
+                f"{self.name}: no .model called '{word.text}'",
+                word.loc,
+                hint or f"add a card: .model {word.text} {types[0].upper()} (param=value ...)",
+            )
+        card, home = found
+        if card.kind not in types:
+            raise _fail(
+                f"{self.name}: model '{word.text}' is a {card.kind.upper()} model; this element takes {wanted}",
+                word.loc,
+                f"the .model is at {_where(card.loc)}",
+            )
+        where: _Scope | None = self.scope
+        while where is not None and where.definition is not home:
+            where = where.parent
+        values = {a.name.upper(): self.engine.number(a.value, where or self.scope) for a in card.params}
+        return ModelValues(card.name.text, card.kind, values, card.loc)
 
     def settle(self, index: int) -> None:
         """The element now has an index: its references are checked once all exist."""
@@ -412,6 +440,12 @@ class _Elaborator:
 
     def opamp(self, statement: Instance, scope: _Scope, model: ModelCard, home: Definition) -> None:
         name = scope.element_prefix + statement.name
+        if model.kind != "opamp":
+            raise _fail(
+                f"{name}: '{model.name.text}' is a {model.kind.upper()} device model, not an amplifier or subcircuit",
+                statement.subckt.loc,
+                "a device model is used by its element letter (D, Q, J, M), not by an X line",
+            )
         if len(statement.nodes) not in (3, 5):
             raise _fail(
                 f"{name} connects {len(statement.nodes)} node(s) but the amplifier "
@@ -551,6 +585,10 @@ class _Elaborator:
             element = self.elements[item.index]
             if item.slot == "control_source":
                 element = dataclasses.replace(element, control_source=target)  # type: ignore[call-arg]
+            elif item.slot.startswith("controls"):  # one of a polynomial source's controlling sources
+                controls = list(element.controls)  # type: ignore[attr-defined]
+                controls[int(item.slot[len("controls") :])] = target
+                element = dataclasses.replace(element, controls=tuple(controls))  # type: ignore[call-arg]
             else:
                 pair = list(element.inductors)  # type: ignore[attr-defined]
                 pair[int(item.slot[-1])] = target

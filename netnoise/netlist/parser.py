@@ -75,10 +75,6 @@ SUPPORTED_LETTERS = LINE_LETTERS
 X_FORM = "Xname node ... subcircuit [param=value ...]  or  Xname in+ in- out opamp_model [param=value ...]"
 
 _UNSUPPORTED = {
-    "D": "diodes are not supported",
-    "Q": "bipolar transistors are not supported",
-    "M": "MOS transistors are not supported",
-    "J": "junction FETs are not supported",
     "Z": "MESFETs are not supported",
     "B": "behavioural sources are not supported",
     "S": "switches are not supported",
@@ -120,9 +116,7 @@ def _check_letter(name_word: Word) -> None:
         raise _fail(
             f"{name}: {reason}",
             name_word.loc,
-            "netnoise reads linear circuits: "
-            + ", ".join(SUPPORTED_LETTERS[:-1])
-            + f" and {SUPPORTED_LETTERS[-1]} lines",
+            "netnoise reads " + ", ".join(SUPPORTED_LETTERS[:-1]) + f" and {SUPPORTED_LETTERS[-1]} lines",
         )
 
 
@@ -134,9 +128,21 @@ def _element_statement(name_word: Word, items: list[Field]) -> Statement:
     if marks:
         items = [item for item in items if item not in marks]
     line = LineReader(name_word, items, forms(letter))
-    statement = kind_for_line(letter, line.has_key).parse(line)
+
+    def selects(key: str) -> bool:  # a kind's selector: a key=value field, or a call such as POLY(n)
+        calls = (glued_call(i) if isinstance(i, Word) else i for i in items)  # POLY(2): one word, glued
+        return line.has_key(key) or any(isinstance(i, Call) and i.name.lower() == key for i in calls)
+
+    kind = kind_for_line(letter, selects)
+    statement = kind.parse(line)
     if not marks:
         return statement
+    if kind.value_field is None:
+        raise _fail(
+            f"{name_word.text}: {TOLERANCE_KEY}= applies to an element's value, and this element has none",
+            marks[0].loc,
+            "give a model parameter a tolerance through a .param it uses",
+        )
     if len(marks) > 1:
         raise _fail(f"{name_word.text} has two {TOLERANCE_KEY}= values", marks[1].loc)
     return Toleranced(statement, _tolerance(marks[0], name_word.text), marks[0].loc)
@@ -287,6 +293,7 @@ def _card(tree: Tree, fields: FieldReader) -> Statement:
     if name in SET_ASIDE_CARDS:
         return SetAsideCard(name, loc)
     if name == ".op":
+        card.done(".op")
         return OperatingPointCard(loc)
     if name in (".ic", ".nodeset"):
         return _initial(card)
@@ -468,16 +475,9 @@ def _noise(card: _Card) -> NoiseCard:
     return NoiseCard(output, reference, source, sweep, card.loc, summary)  # type: ignore[arg-type]
 
 
-_MODEL_FORM = ".model NAME opamp [(] en=... in=... aol=... gbw=... [)]"
-_MODEL_TYPES_REFUSED = {
-    "d": "diode",
-    "npn": "bipolar transistor",
-    "pnp": "bipolar transistor",
-    "nmos": "MOS transistor",
-    "pmos": "MOS transistor",
-    "njf": "junction FET",
-    "pjf": "junction FET",
-}
+_MODEL_FORM = ".model NAME opamp|D|NPN|PNP|NJF|PJF|NMOS|PMOS [(] param=value ... [)]"
+# device model types and the element letter that uses them (their parameters are checked by the kind)
+DEVICE_MODEL_TYPES = {"d": "D", "npn": "Q", "pnp": "Q", "njf": "J", "pjf": "J", "nmos": "M", "pmos": "M"}
 
 
 def _model(card: _Card) -> ModelCard:
@@ -495,13 +495,12 @@ def _model(card: _Card) -> ModelCard:
         raise _fail(
             f"expected the model type here, not {describe(kind_item)}", kind_item.loc, f"the form is: {_MODEL_FORM}"
         )
-    if kind.lower() != "opamp":
-        what = _MODEL_TYPES_REFUSED.get(kind.lower())
-        reason = f"{what} models are not supported" if what else f"model type '{shown(kind)}' is not supported"
+    device = kind.lower() in DEVICE_MODEL_TYPES
+    if kind.lower() != "opamp" and not device:
         raise _fail(
-            f".model {shown(name.text)}: {reason}",
+            f".model {shown(name.text)}: model type '{shown(kind)}' is not supported",
             kind_loc,
-            "netnoise has amplifier models only: .model NAME opamp (en=... gbw=...)",
+            "netnoise reads amplifier models (opamp) and the device models D, NPN, PNP, NJF, PJF, NMOS and PMOS",
         )
     while card.peek() is not None:
         raw_params.append(card.take("parameter", _MODEL_FORM))
@@ -513,16 +512,17 @@ def _model(card: _Card) -> ModelCard:
             raise _fail(
                 f"expected a name=value parameter on {owner}, not {describe(item)}",
                 item.loc,
-                f"its parameters: {opamp_param_list()}",
+                "write each model parameter as NAME=value" if device else f"its parameters: {opamp_param_list()}",
             )
         assignment = as_assignment(item, f"on {owner}")
-        check_opamp_param(assignment, owner)
+        if not device:
+            check_opamp_param(assignment, owner)
         key = assignment.name.lower()
         if key in seen:
             raise _fail(f"{owner}: parameter '{assignment.name}' is given twice", item.loc)
         seen.add(key)
         params.append(assignment)
-    return ModelCard(name, "opamp", tuple(params), card.loc)
+    return ModelCard(name, kind.lower() if device else "opamp", tuple(params), card.loc)
 
 
 def _param_card(tree: Tree, source: SourceText) -> ParamCard:

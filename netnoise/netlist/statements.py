@@ -74,10 +74,11 @@ class Instance:
 
 @dataclass(frozen=True)
 class ModelCard:
-    """``.model NAME opamp [(] param=value ... [)]`` (only amplifier models)."""
+    """``.model NAME TYPE [(] param=value ... [)]``: an amplifier (``opamp``)
+    or a device model (``d``, ``npn``, ``pnp``, ``njf``, ``pjf``, ``nmos``, ``pmos``)."""
 
     name: Word
-    kind: str  # lower case: 'opamp'
+    kind: str  # lower case: 'opamp', 'd', 'npn', ...
     params: tuple[Assignment, ...]
     loc: SourceLocation = field(compare=False)
 

@@ -13,6 +13,10 @@ within each.
   parallel with it (Johnson 1928; Nyquist 1928).
 * ``excess`` -- a resistor's 1/f current noise from its noise index.
 * ``shot`` -- 2q|I| of a junction current (Schottky 1918).
+* ``flicker`` -- a semiconductor's 1/f noise KF·|I|^AF/f of a junction or
+  channel current (the model card's KF and AF).
+* ``channel-thermal`` -- the thermal noise of a field-effect transistor's
+  channel, 8kT·gm/3 in saturation (van der Ziel 1962, long channel).
 * ``source`` -- an explicit density given to an independent V or I source.
 * ``amplifier-voltage`` / ``amplifier-current`` -- an amplifier's input
   voltage noise and the current noise of each input.
@@ -32,6 +36,8 @@ __all__ = [
     "EXCESS",
     "SHOT",
     "SOURCE",
+    "FLICKER",
+    "CHANNEL_THERMAL",
     "AMPLIFIER_VOLTAGE",
     "AMPLIFIER_CURRENT",
     "MECHANISMS",
@@ -50,9 +56,21 @@ SHOT = "shot"
 SOURCE = "source"
 AMPLIFIER_VOLTAGE = "amplifier-voltage"
 AMPLIFIER_CURRENT = "amplifier-current"
-MECHANISMS = (THERMAL, EXCESS, SHOT, SOURCE, AMPLIFIER_VOLTAGE, AMPLIFIER_CURRENT)
-# the order of budget rows: the amplifier's voltage and current rows stay together per amplifier
-ROW_ORDER = {THERMAL: 0, EXCESS: 1, SHOT: 2, SOURCE: 3, AMPLIFIER_VOLTAGE: 4, AMPLIFIER_CURRENT: 4}
+FLICKER = "flicker"
+CHANNEL_THERMAL = "channel-thermal"
+MECHANISMS = (THERMAL, EXCESS, SHOT, SOURCE, AMPLIFIER_VOLTAGE, AMPLIFIER_CURRENT, FLICKER, CHANNEL_THERMAL)
+# the order of budget rows: the amplifier's voltage and current rows stay together per amplifier;
+# a device's own rows (channel, shot, flicker) stay together after the resistances
+ROW_ORDER = {
+    THERMAL: 0,
+    EXCESS: 1,
+    CHANNEL_THERMAL: 2,
+    SHOT: 2,
+    FLICKER: 2,
+    SOURCE: 3,
+    AMPLIFIER_VOLTAGE: 4,
+    AMPLIFIER_CURRENT: 4,
+}
 
 
 @dataclass(frozen=True)

@@ -35,7 +35,9 @@ Keys present only when asked for (:func:`result_to_dict` arguments)::
             "quantisation_rms_V", "ideal_snr_dB", "analog_rms_V", "analog_snr_dB",
             "combined_snr_dB", "enob_bits", "floor_set_by"},   # "analog chain"|"converter"
     "operating_point": {"node_voltages_V": {node: V}, "element_currents_A": {name: A},
-                        "element_voltages_V": {name: V}},
+                        "element_voltages_V": {name: V},
+                        "devices": {name: {quantity_unit: value}},   # diodes and transistors only
+                        "solved_by": "Newton"|"gmin stepping"|"source stepping"},
     "response": {...}, "sensitivities": [...]   # see netnoise.outputs.study_export
 
 Shares sum to 1 (unless the circuit has no noise at all, when every share is
@@ -229,6 +231,8 @@ def _operating_point(op: OperatingPoint) -> dict[str, Any]:
         "node_voltages_V": {k: float(v) for k, v in op.node_voltages.items()},
         "element_currents_A": {k: float(v) for k, v in op.element_currents.items()},
         "element_voltages_V": {k: float(v) for k, v in op.element_voltages.items()},
+        **({"devices": {name: dict(values) for name, values in op.devices.items()}} if op.devices else {}),
+        **({"solved_by": op.method} if op.method else {}),
     }
 
 

@@ -365,8 +365,74 @@ def _operating_point(op: OperatingPoint) -> list[str]:
         lines.append(f"    {header[0]:<{widths[0]}}  {header[1]:>{widths[1]}}  {header[2]:>{widths[2]}}")
         lines.append("    " + "  ".join(_RULE * w for w in widths))
         lines.extend(f"    {a:<{widths[0]}}  {b:>{widths[1]}}  {c:>{widths[2]}}" for a, b, c in rows)
+    lines += _devices(op)
     if len(lines) == 3:
         lines.append("  (no nodes besides ground)")
+    return lines
+
+
+# the device quantities of the operating point, as the report names them
+_DEVICE_LABELS = {
+    "current": "I",
+    "junction_voltage": "V",
+    "conductance": "g",
+    "resistance": "r_d",
+    "capacitance": "C",
+    "collector_current": "Ic",
+    "base_current": "Ib",
+    "base_emitter": "Vbe",
+    "collector_emitter": "Vce",
+    "current_gain": "β",
+    "drain_current": "Id",
+    "gate_current": "Ig",
+    "gate_source": "Vgs",
+    "drain_source": "Vds",
+    "threshold": "Vth",
+    "transconductance": "gm",
+    "body_transconductance": "gmb",
+    "r_pi": "rπ",
+    "output_resistance": "ro",
+    "base_resistance": "rb",
+    "c_pi": "Cπ",
+    "c_mu": "Cμ",
+    "c_gs": "Cgs",
+    "c_gd": "Cgd",
+    "c_gb": "Cgb",
+}
+_UNIT_SUFFIXES = {"_A": "A", "_V": "V", "_S": "S", "_ohm": "Ω", "_F": "F"}
+
+
+def _device_quantity(key: str, value: float) -> str | None:
+    if key == "temperature_K":
+        return None  # shown once in the heading line
+    for suffix, unit in _UNIT_SUFFIXES.items():
+        if key.endswith(suffix):
+            label = _DEVICE_LABELS.get(key[: -len(suffix)], key[: -len(suffix)])
+            return f"{label} {format_quantity(value, unit, 4)}"
+    return f"{_DEVICE_LABELS.get(key, key)} {value:.4g}"
+
+
+def _devices(op: OperatingPoint) -> list[str]:
+    if not op.devices:
+        return []
+    lines = [
+        f"  devices (solved by {op.method}; this is a solution of the nonlinear equations: a circuit with",
+        "  several stable states, such as a latch, has others)",
+    ]
+    for name, values in op.devices.items():
+        head = f"    {name}"
+        if "temperature_K" in values:
+            head += f"  at {celsius(values['temperature_K']):.2f} °C"
+        lines.append(head)
+        parts = [text for key, value in values.items() if (text := _device_quantity(key, value)) is not None]
+        line = "     "
+        for part in parts:
+            if len(line) + len(part) + 3 > 78 and line.strip():
+                lines.append(line.rstrip())
+                line = "     "
+            line += " " + part + "  "
+        if line.strip():
+            lines.append(line.rstrip())
     return lines
 
 

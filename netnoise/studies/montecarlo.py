@@ -231,14 +231,21 @@ def _trial_circuit(model: _Model, values: np.ndarray, temperature_K: float) -> c
     return circuit.at_temperature(float(temperature_K) - ZERO_CELSIUS_K)
 
 
+def _biased(circuit: ck.Circuit, temperature_K: float):
+    """The trial circuit with its diodes and transistors biased at the trial's own operating point."""
+    from netnoise.engine.operating_point import biased
+
+    return biased(circuit, float(temperature_K))
+
+
 def _trial_problem(model: _Model, values: np.ndarray, temperature_K: float):
     """The engine's full per-circuit state for one trial (the "full" mode)."""
     from netnoise.engine.analysis import _Problem
 
     nominal = model.prepared._problem
-    circuit = _trial_circuit(model, values, temperature_K)
+    circuit, solution = _biased(_trial_circuit(model, values, temperature_K), temperature_K)
     settings = dataclasses.replace(nominal.settings, temperature_K=float(temperature_K))
-    return _Problem(circuit, settings, None, nominal.system.refilled(circuit), nominal.options)
+    return _Problem(circuit, settings, None, nominal.system.refilled(circuit), nominal.options, solution)
 
 
 @dataclass(frozen=True, eq=False)
@@ -260,7 +267,7 @@ def _dense_trial(model: _Model, values: np.ndarray, temperature_K: float) -> _Tr
     from netnoise.engine.noise_sources import collect_noise_sources
 
     system = model.prepared.system
-    circuit = _trial_circuit(model, values, temperature_K)
+    circuit, solution = _biased(_trial_circuit(model, values, temperature_K), temperature_K)
     n = system.size
     stamps = _Stamps(circuit, _Layout(system.node_index, system.branch_index, system.internal_index, system.unknowns))
     by_kind: dict[type, list] = {}
@@ -284,7 +291,7 @@ def _dense_trial(model: _Model, values: np.ndarray, temperature_K: float) -> _Tr
     def dc_solution():
         from netnoise.engine.dc import solve_operating_point
 
-        return solve_operating_point(system.refilled(circuit))
+        return solve_operating_point(system.refilled(circuit)) if solution is None else solution.x
 
     sources = collect_noise_sources(view, float(temperature_K), dc_solution)
     return _Trial(dense[0], dense[1], sources.injection.toarray(), sources)

@@ -26,6 +26,7 @@ gain (the DC gain of a low-pass; the peak of a band-pass).
 from __future__ import annotations
 
 import math
+import warnings
 from dataclasses import dataclass
 
 import numpy as np
@@ -155,7 +156,9 @@ def _reduced(
     g11, g12, g21, g22 = gt[:r, :r], gt[:r, r:], gt[r:, :r], gt[r:, r:]
     if g22.size:
         try:
-            lu = la.lu_factor(g22, check_finite=False)
+            with warnings.catch_warnings():  # an exactly singular block is judged by its condition below
+                warnings.simplefilter("ignore", la.LinAlgWarning)
+                lu = la.lu_factor(g22, check_finite=False)
         except (ValueError, np.linalg.LinAlgError):
             return None
         if np.linalg.cond(g22) > 1e13:

@@ -10,6 +10,8 @@ so one extra (forward) solve per frequency serves every element at once
 (the adjoint method; Director and Rohrer, IEEE Trans. Circuit Theory 1969).
 ∂Y/∂p is each element's own stamp differentiated (central difference of
 its stamps, which are smooth in p); ∂S/∂p the same of its noise densities.
+With diodes or transistors a value also moves the operating point: ∂Y/∂p and
+∂S/∂p are then central differences of the whole circuit linearised again.
 The temperature enters through the thermal densities, ∝ T.
 
 Reported as the percent change of the rms total per percent change of the
@@ -31,6 +33,7 @@ from netnoise.engine.analysis import PreparedAnalysis
 from netnoise.engine.integrate import integrate_band
 from netnoise.engine.mna import _Layout, _Stamps
 from netnoise.engine.noise_sources import collect_noise_sources
+from netnoise.engine.operating_point import biased, is_nonlinear
 from netnoise.engine.transfer import solver_for
 
 __all__ = ["Sensitivity", "sensitivities", "TEMPERATURE"]
@@ -69,15 +72,42 @@ def _stamp_entries(element: Element, stamps: _Stamps):
     return out
 
 
-def _derivative_stamps(elements: list[Element], stamps: _Stamps, n: int):
-    """Stacked p·∂G/∂p and p·∂C/∂p of every element: (rows, cols, values, element index) each."""
+def _rebiased(prepared: PreparedAnalysis, element: Element, factor: float):
+    """The system and DC solution with ``element``'s value times ``factor`` and every
+    diode and transistor biased again at the operating point that value gives."""
+    problem = prepared.problem
+    p = float(element.primary_value or 0.0)
+    changed = problem.system.circuit.with_values({element.name: p * factor})
+    circuit, solution = biased(changed, problem.settings.temperature_K)
+    return problem.system.refilled(circuit), solution
+
+
+def _fixed(x: np.ndarray):
+    """A DC solution already found, as the noise collection asks for it."""
+    return lambda: x
+
+
+def _system_entries(system) -> list[tuple[np.ndarray, np.ndarray, np.ndarray]]:
+    out = []
+    for m in (system.G.tocoo(), system.C.tocoo()):
+        out.append((m.row, m.col, m.data))
+    return out
+
+
+def _derivative_stamps(elements: list[Element], stamps: _Stamps, n: int, prepared: PreparedAnalysis | None = None):
+    """Stacked p·∂G/∂p and p·∂C/∂p of every element: (rows, cols, values, element index) each.
+    With diodes or transistors (``prepared`` given), the whole linearised system's change:
+    a value moves the operating point and with it every device's small-signal model."""
     parts: dict[str, list[tuple[np.ndarray, np.ndarray, np.ndarray, np.ndarray]]] = {"G": [], "C": []}
     for index, element in enumerate(elements):
         p = float(element.primary_value or 0.0)
-        up, down = element.with_value(p * (1 + _STEP)), element.with_value(p * (1 - _STEP))
-        for (matrix, plus), (_, minus) in zip(
-            zip("GC", _stamp_entries(up, stamps)), zip("GC", _stamp_entries(down, stamps))
-        ):
+        if prepared is not None:
+            entries_up = _system_entries(_rebiased(prepared, element, 1 + _STEP)[0])
+            entries_down = _system_entries(_rebiased(prepared, element, 1 - _STEP)[0])
+        else:
+            up, down = element.with_value(p * (1 + _STEP)), element.with_value(p * (1 - _STEP))
+            entries_up, entries_down = _stamp_entries(up, stamps), _stamp_entries(down, stamps)
+        for (matrix, plus), (_, minus) in zip(zip("GC", entries_up), zip("GC", entries_down)):
             diff = (
                 sp.coo_matrix((plus[2], (plus[0], plus[1])), shape=(n, n))
                 - sp.coo_matrix((minus[2], (minus[0], minus[1])), shape=(n, n))
@@ -100,8 +130,12 @@ def _density_derivatives(prepared: PreparedAnalysis, elements: list[Element]):
         p = float(element.primary_value or 0.0)
         levels: list[tuple[np.ndarray, np.ndarray]] = []
         for factor in (1 + _STEP, 1 - _STEP):
-            changed = base.refilled(circuit.with_values({element.name: p * factor}))
-            sources = collect_noise_sources(changed, t)
+            if is_nonlinear(circuit):  # the devices' noise follows their operating point
+                changed, solution = _rebiased(prepared, element, factor)
+                sources = collect_noise_sources(changed, t, None if solution is None else _fixed(solution.x))
+            else:
+                changed = base.refilled(circuit.with_values({element.name: p * factor}))
+                sources = collect_noise_sources(changed, t)
             if len(sources) != k:  # a source appeared or vanished (a DC voltage through zero)
                 levels = []
                 break
@@ -120,8 +154,11 @@ def noise_sensitivities(prepared: PreparedAnalysis) -> tuple[list[Element], np.n
     elements = [e for e in system.circuit.elements if e.value_field is not None and e.primary_value]
     layout = _Layout(system.node_index, system.branch_index, system.internal_index, system.unknowns)
     stamps = _Stamps(system.circuit, layout)
-    derivs = _derivative_stamps(elements, stamps, system.size)
+    nonlinear = is_nonlinear(system.circuit)
+    derivs = _derivative_stamps(elements, stamps, system.size, prepared if nonlinear else None)
     dw, dflick = _density_derivatives(prepared, elements)
+    if nonlinear:  # the temperature moves the operating point too: a further column, like an element's
+        derivs, dw, dflick = _with_temperature(prepared, derivs, dw, dflick, len(elements))
     sources = problem.sources
     injection = sources.injection.tocsc()
     thermal = np.array(
@@ -132,6 +169,7 @@ def noise_sensitivities(prepared: PreparedAnalysis) -> tuple[list[Element], np.n
     )
     solver = solver_for(system, problem.options)
     count = len(elements)
+    columns = count + 1 if nonlinear else count  # element columns, and the temperature's when it is one
 
     def rows(f: np.ndarray) -> np.ndarray:
         z = solver.solve(problem.selector, f)  # (F, n)
@@ -151,13 +189,14 @@ def noise_sensitivities(prepared: PreparedAnalysis) -> tuple[list[Element], np.n
             term = z[:, r] * val[None, :] * y[:, c]  # (F, entries)
             if scale is not None:
                 term = term * scale[:, None]
-            summed = np.zeros((f.size, count), dtype=complex)
+            summed = np.zeros((f.size, columns), dtype=complex)
             np.add.at(summed.T, e, term.T)
-            out[1 : count + 1] += -2.0 * summed.real.T
+            out[1 : columns + 1] += -2.0 * summed.real.T
         inverse_f = np.where(f > 0, 1.0 / np.where(f > 0, f, 1.0), 0.0)
         flick = dflick[:, :, None] * inverse_f[None, None, :] ** sources.slope[None, :, None]  # (E, K, F)
-        out[1 : count + 1] += np.einsum("ek,fk->ef", dw, power) + np.einsum("ekf,fk->ef", flick, power)
-        out[count + 1] = np.einsum("kf,fk->f", s * thermal[:, None], power)  # T·∂P/∂T: thermal ∝ T
+        out[1 : columns + 1] += np.einsum("ek,fk->ef", dw, power) + np.einsum("ekf,fk->ef", flick, power)
+        if not nonlinear:
+            out[count + 1] = np.einsum("kf,fk->f", s * thermal[:, None], power)  # T·∂P/∂T: thermal ∝ T
         return out
 
     low, high = settings.low, settings.high
@@ -186,6 +225,40 @@ def noise_sensitivities(prepared: PreparedAnalysis) -> tuple[list[Element], np.n
         )
         values = band.values
     return elements, values[1:], float(values[0])
+
+
+def _with_temperature(prepared: PreparedAnalysis, derivs, dw: np.ndarray, dflick: np.ndarray, index: int):
+    """``derivs``, ``dw``, ``dflick`` with T·∂/∂T appended as column ``index``: the circuit biased
+    again at T(1 ± step), its matrices and its noise sources at that temperature."""
+    problem = prepared.problem
+    system, t = problem.system, problem.settings.temperature_K
+    k = len(problem.sources)
+    found = []
+    for factor in (1 + _STEP, 1 - _STEP):
+        circuit, solution = biased(system.circuit, t * factor)
+        changed = system.refilled(circuit)
+        sources = collect_noise_sources(changed, t * factor, None if solution is None else _fixed(solution.x))
+        found.append((_system_entries(changed), sources))
+    n = system.size
+    out = {}
+    for which, matrix in enumerate("GC"):
+        plus, minus = found[0][0][which], found[1][0][which]
+        diff = (
+            sp.coo_matrix((plus[2], (plus[0], plus[1])), shape=(n, n))
+            - sp.coo_matrix((minus[2], (minus[0], minus[1])), shape=(n, n))
+        ).tocoo()
+        r, c, v, e = derivs[matrix]
+        out[matrix] = (
+            np.concatenate([r, diff.row]),
+            np.concatenate([c, diff.col]),
+            np.concatenate([v, diff.data / (2 * _STEP)]),
+            np.concatenate([e, np.full(diff.nnz, index)]).astype(int),
+        )
+    row_w, row_f = np.zeros((1, k)), np.zeros((1, k))
+    if len(found[0][1]) == k and len(found[1][1]) == k:
+        row_w[0] = (found[0][1].white_density - found[1][1].white_density) / (2 * _STEP)
+        row_f[0] = (found[0][1].flicker_at_1Hz - found[1][1].flicker_at_1Hz) / (2 * _STEP)
+    return out, np.vstack([dw, row_w]), np.vstack([dflick, row_f])
 
 
 def _forward(system, f: np.ndarray, v: np.ndarray, options) -> np.ndarray:

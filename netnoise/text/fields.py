@@ -418,9 +418,9 @@ class LineReader:
     def check_unsupported_form(self, item: Field) -> None:
         if isinstance(item, Call) and item.name.lower() == "poly":
             raise _fail(
-                f"{self.name}: POLY forms are not supported",
+                f"{self.name}: POLY forms are not supported here",
                 item.loc,
-                "netnoise takes one linear gain per controlled source",
+                "POLY(n) is read on E, G, F and H lines, right after the output nodes",
             )
         if isinstance(item, Keyed) and item.key.lower() in BEHAVIOURAL_KEYS:
             raise behavioural_refusal(self.name, item.key, item.loc)

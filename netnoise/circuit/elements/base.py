@@ -23,10 +23,23 @@ module of :mod:`netnoise.circuit.elements`, listed once in
 
 The engine asks only these; it never asks which class an element is.
 
-Nonlinear kinds (diodes, transistors) will add ``is_linear = False`` and a
-residual and Jacobian at an operating point (``stamp_nonlinear``); a source
-with a correlated partner will return a small cross-spectral block from
-``noise_correlations``.  Linear kinds inherit the defaults below.
+Nonlinear kinds (diodes, transistors, polynomial sources) set ``is_linear =
+False`` and add
+
+* ``device_nodes()``: the nodes of their nonlinear core, external node names
+  or ``"#label"`` for one of their internal nodes;
+* ``load(v, previous, env)`` -> :class:`DeviceLoad`: the currents the core
+  draws from those nodes and their Jacobian at voltages ``v`` (junction
+  voltages limited from the ``previous`` iterate's), for Newton's method;
+* ``at_operating_point(v, env)`` -> a copy holding its :class:`SmallSignal`
+  model at the solved voltages: its ``stamp`` then adds that linearisation
+  to G and C, and ``noise_sources`` the device noise at that point.
+
+Their ``stamp`` always stamps their linear parts (ohmic resistances), so the
+Newton solver assembles the linear rest of the circuit with the same
+assembler.  A source with a correlated partner will return a small
+cross-spectral block from ``noise_correlations``.  Linear kinds inherit the
+defaults below.
 """
 
 from __future__ import annotations
@@ -55,6 +68,11 @@ __all__ = [
     "parse_passive",
     "multiplier",
     "ignore_initial_condition",
+    "DeviceEnvironment",
+    "DeviceLoad",
+    "DeviceNoise",
+    "SmallSignal",
+    "ModelValues",
 ]
 
 
@@ -102,6 +120,83 @@ class BuildContext(Protocol):
     def refer(self, word: Any, full_name: str, wanted: type, what: str, slot: str) -> None: ...
     def notice(self, text: str, loc: SourceLocation | None = None) -> None: ...
     def fail(self, message: str, loc: SourceLocation | None, hint: str = "") -> Exception: ...
+    def model(self, word: Any, types: tuple[str, ...]) -> ModelValues: ...
+
+
+@dataclass(frozen=True)
+class ModelValues:
+    """A ``.model`` card as a device sees it: its name and type (lower case),
+    its parameters evaluated where the card is written (upper-case names), and
+    where it is."""
+
+    name: str
+    type: str
+    values: dict[str, float]
+    loc: SourceLocation | None = None
+
+
+@dataclass(frozen=True)
+class DeviceEnvironment:
+    """What the Newton solver tells a nonlinear kind: the analysis temperature
+    (K; a device's own ``temp=`` wins) and the conductance put across every
+    junction (S) so that no node is left without a DC path."""
+
+    temperature_K: float
+    gmin: float = 1e-12
+
+
+@dataclass(frozen=True)
+class DeviceLoad:
+    """A nonlinear core linearised at one Newton iterate, over its ``device_nodes``.
+
+    The currents it draws from its nodes (A, out of each node into the
+    device) are ``current + jacobian @ v``: ``jacobian`` (S) is the derivative
+    at the (limited) junction voltages and ``current`` the companion current
+    that makes the line pass through the device's current there.  ``state``:
+    the limited junction voltages, handed back as ``previous`` next time;
+    ``settled``: no voltage had to be limited."""
+
+    current: np.ndarray
+    jacobian: np.ndarray
+    state: np.ndarray
+    settled: bool = True
+
+
+@dataclass(frozen=True)
+class DeviceNoise:
+    """One noise current between device nodes ``a`` and ``b`` (indices into
+    ``device_nodes``; it flows from a to b inside the device): density
+    ``white + flicker_at_1Hz / f^slope`` (A²/Hz); ``label`` completes the
+    budget row's name, ``value``/``unit`` the number that sets it."""
+
+    label: str
+    mechanism: str
+    a: int
+    b: int
+    white: float
+    flicker_at_1Hz: float = 0.0
+    slope: float = 1.0
+    value: float = 0.0
+    unit: str = "A"
+    temperature_K: float | None = None
+
+
+@dataclass(frozen=True)
+class SmallSignal:
+    """A nonlinear core at its operating point, over its ``device_nodes``.
+
+    ``conductance`` (S): the Jacobian of its node currents at the solution;
+    ``capacitors``: (a, b, farads) between device nodes; ``noise``: its
+    noise currents; ``voltages``: the solved node voltages (V);
+    ``summary``: (key, value) pairs for the operating-point report, keys
+    ending in their SI unit (``"collector_current_A"``)."""
+
+    conductance: np.ndarray
+    capacitors: tuple[tuple[int, int, float], ...]
+    noise: tuple[DeviceNoise, ...]
+    voltages: np.ndarray
+    summary: tuple[tuple[str, float], ...]
+    temperature_K: float
 
 
 @dataclass(frozen=True)
@@ -199,6 +294,32 @@ class Element:
     # ---- noise
     def noise_sources(self, n: NoiseView) -> Iterator[NoiseSource]:
         return iter(())
+
+    # ---- nonlinear kinds (is_linear = False)
+    def device_nodes(self) -> tuple[str, ...]:
+        """Nodes of the nonlinear core: node names, ``"#label"`` for an internal one."""
+        return ()
+
+    def device_rows(self, s: Stamper | NoiseView) -> tuple[int, ...]:
+        """Rows of :meth:`device_nodes` in the system (-1: ground)."""
+        return tuple(s.internal(self, n[1:]) if n.startswith("#") else s.node(n) for n in self.device_nodes())
+
+    def load(self, v: np.ndarray, previous: np.ndarray | None, env: DeviceEnvironment) -> DeviceLoad:
+        """The core linearised at node voltages ``v`` (``device_nodes`` order, V)."""
+        raise NotImplementedError(f"{type(self).__name__} is linear")
+
+    def at_operating_point(self, v: np.ndarray, env: DeviceEnvironment) -> Element:
+        """A copy holding its small-signal model at the solved voltages ``v``."""
+        return self
+
+    def without_bias(self) -> Element:
+        """This element without a small-signal model (itself for a linear kind)."""
+        return self
+
+    @property
+    def small_signal(self) -> SmallSignal | None:
+        """The small-signal model a nonlinear kind holds once biased (None: not biased)."""
+        return None
 
     # ---- values
     def with_value(self, value: float) -> Element:
