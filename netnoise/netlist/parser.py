@@ -208,6 +208,7 @@ SUPPORTED_CARDS = (
     ".temp",
     ".ac",
     ".noise",
+    ".op",
     ".title",
     ".options",
     ".end",
