@@ -53,6 +53,8 @@ def test_the_value_from_the_card_and_with_values_and_monte_carlo():
     circuit = netnoise.parse_netlist("t\n.model rdef R (R=10k TC1=1m)\nI1 0 a AC 1\nR1 a 0 rdef\n")
     r1 = circuit.element("R1")
     assert (r1.resistance, r1.tc1) == (10e3, 1e-3)
+    keyed = element("t\n.model rdef R (R=10k TC1=1m)\nR1 a 0 rdef R=2k\n", "R1")
+    assert (keyed.resistance, keyed.tc1) == (2e3, 1e-3)  # the line's keyed value wins
     prepared = netnoise.prepare(circuit, output="a", band=(1.0, 11.0), temperature_celsius=85.0)
     changed = prepared.with_values({"R1": 20e3}).analyze()
     assert changed.total_variance == pytest.approx(4 * K_B * 358.15 * 20e3 * (1 + 1e-3 * 58) * 10.0, rel=1e-7, abs=0)

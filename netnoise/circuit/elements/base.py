@@ -417,6 +417,9 @@ def parse_passive(
             model = line.take("model name")
             continue
         key = item.key.lower() if isinstance(item, Keyed) else ""
+        if value is None and key == cls.letter.lower() and not taken:  # Rname a b MODEL R=10k
+            value = line.keyed_value(item, "value")  # type: ignore[arg-type]
+            continue
         if key not in options:
             line.check_unsupported_form(item)
             raise fail(f"unexpected extra field {describe(item)} on {line.name}", item.loc, hint)
