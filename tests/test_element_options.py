@@ -69,7 +69,7 @@ def test_a_single_tc_value_is_tc1():
 
 
 def test_models_can_supply_resistor_defaults():
-    # the seam a .model NAME R card will use: defaults filled in under the line's own options
+    # the seam a .model NAME R card uses: defaults filled in under the line's own options
     statement = only("t\nR1 a 0 1k tc1=5m\n")
 
     class Ctx:

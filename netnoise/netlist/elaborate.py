@@ -232,6 +232,9 @@ class _BuildContext:
             names = [n for n in self.scope.definition.visible_names()]
             close = difflib.get_close_matches(word.text.lower(), [n.lower() for n in names], n=3)
             hint = "did you mean " + " or ".join(f"'{n}'" for n in close) + "?" if close else ""
+            same = self.models_of(types)
+            if same:
+                hint = (hint + " " if hint else "") + f"{wanted} models here: {', '.join(same[:8])}"
             raise _fail(
                 f"{self.name}: no .model called '{word.text}'",
                 word.loc,
@@ -249,6 +252,19 @@ class _BuildContext:
             where = where.parent
         values = {a.name.upper(): self.engine.number(a.value, where or self.scope) for a in card.params}
         return ModelValues(card.name.text, card.kind, values, card.loc)
+
+    def has_model(self, word: Word) -> bool:
+        """Whether a .model called ``word`` (of any type) is visible here."""
+        return self.scope.definition.find_model(word.text.lower()) is not None
+
+    def models_of(self, types: tuple[str, ...]) -> list[str]:
+        """The names of the visible .model cards of one of ``types``."""
+        names: list[str] = []
+        scope: Definition | None = self.scope.definition
+        while scope is not None:
+            names.extend(m.name.text for m in scope.models.values() if m.kind in types and m.name.text not in names)
+            scope = scope.parent
+        return names
 
     def settle(self, index: int) -> None:
         """The element now has an index: its references are checked once all exist."""

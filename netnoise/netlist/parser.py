@@ -97,7 +97,8 @@ def _plain_element(token: Token, fields: FieldReader) -> Statement:
     name_word, *items = fields.words(token)
     name = name_word.text
     letter = name[0].upper()
-    if letter in "RCL" and len(items) == 3:  # most lines of a large netlist: no options to take
+    # most lines of a large netlist: no options to take (a word in the value's place names a model)
+    if letter in "RCL" and len(items) == 3 and not items[2].text[:1].isalpha():
         what = "value of " + name
         return Passive(letter, name, (items[0], items[1]), as_value(items[2], what), name_word.loc, kind=_PLAIN[letter])
     _check_letter(name_word)
@@ -476,9 +477,20 @@ def _noise(card: _Card) -> NoiseCard:
     return NoiseCard(output, reference, source, sweep, card.loc, summary)  # type: ignore[arg-type]
 
 
-_MODEL_FORM = ".model NAME opamp|D|NPN|PNP|NJF|PJF|NMOS|PMOS [(] param=value ... [)]"
+_MODEL_FORM = ".model NAME opamp|D|NPN|PNP|NJF|PJF|NMOS|PMOS|R|C|L [(] param=value ... [)]"
 # device model types and the element letter that uses them (their parameters are checked by the kind)
-DEVICE_MODEL_TYPES = {"d": "D", "npn": "Q", "pnp": "Q", "njf": "J", "pjf": "J", "nmos": "M", "pmos": "M"}
+DEVICE_MODEL_TYPES = {
+    "d": "D",
+    "npn": "Q",
+    "pnp": "Q",
+    "njf": "J",
+    "pjf": "J",
+    "nmos": "M",
+    "pmos": "M",
+    "r": "R",
+    "c": "C",
+    "l": "L",
+}
 
 
 def _model(card: _Card) -> ModelCard:
@@ -501,7 +513,8 @@ def _model(card: _Card) -> ModelCard:
         raise _fail(
             f".model {shown(name.text)}: model type '{shown(kind)}' is not supported",
             kind_loc,
-            "netnoise reads amplifier models (opamp) and the device models D, NPN, PNP, NJF, PJF, NMOS and PMOS",
+            "netnoise reads amplifier models (opamp), the device models D, NPN, PNP, NJF, PJF, NMOS and PMOS, "
+            "and R, C and L models",
         )
     while card.peek() is not None:
         raw_params.append(card.take("parameter", _MODEL_FORM))

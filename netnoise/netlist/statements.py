@@ -75,7 +75,8 @@ class Instance:
 @dataclass(frozen=True)
 class ModelCard:
     """``.model NAME TYPE [(] param=value ... [)]``: an amplifier (``opamp``)
-    or a device model (``d``, ``npn``, ``pnp``, ``njf``, ``pjf``, ``nmos``, ``pmos``)."""
+    a device model (``d``, ``npn``, ``pnp``, ``njf``, ``pjf``, ``nmos``, ``pmos``)
+    or the defaults of R, C and L lines (``r``, ``c``, ``l``)."""
 
     name: Word
     kind: str  # lower case: 'opamp', 'd', 'npn', ...

@@ -121,6 +121,8 @@ class BuildContext(Protocol):
     def notice(self, text: str, loc: SourceLocation | None = None) -> None: ...
     def fail(self, message: str, loc: SourceLocation | None, hint: str = "") -> Exception: ...
     def model(self, word: Any, types: tuple[str, ...]) -> ModelValues: ...
+    def has_model(self, word: Any) -> bool: ...
+    def models_of(self, types: tuple[str, ...]) -> list[str]: ...
 
 
 @dataclass(frozen=True)
@@ -362,6 +364,7 @@ class Passive:
     quiet: bool = False
     options: tuple[tuple[str, Any], ...] = ()
     kind: Any = field(default=None, compare=False, repr=False)
+    model: Any = None  # Word: the .model NAME R|C|L the line names, None: none
 
     def option(self, key: str) -> Any:
         """The Value (or tuple of Values) of option ``key``, None when the line has none."""
@@ -389,8 +392,12 @@ def parse_passive(
 
     nodes = (line.node("first node"), line.node("second node"))
     item = line.peek()
+    model = None
     if isinstance(item, Keyed) and item.key.lower() == cls.letter.lower():
         value = line.keyed_value(item, "value")
+    elif _model_word(item, flag, retired):  # no value: the model card gives it
+        model = line.take("model name")
+        value = None
     else:
         value = line.value("value")
     quiet = False
@@ -406,7 +413,13 @@ def parse_passive(
             continue
         if retired and word in retired:
             raise fail(f"{line.name}: {retired[word]}", item.loc, hint)
+        if model is None and not taken and not quiet and _model_word(item, flag, retired):
+            model = line.take("model name")
+            continue
         key = item.key.lower() if isinstance(item, Keyed) else ""
+        if value is None and key == cls.letter.lower() and not taken:  # Rname a b MODEL R=10k
+            value = line.keyed_value(item, "value")  # type: ignore[arg-type]
+            continue
         if key not in options:
             line.check_unsupported_form(item)
             raise fail(f"unexpected extra field {describe(item)} on {line.name}", item.loc, hint)
@@ -416,7 +429,86 @@ def parse_passive(
             taken[key] = line.keyed_values(item, options[key])  # type: ignore[arg-type]
         else:
             taken[key] = line.keyed_value(item, options[key])  # type: ignore[arg-type]
-    return Passive(cls.letter, line.name, nodes, value, line.loc, quiet, tuple(taken.items()), kind=cls)
+    return Passive(cls.letter, line.name, nodes, value, line.loc, quiet, tuple(taken.items()), kind=cls, model=model)
+
+
+def _model_word(item: Any, flag: str | None, retired: dict[str, str] | None) -> bool:
+    """A plain word that names a model: starts with a letter, not the flag or a retired keyword."""
+    from netnoise.text.fields import Word
+    from netnoise.text.values import split_value
+
+    if not isinstance(item, Word) or not item.text[:1].isalpha():
+        return False
+    try:
+        split_value(item.text)  # a value (RKM: R47) stays a value
+    except ValueError:
+        pass
+    else:
+        return False
+    word = item.text.lower()
+    return word != flag and not (retired and word in retired)
+
+
+def report_unmodelled(card: ModelValues, used: Any, ctx: BuildContext, also: tuple[str, ...] = ()) -> None:
+    """One notice per card naming its parameters outside ``used`` (and ``also``): read, without effect."""
+    ignored = sorted(k for k in card.values if k not in used and k not in also)
+    if ignored:
+        ctx.notice(
+            f".model {card.name}: parameters read but not modelled, so without effect: {', '.join(ignored)}",
+            card.loc,
+        )
+
+
+# the standard parameters a .model NAME R|C|L card supplies: card name -> option key
+# (the value keyed by its letter; TC1, TC2 of a resistor, common practice)
+PASSIVE_MODEL_PARAMETERS: dict[str, dict[str, str]] = {
+    "r": {"R": "value", "TC1": "tc1", "TC2": "tc2"},
+    "c": {"C": "value"},
+    "l": {"L": "value"},
+}
+
+
+def passive_model(statement: Passive, ctx: BuildContext) -> tuple[float, dict[str, float]]:
+    """The value of an R, C or L line and the defaults its ``.model`` card supplies
+    (option key -> number); the line's own value wins over the card's."""
+    letter = statement.letter.lower()
+    if statement.model is None:
+        return ctx.number(statement.value), {}
+    word = statement.model
+    if not ctx.has_model(word):
+        from netnoise.text.fields import describe
+
+        same = ctx.models_of((letter,))
+        listed = (
+            f"{statement.letter} models here: {', '.join(same[:8])}"
+            if same
+            else "no .model of type " + statement.letter
+        )
+        if statement.value is None:  # in the value's place
+            raise ctx.fail(
+                f"bad value of {ctx.name}: '{word.text}' is not a number, and no .model called '{word.text}' is visible",
+                word.loc,
+                f"to use a parameter, put it in braces: {{{word.text}}}; {listed}",
+            )
+        raise ctx.fail(
+            f"unexpected extra field {describe(word)} on {ctx.name}: no .model called '{word.text}' is visible",
+            word.loc,
+            f"{listed}; the form is: {statement.kind.form}" if statement.kind is not None else listed,
+        )
+    card = ctx.model(word, (letter,))
+    known = PASSIVE_MODEL_PARAMETERS[letter]
+    report_unmodelled(card, known, ctx)
+    defaults = {known[k]: v for k, v in card.values.items() if k in known}
+    card_value = defaults.pop("value", None)
+    if statement.value is not None:
+        return ctx.number(statement.value), defaults
+    if card_value is None:
+        raise ctx.fail(
+            f"{ctx.name} gives no value and its .model {card.name} has no {statement.letter}=",
+            statement.model.loc,
+            f"write the value before the model name, or {statement.letter}=value on the .model card",
+        )
+    return card_value, defaults
 
 
 def multiplier(statement: Passive, ctx: BuildContext) -> float:

@@ -1,6 +1,6 @@
 """C: a capacitance; it adds no noise.
 
-Form: ``Cname node1 node2 value [m=N] [ic=VOLTS]`` (the value may be keyed: ``C=10n``).
+Form: ``Cname node1 node2 [value] [MODEL] [m=N] [ic=VOLTS]`` (the value may be keyed: ``C=10n``).
 ``m``: m equal parts in parallel (C·m); ``ic``: a transient's starting voltage, read
 and ignored with a notice.
 
@@ -21,6 +21,7 @@ from netnoise.circuit.elements.base import (
     ignore_initial_condition,
     multiplier,
     parse_passive,
+    passive_model,
     refuse_negative_reactance,
     value_nodes,
 )
@@ -40,7 +41,7 @@ class Capacitor(TwoTerminal):
     multiplier: float = 1.0
 
     letter: ClassVar[str] = "C"
-    form: ClassVar[str] = "Cname node1 node2 value [m=N] [ic=VOLTS]"
+    form: ClassVar[str] = "Cname node1 node2 [value] [MODEL] [m=N] [ic=VOLTS]"
     value_field: ClassVar[str] = "capacitance"
     unit: ClassVar[str] = "F"
 
@@ -58,7 +59,7 @@ class Capacitor(TwoTerminal):
 
     @classmethod
     def build(cls, statement: Passive, ctx: BuildContext) -> Capacitor:
-        value = ctx.number(statement.value)
+        value, _ = passive_model(statement, ctx)  # its card supplies only the value (C=)
         if not statement.options:
             return cls(ctx.name, value_nodes(ctx, statement), ctx.loc, capacitance=value)
         ignore_initial_condition(statement, ctx)

@@ -1,6 +1,6 @@
 """L: an inductance; it adds no noise; its current is an MNA unknown.
 
-Form: ``Lname node1 node2 value [m=N] [ic=AMPS]`` (the value may be keyed: ``L=1u``).
+Form: ``Lname node1 node2 [value] [MODEL] [m=N] [ic=AMPS]`` (the value may be keyed: ``L=1u``).
 ``m``: m equal parts in parallel (L/m); ``ic``: a transient's starting current, read
 and ignored with a notice.
 
@@ -21,6 +21,7 @@ from netnoise.circuit.elements.base import (
     ignore_initial_condition,
     multiplier,
     parse_passive,
+    passive_model,
     refuse_negative_reactance,
     value_nodes,
 )
@@ -41,7 +42,7 @@ class Inductor(TwoTerminal):
     multiplier: float = 1.0
 
     letter: ClassVar[str] = "L"
-    form: ClassVar[str] = "Lname node1 node2 value [m=N] [ic=AMPS]"
+    form: ClassVar[str] = "Lname node1 node2 [value] [MODEL] [m=N] [ic=AMPS]"
     value_field: ClassVar[str] = "inductance"
     unit: ClassVar[str] = "H"
     branch_count: ClassVar[int] = 1
@@ -60,7 +61,7 @@ class Inductor(TwoTerminal):
 
     @classmethod
     def build(cls, statement: Passive, ctx: BuildContext) -> Inductor:
-        value = ctx.number(statement.value)
+        value, _ = passive_model(statement, ctx)  # its card supplies only the value (L=)
         if not statement.options:
             return cls(ctx.name, value_nodes(ctx, statement), ctx.loc, inductance=value)
         ignore_initial_condition(statement, ctx)

@@ -1,6 +1,6 @@
 """R: a resistance, with its thermal noise and, given a noise index, its excess (1/f) noise.
 
-Form: ``Rname node1 node2 value [quiet] [m=N] [tc1=PER_K] [tc2=PER_K2] [tc=a,b] [temp=CELSIUS] [ni=DB]``
+Form: ``Rname node1 node2 [value] [MODEL] [quiet] [m=N] [tc1=PER_K] [tc2=PER_K2] [tc=a,b] [temp=CELSIUS] [ni=DB]``
 (the value may be keyed: ``R=4k7``).
 
 * ``m``: m equal parts in parallel: R/m in the stamp; for noise m independent
@@ -16,8 +16,9 @@ Form: ``Rname node1 node2 value [quiet] [m=N] [tc1=PER_K] [tc2=PER_K2] [tc=a,b] 
 Stamp: the conductance y = 1/R_eff, G[a,a] += y, G[b,b] += y, G[a,b] -= y, G[b,a] -= y.
 
 The options are read as numbers by :meth:`Resistor.options_from` into
-:class:`ResistorOptions`; a future ``.model NAME R (...)`` card supplies its defaults by
-passing them as ``defaults`` there (the line's own options win).
+:class:`ResistorOptions`; a ``.model MODEL R (R=... TC1=... TC2=...)`` card named on the
+line supplies the value when the line gives none and tc1, tc2 as ``defaults`` there (the
+line's own value and options win; other card parameters are listed once in a notice).
 """
 
 from __future__ import annotations
@@ -38,6 +39,7 @@ from netnoise.circuit.elements.base import (
     TwoTerminal,
     multiplier,
     parse_passive,
+    passive_model,
     value_nodes,
 )
 from netnoise.circuit.limits import RESISTANCE_RANGE
@@ -115,7 +117,7 @@ class Resistor(TwoTerminal):
 
     letter: ClassVar[str] = "R"
     form: ClassVar[str] = (
-        "Rname node1 node2 value [quiet] [m=N] [tc1=PER_K] [tc2=PER_K2] [tc=tc1,tc2] [temp=CELSIUS] [ni=DB]"
+        "Rname node1 node2 [value] [MODEL] [quiet] [m=N] [tc1=PER_K] [tc2=PER_K2] [tc=tc1,tc2] [temp=CELSIUS] [ni=DB]"
     )
     value_field: ClassVar[str] = "resistance"
     unit: ClassVar[str] = "Ω"
@@ -189,14 +191,14 @@ class Resistor(TwoTerminal):
     @classmethod
     def build(cls, statement: Passive, ctx: BuildContext) -> Resistor:
         nodes = value_nodes(ctx, statement)
-        value = ctx.number(statement.value)
-        if statement.value.number is not None and value < 1.0:
+        value, defaults = passive_model(statement, ctx)
+        if statement.value is not None and statement.value.number is not None and value < 1.0:
             notice = milli_slip_notice(ctx.name, statement.value.text, value)
             if notice:
                 ctx.notice(notice, statement.value.loc)
-        if not statement.options and not statement.quiet:  # most lines: no options to read
+        if not statement.options and not statement.quiet and not defaults:  # most lines: no options to read
             return cls(ctx.name, nodes, ctx.loc, resistance=value)
-        return cls.with_options(ctx.name, nodes, ctx.loc, value, cls.options_from(statement, ctx))
+        return cls.with_options(ctx.name, nodes, ctx.loc, value, cls.options_from(statement, ctx, defaults))
 
     @classmethod
     def with_options(cls, name: str, nodes: tuple[str, str], origin: Any, value: float, o: ResistorOptions) -> Resistor:

@@ -36,6 +36,7 @@ from netnoise.circuit.elements.base import (
     NoiseView,
     SmallSignal,
     Stamper,
+    report_unmodelled,
 )
 from netnoise.constants import (
     ABSOLUTE_ZERO_C,
@@ -248,12 +249,7 @@ class Semiconductor(Element):
                 f"netnoise computes level 1 {cls.__name__} models; remove LEVEL= or write LEVEL=1",
             )
         known = {k: v for k, v in card.values.items() if k in cls.defaults}
-        ignored = sorted(k for k in card.values if k not in cls.defaults and k != "LEVEL")
-        if ignored:
-            ctx.notice(
-                f".model {card.name}: parameters read but not modelled, so without effect: {', '.join(ignored)}",
-                card.loc,
-            )
+        report_unmodelled(card, cls.defaults, ctx, also=("LEVEL",))
         values = dict(cls.defaults)
         values.update(known)
         options = {key: (ctx.number(value), loc) for key, value, loc in statement.options}
