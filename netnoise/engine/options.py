@@ -18,7 +18,10 @@ class SolverOptions:
 
     ``method``: "dense", "banded" or "sparse" to force a path of the adjoint
     solver, None to let the circuit's size and structure decide.
-    ``dense_limit``: unknowns up to which the dense batched path is taken.
+    ``dense_limit``: unknowns up to which the dense batched path may be chosen
+    (it is always below 40 unknowns; above 40, only when its estimated cost beats
+    the banded or sparse path's); above it no dense matrix is formed unless
+    ``method`` forces it.  0: never dense unless forced.
     ``exact_limit``: unknowns up to which the total to infinite bandwidth is
     exact (dense QZ, O(n³)); beyond it, quadrature plus an analytic tail.
     ``rtol``: the band integrator's relative tolerance on its error estimate.

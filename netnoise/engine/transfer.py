@@ -6,12 +6,15 @@ transpose, not conjugate).  One solve per frequency therefore gives the
 gain from *every* noise source (Rohrer, Nagel, Meyer and Weber, IEEE JSSC
 1971).
 
-Three paths with the same result, chosen by size and structure once per
-circuit (:class:`AdjointSolver`, cached per system and :class:`~netnoise.engine.options.SolverOptions`):
+Three paths with the same result, chosen by structure once per circuit
+(:class:`AdjointSolver`, cached per system and :class:`~netnoise.engine.options.SolverOptions`):
 
-* ``dense``: up to ``SolverOptions.dense_limit`` unknowns, batched across frequency
-  (numpy's stacked LU solve), in chunks bounded in memory;
-* ``banded``: a large circuit whose reverse Cuthill–McKee ordering has a
+* ``dense``: batched across frequency (numpy's stacked LU solve), in chunks
+  bounded in memory.  Taken below 40 unknowns whatever the structure, and up to
+  ``SolverOptions.dense_limit`` unknowns when a cost model on the reverse
+  Cuthill–McKee bandwidth and the nonzero count finds it quicker than the
+  banded or sparse path (a network with most nodes coupled); never above;
+* ``banded``: a sparse circuit whose reverse Cuthill–McKee ordering has a
   narrow band (ladders, chains, lines): LAPACK ``zgbsv`` on the band,
   O(n·bandwidth²) per frequency;
 * ``sparse``: SuperLU.  The fill-reducing ordering (minimum degree on
@@ -54,6 +57,18 @@ RCOND_MIN = 1e-13  # estimated reciprocal condition number (equilibrated) below 
 _CHUNK_BYTES = 4 * 2**20
 _CHUNK_MIN_FREQUENCIES = 4
 _BAND_ALWAYS = 16  # kl + ku up to which the banded path is taken without comparing costs
+# The path by structure (issue 16).  Seconds per frequency of each path, fitted to solves of RC
+# ladders, meshes, random sparse networks and networks with every node coupled, 12..300 unknowns,
+# 361 frequencies, setup included (benchmarks/README.md, "Path by structure and start-up"):
+#   dense   ~ 5 µs + 0.4 ns·n³              (batched LU; 32 unknowns 20 µs, 77 unknowns 94 µs)
+#   banded  ~ 40 µs + 1.3 ns·n·(kl+1)·(kl+ku+1)   (one LAPACK call per frequency and its Python)
+#   sparse  ~ 100 µs + 3 ns·nnz²/n          (SuperLU; nnz²/n ~ the fill's flops: n³ when dense)
+# Below _DENSE_ALWAYS unknowns even a tridiagonal system is quicker dense (32 unknowns: 20 µs
+# dense, 40 µs banded), so the structure is not analysed there (no graph ordering, no scipy).
+_DENSE_ALWAYS = 40
+_DENSE_COST = (5e-6, 0.4e-9)
+_BANDED_COST = (40e-6, 1.3e-9)
+_SPARSE_COST = (100e-6, 3e-9)
 _PIVOT_THRESHOLD = 0.1  # SuperLU threshold partial pivoting (1.0 = classical partial pivoting)
 _GAIN_CHUNK = 32  # frequencies per block when gathering source gains
 
@@ -238,9 +253,8 @@ class AdjointSolver:
         self._probe = _probe(self.n)
         self._probe_norm = float(np.abs(self._probe).max(initial=0.0))
         self._superlu_order: np.ndarray | None = None
-        if (self.n <= options.dense_limit and forced is None) or forced == "dense":
-            self.method = "dense"
-            self._dense_pattern = _Pattern(system.G.T, system.C.T)
+        if forced == "dense" or (forced is None and self.n <= min(options.dense_limit, _DENSE_ALWAYS)):
+            self._use_dense(_Pattern(system.G.T, system.C.T))
             return
         from scipy.sparse.csgraph import reverse_cuthill_mckee
 
@@ -258,6 +272,14 @@ class AdjointSolver:
         # SuperLU's cost is only known after a factorisation; on MNA patterns its fill is
         # rarely below ~5 entries per unknown and its per-column overhead is ~1000 flops
         narrow = kl + ku <= _BAND_ALWAYS or band_flops <= 1000 * self.n
+        if forced is None and self.n <= options.dense_limit:
+            # between _DENSE_ALWAYS and dense_limit: dense when the cost model says it is quicker
+            # than the path the structure would take (a network with most nodes coupled)
+            fixed, per = _BANDED_COST if narrow else _SPARSE_COST
+            other = fixed + per * (band_flops if narrow else plain.rows.size**2 / self.n)
+            if _DENSE_COST[0] + _DENSE_COST[1] * float(self.n) ** 3 <= other:
+                self._use_dense(plain)
+                return
         if (narrow and forced is None) or forced == "banded":
             self.method = "banded"
             require_memory(band_bytes, f"the banded LU of {self.n} unknowns (bandwidth {kl}+{ku})")
@@ -285,6 +307,10 @@ class AdjointSolver:
             self._pattern = plain
             self._plain = plain
             self._system = system
+
+    def _use_dense(self, pattern: _Pattern) -> None:
+        self.method = "dense"
+        self._dense_pattern = pattern
 
     # -- public --------------------------------------------------------------
     def solve(self, selector: np.ndarray, frequency_Hz: np.ndarray, progress=None) -> np.ndarray:
