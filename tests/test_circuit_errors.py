@@ -163,3 +163,28 @@ def test_circuit_problem_gets_one_clear_message(tmp_path, capsys, case, body, ar
     for fragment in fragments:
         assert fragment in err, f"{fragment!r} missing from: {err}"
     assert "nan" not in captured.out.lower()
+
+
+def test_nodes_cut_off_from_ground_found_alike_by_union_find_and_by_the_graph_routine(monkeypatch):
+    # the small-circuit union-find and the large-circuit scipy.sparse.csgraph branch of the same
+    # check, on one random graph, against a breadth-first search written here (reference computation)
+    import random
+
+    from netnoise.circuit import topology
+
+    rng = random.Random(5)
+    nodes = tuple(f"n{i}" for i in range(300))
+    edges = [(rng.choice(nodes + ("0",)), rng.choice(nodes)) for _ in range(260)]
+    reach, todo = {"0"}, ["0"]
+    while todo:
+        here = todo.pop()
+        for a, b in edges:
+            for x, y in ((a, b), (b, a)):
+                if x == here and y not in reach:
+                    reach.add(y)
+                    todo.append(y)
+    expected = [node for node in nodes if node not in reach]
+    assert expected  # the graph does leave some nodes apart
+    assert topology._cut_off_from_ground(nodes, edges) == expected
+    monkeypatch.setattr(topology, "_SMALL_GRAPH", 0)
+    assert topology._cut_off_from_ground(nodes, edges) == expected

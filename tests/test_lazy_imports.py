@@ -94,3 +94,49 @@ def test_every_lazy_name_is_public_and_every_public_name_resolves():
     assert set(netnoise._LAZY) <= set(netnoise.__all__)
     for name in netnoise.__all__:
         assert getattr(netnoise, name) is not None
+
+
+def test_a_small_circuit_loads_only_what_it_needs(tmp_path):
+    # a real run of the command line on a four-element circuit: its 4 unknowns are solved dense by
+    # numpy, its topology checked by union-find, so none of scipy's linear algebra, graph
+    # routines, the thread-pool control or matplotlib is imported
+    netlist = tmp_path / "four.cir"
+    netlist.write_text(
+        "four\nVin in 0 AC 1\nR1 in out 1k\nC1 out 0 1n\nR2 out 0 1meg\n.noise v(out) Vin dec 20 10 10meg\n.end\n"
+    )
+    completed = _run(
+        f"""
+        import sys
+        from netnoise.cli import main
+        status = main(["analyze", {str(netlist)!r}, "--json", {str(tmp_path / "r.json")!r}])
+        heavy = ("scipy.linalg", "scipy.sparse.linalg", "scipy.sparse.csgraph", "scipy.integrate",
+                 "scipy.optimize", "threadpoolctl", "matplotlib")
+        loaded = sorted(n for n in sys.modules if n in heavy or n.startswith(tuple(h + "." for h in heavy)))
+        print("STATUS:", status, file=sys.stderr)
+        print("LOADED:" + ",".join(loaded), file=sys.stderr)
+        print("NUMPY:", "numpy" in sys.modules, file=sys.stderr)
+        """
+    )
+    assert "STATUS: 0" in completed.stderr, completed.stderr
+    assert "LOADED:\n" in completed.stderr, completed.stderr
+    assert "NUMPY: True" in completed.stderr  # the run did solve: numpy is loaded
+
+
+def test_a_circuit_with_a_banded_structure_loads_the_graph_ordering(tmp_path):
+    # the other side of the same choice: 60 sections of a ladder are ordered (reverse Cuthill-McKee)
+    # and solved banded, which needs scipy.sparse.csgraph and LAPACK from scipy.linalg
+    lines = ["ladder", "Vin in 0 AC 1"]
+    lines += [f"R{i} {'in' if i == 1 else f'n{i - 1}'} n{i} 100\nC{i} n{i} 0 1p" for i in range(1, 61)]
+    netlist = tmp_path / "ladder.cir"
+    netlist.write_text("\n".join(lines + [".noise v(n60) Vin dec 10 1k 1g", ".end"]) + "\n")
+    completed = _run(
+        f"""
+        import sys
+        from netnoise.cli import main
+        status = main(["analyze", {str(netlist)!r}])
+        print("STATUS:", status, file=sys.stderr)
+        print("GRAPH:", "scipy.sparse.csgraph" in sys.modules, "scipy.linalg" in sys.modules, file=sys.stderr)
+        """
+    )
+    assert "STATUS: 0" in completed.stderr, completed.stderr
+    assert "GRAPH: True True" in completed.stderr

@@ -55,9 +55,19 @@ def _some(nodes: list[str], circuit: ck.Circuit, most: int = 8) -> str:
     return ", ".join(names[:most]) + (f" and {len(names) - most} more" if len(names) > most else "")
 
 
+_SMALL_GRAPH = 2000  # edges up to which union-find in Python beats loading and calling scipy.sparse.csgraph
+
+
 def _cut_off_from_ground(nodes: tuple[str, ...], edges: list[tuple[str, str]]) -> list[str]:
     """The nodes no chain of ``edges`` joins to ground (connected components
-    of the graph, scipy.sparse.csgraph)."""
+    of the graph: union-find for a small circuit, scipy.sparse.csgraph for a
+    large one; loading csgraph loads scipy.sparse.linalg, ~0.1 s of start-up)."""
+    if len(edges) <= _SMALL_GRAPH:
+        sets = DisjointSets()
+        for a, b in edges:
+            sets.union(a, b)
+        ground = sets.find(ck.GROUND)
+        return [node for node in nodes if sets.find(node) != ground]
     from scipy.sparse import coo_matrix
     from scipy.sparse.csgraph import connected_components
 

@@ -13,7 +13,6 @@ import math
 from dataclasses import dataclass, field
 
 import numpy as np
-import scipy.sparse.linalg as spla
 
 from netnoise import circuit as ck
 from netnoise.circuit.topology import check_element_values, check_topology
@@ -63,6 +62,8 @@ def solve_operating_point(system: MnaSystem) -> np.ndarray:
         celsius = system.circuit.temperature_celsius
         kelvin = ZERO_CELSIUS_K + (DEFAULT_TEMPERATURE_C if celsius is None else celsius)
         return solve_nonlinear(system.circuit, temperatures[0] if temperatures else kelvin).x
+    import scipy.sparse.linalg as spla  # on first use: a noise analysis alone never loads it
+
     try:
         lu = spla.splu(system.G.tocsc().astype(float))
     except RuntimeError:

@@ -26,7 +26,6 @@ from dataclasses import dataclass
 
 import numpy as np
 import scipy.sparse as sp
-import scipy.sparse.linalg as spla
 
 from netnoise import circuit as ck
 from netnoise.circuit.elements.base import DeviceEnvironment
@@ -111,6 +110,8 @@ class _Newton:
             )
             if diagonal is not None:
                 jacobian = jacobian + diagonal
+            import scipy.sparse.linalg as spla  # on first use: a linear circuit never loads it
+
             try:
                 new = spla.splu(sp.csc_matrix(jacobian)).solve(rhs)
             except RuntimeError:
