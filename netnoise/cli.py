@@ -47,7 +47,6 @@ import traceback
 import warnings
 from collections.abc import Sequence
 
-from netnoise import __version__
 from netnoise.errors import CircuitError, NetnoiseError, UsageError
 
 __all__ = ["main", "build_parser"]
@@ -161,12 +160,23 @@ class _Parser(argparse.ArgumentParser):
         )
 
 
+class _ShowVersion(argparse.Action):
+    """``--version``: the installed metadata is read only when asked (reading it costs ~5 ms
+    of every start)."""
+
+    def __call__(self, parser, namespace, values, option_string=None):
+        from netnoise import __version__
+
+        print(f"{PROG} {__version__}")
+        parser.exit()
+
+
 def build_parser() -> argparse.ArgumentParser:
     parser = _Parser(
         prog=PROG,
         description="Noise budgets for linear analog circuits described by a netlist.",
     )
-    parser.add_argument("--version", action="version", version=f"{PROG} {__version__}")
+    parser.add_argument("--version", action=_ShowVersion, nargs=0, help="show the program's version number and exit")
     commands = parser.add_subparsers(dest="command", metavar="COMMAND", required=True)
 
     analyze = commands.add_parser(
