@@ -9,7 +9,16 @@ from __future__ import annotations
 
 import numpy as np
 
-__all__ = ["rc_ladder", "rc_mesh", "small_circuit", "four_element", "ladder_matrices", "mesh_matrices"]
+__all__ = [
+    "rc_ladder",
+    "rc_mesh",
+    "small_circuit",
+    "four_element",
+    "coupled_network",
+    "scattered_network",
+    "ladder_matrices",
+    "mesh_matrices",
+]
 
 LADDER_R = 100.0  # ohms per section
 LADDER_C = 1e-12  # farads per section
@@ -112,3 +121,31 @@ def four_element() -> str:
     return (
         "start-up\nVin in 0 AC 1\nR1 in out 1k\nC1 out 0 1n\nR2 out 0 1meg\n.noise v(out) Vin dec 20 10 10meg\n.end\n"
     )
+
+
+def coupled_network(nodes: int) -> str:
+    """Every node joined to every other by a resistor, a capacitor and a resistor to ground at
+    each: a dense nodal matrix (the dense path's case).  Output at the last node."""
+    lines = [f"all coupled, {nodes} nodes"]
+    k = 0
+    for i in range(1, nodes + 1):
+        lines += [f"C{i} d{i} 0 {1 + i % 7}p", f"Rg{i} d{i} 0 1k"]
+        for j in range(i + 1, nodes + 1):
+            k += 1
+            lines.append(f"R{k} d{i} d{j} {1000 + 13 * (k % 17)}")
+    lines.append(f".noise v(d{nodes})")
+    return "\n".join(lines + [".end"]) + "\n"
+
+
+def scattered_network(nodes: int, seed: int = 3) -> str:
+    """An RC chain with nodes/2 cross resistors between random nodes: sparse, but no narrow
+    band after reordering (the sparse path's case).  Output at the last node."""
+    rng = np.random.default_rng(seed)
+    lines = [f"scattered, {nodes} nodes", "Rg x1 0 1k"]
+    lines += [f"R{i} x{i} x{i + 1} {rng.uniform(100, 1e4):.4g}" for i in range(1, nodes)]
+    lines += [f"C{i} x{i} 0 {rng.uniform(1e-12, 1e-9):.4g}" for i in range(1, nodes + 1)]
+    for j in range(nodes // 2):
+        a, b = rng.choice(np.arange(1, nodes + 1), size=2, replace=False)
+        lines.append(f"Rx{j} x{a} x{b} {rng.uniform(1e3, 1e6):.4g}")
+    lines.append(f".noise v(x{nodes})")
+    return "\n".join(lines + [".end"]) + "\n"

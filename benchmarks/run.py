@@ -276,6 +276,40 @@ def startup(tmp: Path, repeat: int) -> dict:
     )
 
 
+def paths() -> list[dict]:
+    """Issue 16: the adjoint path each circuit takes, and every path's time per frequency
+    (361 frequencies, solver setup included, best of 3): the chosen one should be the quickest
+    or near it."""
+    code = f"""
+        import json, sys, time
+        sys.path.insert(0, {str(HERE)!r})
+        import numpy as np, generators as gen, netnoise
+        from netnoise.engine import transfer
+        from netnoise.engine.mna import assemble
+        from netnoise.engine.options import SolverOptions
+        circuits = [("RC network, 20 nodes", gen.small_circuit(20)), ("RC ladder, 149 sections", gen.rc_ladder(149)),
+                    ("RC mesh 12x12", gen.rc_mesh(12, 12)), ("every node coupled, 150", gen.coupled_network(150)),
+                    ("scattered sparse, 150", gen.scattered_network(150))]
+        f = np.logspace(0, 9, 361)
+        rows = []
+        for label, text in circuits:
+            system = assemble(netnoise.parse_netlist(text))
+            selector = np.zeros(system.size)
+            selector[-1] = 1.0
+            times = {{}}
+            for method in ("dense", "banded", "sparse"):
+                best = []
+                for _ in range(3):
+                    t = time.perf_counter()
+                    transfer.AdjointSolver(system, SolverOptions(method=method)).solve(selector, f)
+                    best.append(time.perf_counter() - t)
+                times[method] = min(best) / f.size
+            rows.append(dict(label=label, n=system.size, chosen=transfer.AdjointSolver(system).method, times=times))
+        print(json.dumps(rows))
+    """
+    return run_child(code)
+
+
 def parsing(lines: int) -> dict:
     text = gen.rc_ladder(lines // 2, source=False)
     return run_child(f"""
@@ -362,7 +396,7 @@ def main(argv=None) -> int:
         "--only",
         nargs="*",
         default=None,
-        choices=["startup", "small", "rerun", "sweep", "ladder", "mesh", "parse", "exact", "wideband"],
+        choices=["startup", "paths", "small", "rerun", "sweep", "ladder", "mesh", "parse", "exact", "wideband"],
         help="run only these figures",
     )
     args = ap.parse_args(argv)
@@ -388,6 +422,20 @@ def main(argv=None) -> int:
                 f"<= 1.15x  (bare: python -c '{s['bare_code']}', what the run loaded; min {s['cli_min'] * 1e3:.0f} / "
                 f"{s['bare_min'] * 1e3:.0f} ms)",
             )
+
+        if want("paths"):
+            for row in paths():
+                t = row["times"]
+                quickest = min(t, key=t.get)
+                line(
+                    f"path '{row['chosen']}': {row['label']} ({row['n']} unkn.)",
+                    f"{t[row['chosen']] * 1e3:.3f} ms/f",
+                    f"{t[quickest] * 1e3:.3f} ms/f",
+                    t[row["chosen"]] / t[quickest],
+                    f"(reference: the quickest path, '{quickest}'; "
+                    + ", ".join(f"{m} {v * 1e3:.3f}" for m, v in t.items())
+                    + " ms per frequency)",
+                )
 
         if want("small"):
             sm = small(tmp)
