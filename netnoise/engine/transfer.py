@@ -58,17 +58,19 @@ _CHUNK_BYTES = 4 * 2**20
 _CHUNK_MIN_FREQUENCIES = 4
 _BAND_ALWAYS = 16  # kl + ku up to which the banded path is taken without comparing costs
 # The path by structure (issue 16).  Seconds per frequency of each path, fitted to solves of RC
-# ladders, meshes, random sparse networks and networks with every node coupled, 12..300 unknowns,
-# 361 frequencies, setup included (benchmarks/README.md, "Path by structure and start-up"):
-#   dense   ~ 5 µs + 0.4 ns·n³              (batched LU; 32 unknowns 20 µs, 77 unknowns 94 µs)
-#   banded  ~ 40 µs + 1.3 ns·n·(kl+1)·(kl+ku+1)   (one LAPACK call per frequency and its Python)
-#   sparse  ~ 100 µs + 3 ns·nnz²/n          (SuperLU; nnz²/n ~ the fill's flops: n³ when dense)
-# Below _DENSE_ALWAYS unknowns even a tridiagonal system is quicker dense (32 unknowns: 20 µs
-# dense, 40 µs banded), so the structure is not analysed there (no graph ordering, no scipy).
+# ladders, meshes, scattered sparse networks and networks with every node coupled, 12..300
+# unknowns, 361 frequencies, setup included (the table is in benchmarks/README.md, "Path by
+# structure and start-up"; the machine's load moved single figures by 2x, the ranking rarely):
+#   dense   ~ 20 µs + 0.2 ns·n³                        (62 unknowns 56 µs, 152 unknowns 0.68 ms)
+#   banded  ~ 45 µs + 0.4 ns·n·(kl+1)·(kl+ku+1)        (one LAPACK call per frequency and its Python)
+#   sparse  ~ 120 µs + 1 ns·nnz²/n                     (SuperLU; nnz²/n ~ the fill's flops: n³ when dense)
+# Below _DENSE_ALWAYS unknowns even a tridiagonal system is about as quick dense (42 unknowns:
+# 44 µs dense, 43 µs banded; 36-unknown mesh 32 µs dense, 55 µs banded), so the structure is not
+# analysed there (no graph ordering, no scipy.sparse.csgraph or scipy.linalg to load).
 _DENSE_ALWAYS = 40
-_DENSE_COST = (5e-6, 0.4e-9)
-_BANDED_COST = (40e-6, 1.3e-9)
-_SPARSE_COST = (100e-6, 3e-9)
+_DENSE_COST = (20e-6, 0.2e-9)
+_BANDED_COST = (45e-6, 0.4e-9)
+_SPARSE_COST = (120e-6, 1e-9)
 _PIVOT_THRESHOLD = 0.1  # SuperLU threshold partial pivoting (1.0 = classical partial pivoting)
 _GAIN_CHUNK = 32  # frequencies per block when gathering source gains
 
