@@ -64,8 +64,8 @@ def _cut_off_from_ground(nodes: tuple[str, ...], edges: list[tuple[str, str]]) -
     large one; loading csgraph loads scipy.sparse.linalg, ~0.1 s of start-up)."""
     if len(edges) <= _SMALL_GRAPH:
         sets = DisjointSets()
-        for a, b in edges:
-            sets.union(a, b)
+        for one, other in edges:
+            sets.union(one, other)
         ground = sets.find(ck.GROUND)
         return [node for node in nodes if sets.find(node) != ground]
     from scipy.sparse import coo_matrix
