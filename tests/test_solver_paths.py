@@ -132,3 +132,24 @@ def test_a_small_circuit_is_not_ordered():
     # below 40 unknowns the structure is not analysed: no bandwidth, no graph ordering
     solver = transfer.AdjointSolver(assemble(netnoise.parse_netlist(small_network())))
     assert solver.method == "dense" and not hasattr(solver, "bandwidth")
+
+
+@pytest.mark.parametrize("name", list(CIRCUITS))
+def test_one_frequency_factorisations_follow_the_same_choice(systems, name):
+    # engine/factor.py (complex transfers, sensitivities) factors densely exactly where the adjoint
+    # solver would take its dense path; its transfers against numpy.linalg.solve (general-purpose
+    # reference computation), within 1e-12 relative to their largest at each frequency
+    from netnoise.engine.factor import factor, transfers
+
+    system = systems[name]
+    dense = transfer.AdjointSolver(system).method == "dense"
+    assert factor(system, 1e5)._dense == dense
+    g, c = system.G.toarray(), system.C.toarray()
+    outputs = np.zeros((system.size, 1))
+    outputs[-1, 0] = 1.0
+    injections = np.eye(system.size)[:, :5]
+    f = np.array([1e2, 1e5, 1e8])
+    got = transfers(system, outputs, injections, f)[:, 0, :]  # (F, 5)
+    ref = np.stack([np.linalg.solve((g + 2j * np.pi * fi * c).T, outputs[:, 0] + 0j)[:5] for fi in f])
+    scale = np.abs(ref).max(axis=1, keepdims=True)
+    assert (np.abs(got - ref) / scale).max() <= 1e-12
