@@ -153,3 +153,22 @@ def test_one_frequency_factorisations_follow_the_same_choice(systems, name):
     ref = np.stack([np.linalg.solve((g + 2j * np.pi * fi * c).T, outputs[:, 0] + 0j)[:5] for fi in f])
     scale = np.abs(ref).max(axis=1, keepdims=True)
     assert (np.abs(got - ref) / scale).max() <= 1e-12
+
+
+def test_sensitivities_agree_whichever_path_solves_them():
+    # the sensitivity study's forward solves follow the path choice: a 60-section ladder is banded
+    # (one factorisation per frequency there), and forced dense gives the same sensitivities;
+    # reference: the dense batched path, to 1e-8 relative (both are exact adjoint formulas, Director
+    # and Rohrer 1969; they differ by rounding only)
+    from netnoise.studies.sensitivity import sensitivities
+
+    text = ladder(59).replace(".end", ".noise v(n59) Vin dec 10 1k 1g\n.end")
+    circuit = netnoise.parse_netlist(text)
+    chosen = netnoise.prepare(circuit)
+    assert transfer.solver_for(chosen._problem.system, chosen._problem.options).method == "banded"
+    forced = netnoise.prepare(circuit, options=SolverOptions(method="dense"))
+    got = {s.element: s.rms_pct_per_pct for s in sensitivities(chosen, speed=False)}
+    ref = {s.element: s.rms_pct_per_pct for s in sensitivities(forced, speed=False)}
+    assert got.keys() == ref.keys()
+    for name, value in ref.items():
+        assert got[name] == pytest.approx(value, rel=1e-8, abs=0), name

@@ -262,8 +262,9 @@ def _with_temperature(prepared: PreparedAnalysis, derivs, dw: np.ndarray, dflick
 
 
 def _forward(system, f: np.ndarray, v: np.ndarray, options) -> np.ndarray:
-    """(F, n) y = Y(f)⁻¹ v(f): batched dense for small systems, one factorisation per frequency else."""
-    if system.size <= options.dense_limit:
+    """(F, n) y = Y(f)⁻¹ v(f): batched dense where the adjoint solver takes its dense path (small
+    or densely coupled systems), one factorisation per frequency else."""
+    if solver_for(system, options).method == "dense":
         g, c = system.G.toarray(), system.C.toarray()
         y = g[None] + (2j * np.pi * f)[:, None, None] * c[None]
         return np.linalg.solve(y, v[..., None])[..., 0]
