@@ -1,0 +1,266 @@
+"""Exact noise to infinite bandwidth for circuits whose G and C are symmetric.
+
+A network of resistors and capacitors (also with grounded or floating voltage sources, biased
+diodes, and -- on their own, without capacitors -- inductors) stamps symmetric G and C.  Then
+the noise to infinite bandwidth needs no QZ: a real symmetric-definite eigenproblem gives every
+source's variance in closed form.
+
+1. **Reduction.**  Unknowns with no capacitance (zero rows and columns of C: nodes touching no
+   capacitor, branch currents of voltage sources) are algebraic; they are eliminated by the
+   Schur complement ``G_r = G_dd − G_da G_aa⁻¹ G_ad`` (one sparse LU of ``G_aa``), which keeps
+   the symmetry.  Sources and the output are carried over:
+   ``b_r = b_d − G_da G_aa⁻¹ b_a``, ``c_r = c_d − G_da G_aa⁻¹ c_a``, and a source whose
+   input reaches the output through the algebraic part alone, ``d_k = c_aᵀ G_aa⁻¹ b_a``,
+   does so with no roll-off (unbounded total).
+2. **Definiteness.**  ``C_r = C_dd`` must be definite: positive for capacitances, negative for
+   a network of inductors alone (their branch rows stamp −L; the pencil is then negated, which
+   keeps its eigenvalues).  Rows and columns are scaled by ``1/√|C_ii|``, and a Cholesky
+   factor ``C_r = L Lᵀ`` is the test.  Capacitors and inductors together (complex poles),
+   a group of capacitors that does not reach ground (C_r singular), controlled sources,
+   amplifiers and transistors (G not symmetric) are refused here: the caller falls back on the
+   QZ path.
+3. **Eigen-coordinates.**  ``G_r v_i = λ_i C_r v_i`` with ``Vᵀ C_r V = I`` makes
+   ``(G_r + sC_r)⁻¹ = V (Λ + s)⁻¹ Vᵀ``, so each transfer is a sum of real first-order terms,
+   ``H_k(s) = Σ_i a_ik / (s + λ_i)`` with ``a_ik = p_i q_ik``, ``p = Vᵀc_r``, ``q_k = Vᵀb_r,k``;
+   the poles are ``−λ_i`` (rad/s), all real.
+4. **Closed form.**  With ``∫_{−∞}^{∞} dω / ((jω + λ_i)(−jω + λ_j)) = 2π / (λ_i + λ_j)``
+   (Parseval: ``∫_0^∞ e^{−(λ_i+λ_j)t} dt``) and f = ω/2π,
+
+       ∫_0^∞ |H_k(j2πf)|² df = ½ Σ_ij a_ik a_jk / (λ_i + λ_j),
+
+   so a white source of one-sided density ``S_k`` gives ``var_k = (S_k/2) q_kᵀ M q_k`` with
+   ``M_ij = p_i p_j / (λ_i + λ_j)`` -- the observability Gramian in eigen-coordinates, the same
+   ``(S_k/2) b_kᵀ W b_k`` as :func:`netnoise.engine.total_variance.infinite_band_totals`.  One RC
+   pole (``a = 1/C``, ``λ = 1/RC``, ``S = 4kT/R``) gives kT/C.
+
+Anything the method cannot do raises :class:`NotSymmetricDefinite` with the reason; the caller
+then takes the QZ path (or the quadrature), never a wrong answer.
+"""
+
+from __future__ import annotations
+
+import math
+from dataclasses import dataclass
+
+import numpy as np
+import scipy.sparse as sp
+
+from netnoise.engine.resources import require_memory
+
+__all__ = [
+    "SYMMETRIC_LIMIT",
+    "NotSymmetricDefinite",
+    "SymmetricPencil",
+    "SymmetricTotals",
+    "symmetric_pencil",
+    "symmetric_rates",
+    "symmetric_totals",
+]
+
+SYMMETRIC_LIMIT = 3000  # unknowns; eigh is O(n³) too but ~30-90x cheaper than QZ (benchmarks/README.md)
+
+# G and C count as symmetric when every entry matches its mirror to this share of the larger of
+# the two: the stamps place the same value on both sides, and only the order of summing several
+# stamps into one entry can differ (rounding of a few eps)
+_SYMMETRY_RTOL = 1e-13
+# a source reaches the output unfiltered when its direct term c_aᵀG_aa⁻¹b_a exceeds this share of
+# the sum of the magnitudes it cancels from (rounding is ~eps·cond(G_aa) of it)
+_DIRECT_SHARE = 1e-9
+# the slowest rate must exceed this share of the fastest: below it the slowest pole is not known
+# from zero (a lossless or DC mode), which the QZ path reports by name
+_SLOWEST_SHARE = 1e-13
+# relative error of the totals: measured against equipartition (kT·cᵀC⁻¹c) on random RC networks
+# whose rates spread over up to 9 decades (tests/test_infinite_methods.py): the error grows like
+# eps times the spread of the rates; stated with this margin, never below the floor
+_TOLERANCE_MARGIN = 64.0
+_TOLERANCE_FLOOR = 1e-12
+
+
+class NotSymmetricDefinite(Exception):
+    """The circuit is outside what the symmetric method can do; ``reason`` says why."""
+
+    def __init__(self, reason: str):
+        super().__init__(reason)
+        self.reason = reason
+
+
+@dataclass(frozen=True, eq=False)
+class SymmetricPencil:
+    """The reduced, scaled pencil of a symmetric circuit.
+
+    ``dynamic``, ``algebraic``: the unknowns kept and eliminated; ``scale`` (m,): the row and
+    column scaling 1/√|C_ii| of the kept ones; ``sign``: +1, or −1 when the pencil was negated
+    (inductors alone); ``coupling``: G_da (m, n_a), sparse; ``solve_algebraic``: x ↦ G_aa⁻¹x
+    (None without algebraic unknowns); ``standard``: L⁻¹ g L⁻ᵀ (m, m) with ``factor`` L the
+    Cholesky factor of the scaled C_r, whose eigenvalues are the rates λ_i (1/s)."""
+
+    dynamic: np.ndarray
+    algebraic: np.ndarray
+    scale: np.ndarray
+    sign: float
+    coupling: sp.csr_matrix
+    solve_algebraic: object
+    factor: np.ndarray
+    standard: np.ndarray
+
+    @property
+    def size(self) -> int:
+        return int(self.dynamic.size)
+
+
+@dataclass(frozen=True, eq=False)
+class SymmetricTotals:
+    """``variance`` (K,): ∫0^∞ |H_k|² S_k df per input column; ``poles_Hz``: the pole
+    magnitudes λ_i/2π, Hz, ascending; ``tolerance``: the estimated relative error of the
+    variances (rounding, growing with the spread of the poles)."""
+
+    variance: np.ndarray
+    poles_Hz: np.ndarray
+    tolerance: float
+
+
+def _is_symmetric(m: sp.spmatrix) -> bool:
+    diff = abs(m - m.T).tocoo()
+    if diff.nnz == 0 or not diff.data.any():
+        return True
+    size = abs(m).maximum(abs(m.T)).tocsr()
+    bound = np.asarray(size[diff.row, diff.col]).ravel()
+    return bool(np.all(diff.data <= _SYMMETRY_RTOL * bound))
+
+
+def symmetric_pencil(G, C) -> SymmetricPencil:
+    """The reduced pencil of G + sC (sparse or dense, (n, n)); NotSymmetricDefinite when G or C
+    is not symmetric, C is not definite on the unknowns with capacitance, or G_aa is singular."""
+    import scipy.linalg as la  # loaded on first use: keeps the command line's start-up short
+    import scipy.sparse.linalg as spla
+
+    G = sp.csr_matrix(G, dtype=float)
+    C = sp.csr_matrix(C, dtype=float)
+    C.eliminate_zeros()
+    if not _is_symmetric(G):
+        raise NotSymmetricDefinite("G is not symmetric (a controlled source, amplifier or transistor)")
+    if not _is_symmetric(C):
+        raise NotSymmetricDefinite("C is not symmetric")
+    has_c = np.diff(C.indptr) > 0
+    dynamic = np.flatnonzero(has_c)
+    algebraic = np.flatnonzero(~has_c)
+    m = dynamic.size
+    if m == 0:
+        raise NotSymmetricDefinite("no capacitance or inductance: no poles")
+    require_memory(3 * m * m * 8, "the dense symmetric eigenproblem to infinite bandwidth")
+    c_dd = C[dynamic][:, dynamic].toarray()
+    diag = np.diag(c_dd)
+    if np.all(diag > 0):
+        sign = 1.0
+    elif np.all(diag < 0):  # inductors alone: −L on their branch rows; negated, same eigenvalues
+        sign = -1.0
+    else:
+        raise NotSymmetricDefinite("C is not definite (capacitors and inductors together, or a zero diagonal)")
+    g_dd = G[dynamic][:, dynamic].toarray()
+    coupling = G[dynamic][:, algebraic].tocsr()
+    solve = None
+    if algebraic.size:
+        g_aa = G[algebraic][:, algebraic].tocsc()
+        try:
+            lu = spla.splu(g_aa)
+        except RuntimeError:
+            raise NotSymmetricDefinite("the unknowns without capacitance form a singular block") from None
+        solve = lu.solve
+        if coupling.nnz:
+            g_dd = g_dd - coupling @ solve(coupling.T.toarray())
+    if not np.all(np.isfinite(g_dd)):
+        raise NotSymmetricDefinite("the reduction overflowed")
+    scale = 1.0 / np.sqrt(sign * diag)
+    g = sign * scale[:, None] * g_dd * scale[None, :]
+    c = sign * scale[:, None] * c_dd * scale[None, :]
+    g = 0.5 * (g + g.T)
+    c = 0.5 * (c + c.T)
+    try:
+        factor = la.cholesky(c, lower=True, check_finite=False)
+    except la.LinAlgError:
+        raise NotSymmetricDefinite(
+            "C is not definite on the unknowns with capacitance (a group of capacitors not reaching ground)"
+        ) from None
+    # L⁻¹ g L⁻ᵀ: the standard symmetric matrix with the pencil's eigenvalues
+    half = la.solve_triangular(factor, g, lower=True, check_finite=False)
+    standard = la.solve_triangular(factor, half.T, lower=True, check_finite=False)
+    standard = 0.5 * (standard + standard.T)
+    return SymmetricPencil(dynamic, algebraic, scale, sign, coupling, solve, factor, standard)
+
+
+def _checked_rates(rates: np.ndarray) -> np.ndarray:
+    top = float(np.max(np.abs(rates), initial=0.0))
+    if rates.size and not rates.min() > _SLOWEST_SHARE * top:
+        raise NotSymmetricDefinite("a rate at or below zero (to rounding): an unstable or lossless mode")
+    return rates
+
+
+def symmetric_rates(pencil: SymmetricPencil) -> np.ndarray:
+    """The rates λ_i (1/s, ascending) of the pencil: the poles are −λ_i.  NotSymmetricDefinite
+    when one is not clearly positive."""
+    import scipy.linalg as la
+
+    return _checked_rates(la.eigh(pencil.standard, eigvals_only=True, check_finite=False))
+
+
+def _tolerance(rates: np.ndarray) -> float:
+    spread = float(rates.max() / rates.min()) if rates.size else 1.0
+    return max(_TOLERANCE_FLOOR, _TOLERANCE_MARGIN * float(np.finfo(float).eps) * spread)
+
+
+def symmetric_totals(pencil: SymmetricPencil, c: np.ndarray, B, density: np.ndarray) -> SymmetricTotals:
+    """∫0^∞ |cᵀ(G + j2πfC)⁻¹ b_k|² S_k df for every column b_k of ``B`` ((n, K), sparse or dense)
+    with one-sided white densities ``density`` (K,).  NotSymmetricDefinite when a source with
+    S_k > 0 reaches the output with no roll-off, or a rate is not clearly positive."""
+    import scipy.linalg as la
+
+    c = np.asarray(c, dtype=float)
+    B = sp.csc_matrix(B, dtype=float)
+    sk = np.asarray(density, dtype=float)
+    dyn, alg = pencil.dynamic, pencil.algebraic
+    c_r = c[dyn]
+    b_r = B[dyn]
+    if alg.size:
+        solve = pencil.solve_algebraic
+        assert callable(solve)
+        z_a = solve(c[alg])
+        b_a = B[alg]
+        direct = np.asarray(b_a.T @ z_a).ravel()
+        size = np.asarray(abs(b_a).T @ np.abs(z_a)).ravel()
+        if np.any((np.abs(direct) > _DIRECT_SHARE * size) & (sk > 0)):
+            raise NotSymmetricDefinite("a source reaches the output with no roll-off")
+        c_r = c_r - pencil.coupling @ z_a
+        reach = np.flatnonzero(np.diff(b_a.indptr) > 0)  # columns with a part on the algebraic unknowns
+        if reach.size:
+            carried = pencil.coupling @ solve(b_a[:, reach].toarray())
+            correction = sp.csc_matrix(
+                (np.asarray(carried).ravel(order="F"), _dense_pattern(pencil.size, reach)),
+                shape=b_r.shape,
+            )
+            b_r = (b_r - correction).tocsc()
+    # eigen-coordinates: scaled unknowns y = x_d / scale; (g + s c) with c = L Lᵀ;
+    # u = Lᵀ y: (L⁻¹ g L⁻ᵀ + s) u = L⁻¹ (scale · b_r)
+    rates, vectors = la.eigh(pencil.standard, check_finite=False)
+    rates = _checked_rates(rates)
+    # V = L⁻ᵀ U maps eigen-coordinates back to the scaled unknowns: H_k = pᵀ (Λ + s)⁻¹ q_k
+    v = la.solve_triangular(pencil.factor, vectors, lower=True, trans="T", check_finite=False)
+    p = v.T @ (pencil.scale * c_r)
+    cauchy = 1.0 / (rates[:, None] + rates[None, :])
+    m = pencil.size
+    scaled_b = sp.diags(pencil.scale) @ b_r  # sign: |H|² does not see it
+    k = B.shape[1]
+    if k < 2 * m:  # q = Vᵀ b per column: 2 m² K flops against the Gramian's 4 m³
+        q = np.asarray((scaled_b.T @ v).T)
+        weighted = (p[:, None] * p[None, :] * cauchy) @ q
+        quad = np.einsum("ik,ik->k", q, weighted)
+    else:  # the Gramian W = V M Vᵀ once, then bᵀ W b per sparse column
+        y = v * p[None, :]
+        gramian = (y @ cauchy) @ y.T
+        quad = np.asarray(scaled_b.multiply(np.asarray(gramian @ scaled_b)).sum(axis=0)).ravel()
+    variance = np.maximum(0.5 * sk * quad, 0.0)
+    return SymmetricTotals(variance=variance, poles_Hz=rates / (2 * math.pi), tolerance=_tolerance(rates))
+
+
+def _dense_pattern(rows: int, columns: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
+    """(row, column) indices of a dense block of ``rows`` rows in the given columns, column-major."""
+    return np.tile(np.arange(rows), columns.size), np.repeat(columns, rows)
