@@ -135,7 +135,7 @@ def symmetric_pencil(G, C) -> SymmetricPencil:
     import scipy.sparse.linalg as spla
 
     G = sp.csr_matrix(G, dtype=float)
-    C = sp.csr_matrix(C, dtype=float)
+    C = sp.csr_matrix(C, dtype=float, copy=True)
     C.eliminate_zeros()
     if not _is_symmetric(G):
         raise NotSymmetricDefinite("G is not symmetric (a controlled source, amplifier or transistor)")
@@ -196,11 +196,11 @@ def _checked_rates(rates: np.ndarray) -> np.ndarray:
 
 
 def symmetric_rates(pencil: SymmetricPencil) -> np.ndarray:
-    """The rates λ_i (1/s, ascending) of the pencil: the poles are −λ_i.  NotSymmetricDefinite
-    when one is not clearly positive."""
+    """The rates λ_i (1/s, ascending) of the pencil: the poles are −λ_i (a rate at or below zero:
+    a mode that does not decay, for the caller to judge)."""
     import scipy.linalg as la
 
-    return _checked_rates(la.eigh(pencil.standard, eigvals_only=True, check_finite=False))
+    return la.eigh(pencil.standard, eigvals_only=True, check_finite=False)
 
 
 def _tolerance(rates: np.ndarray) -> float:
