@@ -24,6 +24,7 @@ import difflib
 import math
 from collections.abc import Callable
 from dataclasses import dataclass
+from typing import Any
 
 import numpy as np
 
@@ -49,6 +50,7 @@ from netnoise.engine.total_variance import (
     UnstableCircuit,
     finite_scaled_eigenvalues,
     infinite_band_totals,
+    rounding_tolerance,
     unstable_pole,
 )
 from netnoise.errors import CircuitError, UsageError
@@ -817,7 +819,7 @@ def _infinite_band_totals(problem: _Problem) -> _InfiniteTotals:
     return found
 
 
-def _columns(problem: _Problem, dense: bool) -> tuple[object, np.ndarray]:
+def _columns(problem: _Problem, dense: bool) -> tuple[Any, np.ndarray]:
     """The injection columns (sparse, or dense with ``dense``) with the input's vector last, and
     their one-sided white densities (1 for the input)."""
     import scipy.sparse as sp
@@ -855,19 +857,6 @@ def _symmetric_totals(problem: _Problem) -> _InfiniteTotals | None:
     )
 
 
-# the QZ path's stated relative error: measured against equipartition (kT·cᵀC⁻¹c) on random RC
-# networks (tests/test_infinite_methods.py), it loses about eps times the square of the spread
-# of the pole magnitudes (2e-7 at five decades); stated with this margin, never below the floor
-_QZ_TOLERANCE_MARGIN = 64.0
-_QZ_TOLERANCE_FLOOR = 1e-10
-
-
-def _qz_tolerance(poles: np.ndarray) -> float:
-    poles = poles[poles > 0]
-    spread = float(poles.max() / poles.min()) if poles.size else 1.0
-    return min(1.0, max(_QZ_TOLERANCE_FLOOR, _QZ_TOLERANCE_MARGIN * float(np.finfo(float).eps) * spread**2))
-
-
 def _qz_totals(problem: _Problem) -> _InfiniteTotals:
     """Exact, from the state space by QZ and a Lyapunov solve (:mod:`netnoise.total_variance`);
     an unstable circuit refused with the elements that can supply gain named."""
@@ -883,7 +872,7 @@ def _qz_totals(problem: _Problem) -> _InfiniteTotals:
         exact.variance,
         exact.poles_Hz,
         "exact-qz",
-        _qz_tolerance(exact.poles_Hz),
+        rounding_tolerance(exact.poles_Hz),
         "the total to infinite bandwidth is exact" + _white_only(problem) + " (the state space, by QZ)",
     )
 

@@ -46,6 +46,7 @@ import numpy as np
 import scipy.sparse as sp
 
 from netnoise.engine.resources import require_memory
+from netnoise.engine.total_variance import rounding_tolerance
 
 __all__ = [
     "SYMMETRIC_LIMIT",
@@ -69,11 +70,6 @@ _DIRECT_SHARE = 1e-9
 # the slowest rate must exceed this share of the fastest: below it the slowest pole is not known
 # from zero (a lossless or DC mode), which the QZ path reports by name
 _SLOWEST_SHARE = 1e-13
-# relative error of the totals: measured against equipartition (kT·cᵀC⁻¹c) on random RC networks
-# whose rates spread over up to 9 decades (tests/test_infinite_methods.py): the error grows like
-# eps times the spread of the rates; stated with this margin, never below the floor
-_TOLERANCE_MARGIN = 64.0
-_TOLERANCE_FLOOR = 1e-12
 
 
 class NotSymmetricDefinite(Exception):
@@ -111,8 +107,9 @@ class SymmetricPencil:
 @dataclass(frozen=True, eq=False)
 class SymmetricTotals:
     """``variance`` (K,): ∫0^∞ |H_k|² S_k df per input column; ``poles_Hz``: the pole
-    magnitudes λ_i/2π, Hz, ascending; ``tolerance``: the estimated relative error of the
-    variances (rounding, growing with the spread of the poles)."""
+    magnitudes λ_i/2π, Hz, ascending; ``tolerance``: the stated relative error of the
+    variances (:func:`~netnoise.engine.total_variance.rounding_tolerance`: rounding, growing
+    with the spread of the poles)."""
 
     variance: np.ndarray
     poles_Hz: np.ndarray
@@ -203,11 +200,6 @@ def symmetric_rates(pencil: SymmetricPencil) -> np.ndarray:
     return la.eigh(pencil.standard, eigvals_only=True, check_finite=False)
 
 
-def _tolerance(rates: np.ndarray) -> float:
-    spread = float(rates.max() / rates.min()) if rates.size else 1.0
-    return max(_TOLERANCE_FLOOR, _TOLERANCE_MARGIN * float(np.finfo(float).eps) * spread)
-
-
 def symmetric_totals(pencil: SymmetricPencil, c: np.ndarray, B, density: np.ndarray) -> SymmetricTotals:
     """∫0^∞ |cᵀ(G + j2πfC)⁻¹ b_k|² S_k df for every column b_k of ``B`` ((n, K), sparse or dense)
     with one-sided white densities ``density`` (K,).  NotSymmetricDefinite when a source with
@@ -258,7 +250,7 @@ def symmetric_totals(pencil: SymmetricPencil, c: np.ndarray, B, density: np.ndar
         gramian = (y @ cauchy) @ y.T
         quad = np.asarray(scaled_b.multiply(np.asarray(gramian @ scaled_b)).sum(axis=0)).ravel()
     variance = np.maximum(0.5 * sk * quad, 0.0)
-    return SymmetricTotals(variance=variance, poles_Hz=rates / (2 * math.pi), tolerance=_tolerance(rates))
+    return SymmetricTotals(variance=variance, poles_Hz=rates / (2 * math.pi), tolerance=rounding_tolerance(rates))
 
 
 def _dense_pattern(rows: int, columns: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
