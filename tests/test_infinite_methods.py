@@ -441,9 +441,13 @@ def test_bare_eigh_closed_form_matches_symmetric_totals():
         0.5 * s * float(np.sum(np.outer(p * q[:, k], p * q[:, k]) / (lam[:, None] + lam[None, :])))
         for k, s in enumerate(sources.white_density)
     ]
-    found = symmetric_totals(symmetric_pencil(system.G, system.C), out, sources.injection, sources.white_density)
+    pencil = symmetric_pencil(system.G, system.C)
+    found = symmetric_totals(pencil, out, sources.injection, sources.white_density)
     assert found.variance == pytest.approx(np.array(reference), rel=1e-12)
     assert found.poles_Hz == pytest.approx(lam / (2 * math.pi), rel=1e-12)
+    # fewer columns than poles: the other way of forming the quadratic forms (qᵀ M q per column)
+    few = symmetric_totals(pencil, out, sources.injection[:, :2], sources.white_density[:2])
+    assert few.variance == pytest.approx(np.array(reference[:2]), rel=1e-12)
 
 
 def _reference_variances(G, C, c, B, S):

@@ -88,7 +88,8 @@ class SymmetricPencil:
     column scaling 1/√|C_ii| of the kept ones; ``sign``: +1, or −1 when the pencil was negated
     (inductors alone); ``coupling``: G_da (m, n_a), sparse; ``solve_algebraic``: x ↦ G_aa⁻¹x
     (None without algebraic unknowns); ``standard``: L⁻¹ g L⁻ᵀ (m, m) with ``factor`` L the
-    Cholesky factor of the scaled C_r, whose eigenvalues are the rates λ_i (1/s)."""
+    Cholesky factor of the scaled C_r (its diagonal alone, (m,), when C_r is diagonal: grounded
+    capacitors only), whose eigenvalues are the rates λ_i (1/s)."""
 
     dynamic: np.ndarray
     algebraic: np.ndarray
@@ -144,7 +145,8 @@ def symmetric_pencil(G, C) -> SymmetricPencil:
     m = dynamic.size
     if m == 0:
         raise NotSymmetricDefinite("no capacitance or inductance: no poles")
-    require_memory(3 * m * m * 8, "the dense symmetric eigenproblem to infinite bandwidth")
+    # g, c, L, L⁻¹gL⁻ᵀ here; eigenvectors, V, the Cauchy matrix and the Gramian in the totals
+    require_memory(8 * m * m * 8, "the dense symmetric eigenproblem to infinite bandwidth")
     c_dd = C[dynamic][:, dynamic].toarray()
     diag = np.diag(c_dd)
     if np.all(diag > 0):
@@ -172,15 +174,19 @@ def symmetric_pencil(G, C) -> SymmetricPencil:
     c = sign * scale[:, None] * c_dd * scale[None, :]
     g = 0.5 * (g + g.T)
     c = 0.5 * (c + c.T)
-    try:
-        factor = la.cholesky(c, lower=True, check_finite=False)
-    except la.LinAlgError:
-        raise NotSymmetricDefinite(
-            "C is not definite on the unknowns with capacitance (a group of capacitors not reaching ground)"
-        ) from None
-    # L⁻¹ g L⁻ᵀ: the standard symmetric matrix with the pencil's eigenvalues
-    half = la.solve_triangular(factor, g, lower=True, check_finite=False)
-    standard = la.solve_triangular(factor, half.T, lower=True, check_finite=False)
+    if not np.any(c - np.diag(np.diag(c))):  # grounded capacitors only: L is a diagonal, ~1 after scaling
+        factor = np.sqrt(np.diag(c))
+        standard = g / np.outer(factor, factor)
+    else:
+        try:
+            factor = la.cholesky(c, lower=True, check_finite=False)
+        except la.LinAlgError:
+            raise NotSymmetricDefinite(
+                "C is not definite on the unknowns with capacitance (a group of capacitors not reaching ground)"
+            ) from None
+        # L⁻¹ g L⁻ᵀ: the standard symmetric matrix with the pencil's eigenvalues
+        half = la.solve_triangular(factor, g, lower=True, check_finite=False)
+        standard = la.solve_triangular(factor, half.T, lower=True, check_finite=False)
     standard = 0.5 * (standard + standard.T)
     return SymmetricPencil(dynamic, algebraic, scale, sign, coupling, solve, factor, standard)
 
@@ -216,7 +222,7 @@ def symmetric_totals(pencil: SymmetricPencil, c: np.ndarray, B, density: np.ndar
         solve = pencil.solve_algebraic
         assert callable(solve)
         z_a = solve(c[alg])
-        b_a = B[alg]
+        b_a = B[alg].tocsc()
         direct = np.asarray(b_a.T @ z_a).ravel()
         size = np.asarray(abs(b_a).T @ np.abs(z_a)).ravel()
         if np.any((np.abs(direct) > _DIRECT_SHARE * size) & (sk > 0)):
@@ -232,25 +238,41 @@ def symmetric_totals(pencil: SymmetricPencil, c: np.ndarray, B, density: np.ndar
             b_r = (b_r - correction).tocsc()
     # eigen-coordinates: scaled unknowns y = x_d / scale; (g + s c) with c = L Lᵀ;
     # u = Lᵀ y: (L⁻¹ g L⁻ᵀ + s) u = L⁻¹ (scale · b_r)
-    rates, vectors = la.eigh(pencil.standard, check_finite=False)
+    # divide and conquer: several times faster than the default (MRRR) on meshes' clustered rates
+    rates, vectors = la.eigh(pencil.standard, driver="evd", check_finite=False)
     rates = _checked_rates(rates)
     # V = L⁻ᵀ U maps eigen-coordinates back to the scaled unknowns: H_k = pᵀ (Λ + s)⁻¹ q_k
-    v = la.solve_triangular(pencil.factor, vectors, lower=True, trans="T", check_finite=False)
+    if pencil.factor.ndim == 1:
+        v = vectors / pencil.factor[:, None]
+    else:
+        v = la.solve_triangular(pencil.factor, vectors, lower=True, trans="T", check_finite=False)
     p = v.T @ (pencil.scale * c_r)
     cauchy = 1.0 / (rates[:, None] + rates[None, :])
     m = pencil.size
     scaled_b = sp.diags(pencil.scale) @ b_r  # sign: |H|² does not see it
     k = B.shape[1]
-    if k < 2 * m:  # q = Vᵀ b per column: 2 m² K flops against the Gramian's 4 m³
+    if k < m:  # q = Vᵀ b per column, then qᵀ M q: 2 m² K flops
         q = np.asarray((scaled_b.T @ v).T)
         weighted = (p[:, None] * p[None, :] * cauchy) @ q
         quad = np.einsum("ik,ik->k", q, weighted)
-    else:  # the Gramian W = V M Vᵀ once, then bᵀ W b per sparse column
-        y = v * p[None, :]
-        gramian = (y @ cauchy) @ y.T
-        quad = np.asarray(scaled_b.multiply(np.asarray(gramian @ scaled_b)).sum(axis=0)).ravel()
+    else:  # the Gramian W = Y Cauchy Yᵀ (Y = V diag p) only where the sparse columns need it: 2 m³
+        quad = _sparse_quadratic_forms(v * p[None, :], cauchy, sp.csc_matrix(scaled_b))
     variance = np.maximum(0.5 * sk * quad, 0.0)
     return SymmetricTotals(variance=variance, poles_Hz=rates / (2 * math.pi), tolerance=rounding_tolerance(rates))
+
+
+def _sparse_quadratic_forms(y: np.ndarray, cauchy: np.ndarray, b: sp.csc_matrix) -> np.ndarray:
+    """(K,) b_kᵀ W b_k with W = Y·cauchy·Yᵀ, for sparse columns b_k: (W b_k)_i = z_i · t_k with
+    z = Y·cauchy (one product) and t_k = Yᵀ b_k, needed only at the rows where b_k is non-zero."""
+    z = y @ cauchy
+    t = np.asarray(b.T @ y)  # (K, m)
+    coo = b.tocoo()
+    quad = np.zeros(b.shape[1])
+    step = 4096
+    for start in range(0, coo.nnz, step):
+        rows, cols, data = (a[start : start + step] for a in (coo.row, coo.col, coo.data))
+        np.add.at(quad, cols, data * np.einsum("ij,ij->i", z[rows], t[cols]))
+    return quad
 
 
 def _dense_pattern(rows: int, columns: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
