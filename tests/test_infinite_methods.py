@@ -304,9 +304,12 @@ def test_refusals_name_their_reason():
     coupling = circuit(R("R1", "a", "0", 1e3), C("C1", "a", "b", 1e-9), R("R2", "b", "0", 1e3))
     with pytest.raises(NotSymmetricDefinite, match="not reaching ground"):
         _pencil_of(coupling)
-    driven = circuit(V("V1", "s", "0"), C("Cs", "s", "0", 1e-9), R("R1", "s", "a", 1e3), C("C1", "a", "0", 1e-9))
-    with pytest.raises(NotSymmetricDefinite, match="singular"):  # a voltage source on a capacitor's node
-        _pencil_of(driven)
+    floating = circuit(
+        V("V1", "a", "b"), C("Ca", "a", "0", 1e-9), C("Cb", "b", "0", 1e-9), R("R1", "a", "0", 1e3),
+        R("R2", "b", "0", 1e3),
+    )  # fmt: skip
+    with pytest.raises(NotSymmetricDefinite, match="singular"):  # a floating source between capacitors' nodes
+        _pencil_of(floating)
 
 
 def test_unfiltered_source_is_refused_by_the_symmetric_method():
@@ -522,3 +525,44 @@ def test_both_exact_paths_per_source_within_stated_tolerance_on_stiff_networks(s
     for res in (fast, slow):
         assert res.total_variance == pytest.approx(total, rel=res.total_tolerance)
         assert np.all(np.abs(res.source_variance - reference) <= res.total_tolerance * total)
+
+
+def test_voltage_source_on_a_capacitor_node_is_pinned():
+    # V1 drives s, which has capacitance (C1 to a, Cs to ground): s is pinned, not refused.  The
+    # noise meets equipartition over the free nodes (Reif): C1 counts as a capacitor to ground at
+    # a, so var(b) = kT/C2.  The signal path s → a (high-pass) → b (low-pass) rolls off: its
+    # ∫|H|² df against scipy.integrate.quad of |H|² from a dense complex solve (numpy).
+    c1, ca, c2, r1, r2 = 1e-9, 220e-12, 1e-9, 1e3, 1e3
+    ckt = circuit(
+        V("V1", "s", "0"), C("Cs", "s", "0", 4.7e-9), C("C1", "s", "a", c1), R("R1", "a", "0", r1),
+        R("R2", "a", "b", r2), C("C2", "b", "0", c2), C("Ca", "a", "0", ca),
+    )  # fmt: skip
+    pencil = _pencil_of(ckt)
+    assert pencil.pinned.size == 1 and pencil.size == 2  # s pinned; a and b kept
+    fast, slow = _both(ckt, output="b", input_source="V1")
+    assert fast.total_method == "exact-symmetric"
+    assert fast.total_variance == pytest.approx(KT / c2, rel=1e-12)
+    assert fast.gain_squared_integral == pytest.approx(slow.gain_squared_integral, rel=1e-9)
+
+    def power(f):
+        s = 2j * math.pi * f
+        y = np.array([[s * (c1 + ca) + 1 / r1 + 1 / r2, -1 / r2], [-1 / r2, 1 / r2 + s * c2]])
+        return abs(np.linalg.solve(y, np.array([s * c1, 0.0]))[1]) ** 2
+
+    edges = [0.0, *np.geomspace(1e2, 1e10, 17)]  # piecewise up to 10 GHz, above it in u = 1/f
+    reference = sum(scipy.integrate.quad(power, a, b, epsabs=0, epsrel=1e-11)[0] for a, b in zip(edges, edges[1:]))
+    reference += scipy.integrate.quad(lambda u: power(1 / u) / u**2, 0.0, 1e-10, epsabs=0, epsrel=1e-11)[0]
+    assert fast.gain_squared_integral == pytest.approx(reference, rel=1e-9)
+
+
+def test_driven_source_without_roll_off_goes_to_qz():
+    # A high-pass from the driven node straight to the output: its ∫|H|² df is unbounded (no
+    # roll-off, common practice); the symmetric method refuses the input column, QZ says so.
+    ckt = circuit(V("V1", "s", "0"), C("C1", "s", "a", 1e-9), R("R1", "a", "0", 1e3), C("C2", "a", "0", 1e-9))
+    fast, slow = _both(ckt, output="a", input_source="V1")
+    assert fast.total_method == "exact-qz" and fast.gain_squared_integral is None
+    assert fast.source_variance == pytest.approx(slow.source_variance, rel=1e-15)
+    noise_only = analyze(ckt, output="a", band=(0.0, math.inf))
+    assert noise_only.total_method == "exact-symmetric"
+    # equipartition (Reif): a holds C1 (to the pinned node) and C2: kT/(C1 + C2) at 27 °C
+    assert noise_only.total_variance == pytest.approx(constants.Boltzmann * 300.15 / 2e-9, rel=1e-12)

@@ -11,12 +11,16 @@ source's variance in closed form.
    the symmetry.  Sources and the output are carried over:
    ``b_r = b_d − G_da G_aa⁻¹ b_a``, ``c_r = c_d − G_da G_aa⁻¹ c_a``, and a source whose
    input reaches the output through the algebraic part alone, ``d_k = c_aᵀ G_aa⁻¹ b_a``,
-   does so with no roll-off (unbounded total).
+   does so with no roll-off (unbounded total).  A grounded voltage source on a node with
+   capacitance pins that node: the pair (node voltage, branch current) is dropped, and a column
+   that drives the source (its own noise, the signal input) enters the rest as
+   ``−(G_·s + sC_·s)·u``; its ``s`` part adds a direct term that must cancel (else unbounded).
 2. **Definiteness.**  ``C_r = C_dd`` must be definite: positive for capacitances, negative for
    a network of inductors alone (their branch rows stamp −L; the pencil is then negated, which
    keeps its eigenvalues).  Rows and columns are scaled by ``1/√|C_ii|``, and a Cholesky
    factor ``C_r = L Lᵀ`` is the test.  Capacitors and inductors together (complex poles),
-   a group of capacitors that does not reach ground (C_r singular), controlled sources,
+   a group of capacitors that does not reach ground (C_r singular), a floating voltage source
+   between nodes with capacitance (G_aa singular), controlled sources,
    amplifiers and transistors (G not symmetric) are refused here: the caller falls back on the
    QZ path.
 3. **Eigen-coordinates.**  ``G_r v_i = λ_i C_r v_i`` with ``Vᵀ C_r V = I`` makes
@@ -87,18 +91,25 @@ class SymmetricPencil:
     ``dynamic``, ``algebraic``: the unknowns kept and eliminated; ``scale`` (m,): the row and
     column scaling 1/√|C_ii| of the kept ones; ``sign``: +1, or −1 when the pencil was negated
     (inductors alone); ``coupling``: G_da (m, n_a), sparse; ``solve_algebraic``: x ↦ G_aa⁻¹x
-    (None without algebraic unknowns); ``standard``: L⁻¹ g L⁻ᵀ (m, m) with ``factor`` L the
+    (None without algebraic unknowns); ``pinned`` (P,), ``pinned_branch``, ``pinned_sign``: the
+    nodes held by grounded voltage sources (v = sign·b at the branch row) and their branch rows,
+    ``g_pinned``, ``c_pinned`` (n, P): their columns of G and C; ``standard``: L⁻¹ g L⁻ᵀ (m, m) with ``factor`` L the
     Cholesky factor of the scaled C_r (its diagonal alone, (m,), when C_r is diagonal: grounded
     capacitors only), whose eigenvalues are the rates λ_i (1/s)."""
 
     dynamic: np.ndarray
     algebraic: np.ndarray
+    pinned: np.ndarray
     scale: np.ndarray
     sign: float
     coupling: sp.csr_matrix
     solve_algebraic: object
     factor: np.ndarray
     standard: np.ndarray
+    pinned_branch: np.ndarray
+    pinned_sign: np.ndarray
+    g_pinned: sp.csc_matrix
+    c_pinned: sp.csc_matrix
 
     @property
     def size(self) -> int:
@@ -140,8 +151,11 @@ def symmetric_pencil(G, C) -> SymmetricPencil:
     if not _is_symmetric(C):
         raise NotSymmetricDefinite("C is not symmetric")
     has_c = np.diff(C.indptr) > 0
-    dynamic = np.flatnonzero(has_c)
-    algebraic = np.flatnonzero(~has_c)
+    pinned, branch, pin_sign = _pinned(G, has_c)
+    keep = np.ones(has_c.size, dtype=bool)
+    keep[pinned] = keep[branch] = False
+    dynamic = np.flatnonzero(has_c & keep)
+    algebraic = np.flatnonzero(~has_c & keep)
     m = dynamic.size
     if m == 0:
         raise NotSymmetricDefinite("no capacitance or inductance: no poles")
@@ -188,7 +202,34 @@ def symmetric_pencil(G, C) -> SymmetricPencil:
         half = la.solve_triangular(factor, g, lower=True, check_finite=False)
         standard = la.solve_triangular(factor, half.T, lower=True, check_finite=False)
     standard = 0.5 * (standard + standard.T)
-    return SymmetricPencil(dynamic, algebraic, scale, sign, coupling, solve, factor, standard)
+    return SymmetricPencil(
+        dynamic,
+        algebraic,
+        pinned,
+        scale,
+        sign,
+        coupling,
+        solve,
+        factor,
+        standard,
+        branch,
+        pin_sign,
+        G.tocsc()[:, pinned],
+        C.tocsc()[:, pinned],
+    )
+
+
+def _pinned(G: sp.csr_matrix, has_c: np.ndarray) -> tuple[np.ndarray, np.ndarray, np.ndarray]:
+    """(nodes, branch rows, signs) of grounded voltage sources on nodes with capacitance: a row
+    without capacitance whose only entry of G is ±1 at such a node (v_node = sign·b_branch)."""
+    count = np.diff(G.indptr)
+    rows = np.flatnonzero(~has_c & (count == 1))
+    cols = G.indices[G.indptr[rows]]
+    values = G.data[G.indptr[rows]]
+    ok = has_c[cols] & (cols != rows) & (np.abs(values) == 1.0)
+    rows, cols, values = rows[ok], cols[ok], values[ok]
+    _, first = np.unique(cols, return_index=True)  # one source per node (two would be a loop)
+    return cols[first], rows[first], np.sign(values[first])
 
 
 def _checked_rates(rates: np.ndarray) -> np.ndarray:
@@ -215,9 +256,22 @@ def symmetric_totals(pencil: SymmetricPencil, c: np.ndarray, B, density: np.ndar
     c = np.asarray(c, dtype=float)
     B = sp.csc_matrix(B, dtype=float)
     sk = np.asarray(density, dtype=float)
+    k = B.shape[1]
+    # columns that drive a pinned node (a voltage source's own noise, the signal input): apart
+    driven = np.zeros(0, dtype=np.intp)
+    u = np.zeros((0, k))
+    given = B
+    if pencil.pinned.size:
+        u = pencil.pinned_sign[:, None] * B[pencil.pinned_branch].toarray()
+        driven = np.flatnonzero(np.any(u != 0, axis=0))
+        if driven.size:
+            mask = np.ones(k)
+            mask[driven] = 0.0
+            B = (B @ sp.diags(mask)).tocsc()
     dyn, alg = pencil.dynamic, pencil.algebraic
     c_r = c[dyn]
     b_r = B[dyn]
+    z_a = np.zeros(alg.size)
     if alg.size:
         solve = pencil.solve_algebraic
         assert callable(solve)
@@ -250,15 +304,54 @@ def symmetric_totals(pencil: SymmetricPencil, c: np.ndarray, B, density: np.ndar
     cauchy = 1.0 / (rates[:, None] + rates[None, :])
     m = pencil.size
     scaled_b = sp.diags(pencil.scale) @ b_r  # sign: |H|² does not see it
-    k = B.shape[1]
     if k < m:  # q = Vᵀ b per column, then qᵀ M q: 2 m² K flops
         q = np.asarray((scaled_b.T @ v).T)
         weighted = (p[:, None] * p[None, :] * cauchy) @ q
         quad = np.einsum("ik,ik->k", q, weighted)
     else:  # the Gramian W = Y Cauchy Yᵀ (Y = V diag p) only where the sparse columns need it: 2 m³
         quad = _sparse_quadratic_forms(v * p[None, :], cauchy, sp.csc_matrix(scaled_b))
+    for j in driven[sk[driven] > 0]:
+        column = given[:, [j]].toarray().ravel()
+        quad[j] = _driven_quadratic_form(pencil, c, column, u[:, j], z_a, v, p, rates, cauchy)
     variance = np.maximum(0.5 * sk * quad, 0.0)
     return SymmetricTotals(variance=variance, poles_Hz=rates / (2 * math.pi), tolerance=rounding_tolerance(rates))
+
+
+def _driven_quadratic_form(
+    pencil: SymmetricPencil,
+    c: np.ndarray,
+    b: np.ndarray,
+    u: np.ndarray,
+    z_a: np.ndarray,
+    v: np.ndarray,
+    p: np.ndarray,
+    rates: np.ndarray,
+    cauchy: np.ndarray,
+) -> float:
+    """aᵀ·cauchy·a (twice ∫0^∞|H|² df) of a column ``b`` that holds the pinned nodes at ``u`` (P,):
+    the rest sees ``b − G_·s u`` and, times s, ``−C_·s u``, so
+    H = d + sign·pᵀ(Λ + s)⁻¹(q0 + s q1) = d + sign·pᵀq1 + sign·Σ_i p_i (q0_i − λ_i q1_i)/(s + λ_i);
+    the direct part must cancel (NotSymmetricDefinite otherwise: no roll-off)."""
+    dyn, alg = pencil.dynamic, pencil.algebraic
+    b0 = b - pencil.g_pinned @ u
+    b1 = -(pencil.c_pinned @ u)
+    direct = float(c[pencil.pinned] @ u)  # the output on a pinned node
+    size = float(np.abs(c[pencil.pinned]) @ np.abs(u))
+    b0_r = b0[dyn]
+    if alg.size:
+        solve = pencil.solve_algebraic
+        assert callable(solve)
+        direct += float(z_a @ b0[alg])
+        size += float(np.abs(z_a) @ np.abs(b0[alg]))
+        b0_r = b0_r - pencil.coupling @ solve(b0[alg])
+    q0 = v.T @ (pencil.scale * b0_r)
+    q1 = v.T @ (pencil.scale * b1[dyn])
+    through = pencil.sign * float(p @ q1)
+    size += float(np.abs(p) @ np.abs(q1))
+    if abs(direct + through) > _DIRECT_SHARE * size:
+        raise NotSymmetricDefinite("a source reaches the output with no roll-off")
+    a = p * (q0 - rates * q1)
+    return float(a @ cauchy @ a)
 
 
 def _sparse_quadratic_forms(y: np.ndarray, cauchy: np.ndarray, b: sp.csc_matrix) -> np.ndarray:
