@@ -566,3 +566,18 @@ def test_driven_source_without_roll_off_goes_to_qz():
     assert noise_only.total_method == "exact-symmetric"
     # equipartition (Reif): a holds C1 (to the pinned node) and C2: kT/(C1 + C2) at 27 °C
     assert noise_only.total_variance == pytest.approx(constants.Boltzmann * 300.15 / 2e-9, rel=1e-12)
+
+
+def test_biased_diode_is_a_symmetric_stamp():
+    # A diode linearised at its operating point is a conductance and a junction capacitance
+    # between its two terminals: symmetric G and C, so the symmetric path takes it; reference:
+    # the QZ path on the same circuit.  Values invented.
+    from netnoise.netlist.load import parse_netlist
+
+    ckt = parse_netlist(
+        "diode bias\nV1 vdd 0 DC 5\nR1 vdd a 10k\nD1 a 0 DMOD\nC1 a 0 1n\nR2 a out 1k\nC2 out 0 100p\n"
+        ".model DMOD D IS=1e-14 CJO=2p\n.end\n"
+    )
+    fast, slow = _both(ckt, output="out")
+    assert fast.total_method == "exact-symmetric" and "D1 (shot)" in fast.source_names
+    assert fast.source_variance == pytest.approx(slow.source_variance, rel=1e-9)
