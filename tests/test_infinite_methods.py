@@ -581,3 +581,17 @@ def test_biased_diode_is_a_symmetric_stamp():
     fast, slow = _both(ckt, output="out")
     assert fast.total_method == "exact-symmetric" and "D1 (shot)" in fast.source_names
     assert fast.source_variance == pytest.approx(slow.source_variance, rel=1e-9)
+
+
+def test_too_little_memory_for_the_eigenproblem_falls_back():
+    # With room for no dense matrix the symmetric method steps aside (NotSymmetricDefinite, which
+    # the dispatch answers with the next method) instead of refusing the whole analysis.
+    from netnoise.engine import resources
+
+    ckt = circuit(R("R1", "a", "0", 1e3), C("C1", "a", "0", 1e-9), R("R2", "a", "b", 1e3), C("C2", "b", "0", 1e-9))
+    with pytest.raises(NotSymmetricDefinite, match="memory"):
+        resources.set_available_memory(100)
+        try:
+            _pencil_of(ckt)
+        finally:
+            resources.set_available_memory(None)

@@ -51,6 +51,7 @@ import scipy.sparse as sp
 
 from netnoise.engine.resources import require_memory
 from netnoise.engine.total_variance import rounding_tolerance
+from netnoise.errors import CircuitError
 
 __all__ = [
     "SYMMETRIC_LIMIT",
@@ -160,7 +161,10 @@ def symmetric_pencil(G, C) -> SymmetricPencil:
     if m == 0:
         raise NotSymmetricDefinite("no capacitance or inductance: no poles")
     # g, c, L, L⁻¹gL⁻ᵀ here; eigenvectors, V, the Cauchy matrix and the Gramian in the totals
-    require_memory(8 * m * m * 8, "the dense symmetric eigenproblem to infinite bandwidth")
+    try:
+        require_memory(8 * m * m * 8, "the dense symmetric eigenproblem to infinite bandwidth")
+    except CircuitError:  # the next method may fit where this one does not
+        raise NotSymmetricDefinite("not enough memory for the dense eigenproblem") from None
     c_dd = C[dynamic][:, dynamic].toarray()
     diag = np.diag(c_dd)
     if np.all(diag > 0):
