@@ -47,6 +47,7 @@ from netnoise.engine.symmetric import (
     symmetric_totals,
 )
 from netnoise.engine.total_variance import (
+    QZ_TOLERANCE_MARGIN,
     UnstableCircuit,
     finite_scaled_eigenvalues,
     infinite_band_totals,
@@ -872,7 +873,7 @@ def _qz_totals(problem: _Problem) -> _InfiniteTotals:
         exact.variance,
         exact.poles_Hz,
         "exact-qz",
-        rounding_tolerance(exact.poles_Hz),
+        rounding_tolerance(exact.poles_Hz, QZ_TOLERANCE_MARGIN),
         "the total to infinite bandwidth is exact" + _white_only(problem) + " (the state space, by QZ)",
     )
 
