@@ -274,12 +274,14 @@ def exact_cost(sizes) -> list[dict]:
     import scipy.linalg as la
 
     import netnoise
+    from netnoise.engine.options import SolverOptions
 
+    qz = SolverOptions(symmetric_limit=0)  # the QZ path itself (an RC ladder would take the symmetric one)
     rows = []
     for n in sizes:
         circuit = netnoise.parse_netlist(gen.rc_ladder(n, source=False))
         repeat = 3 if n <= 300 else 1  # the first small one would otherwise carry first-call costs
-        t_engine = best(lambda: netnoise.analyze(circuit, output=f"n{n}", band=(0, math.inf)), repeat)
+        t_engine = best(lambda: netnoise.analyze(circuit, output=f"n{n}", band=(0, math.inf), options=qz), repeat)
         G, C = gen.ladder_matrices(n)
         t_ref = best(lambda: la.ordqz(-G.toarray(), C.toarray(), sort="lhp", output="real"), repeat)
         rows.append(dict(n=n, engine=t_engine, ref=t_ref))
@@ -297,11 +299,13 @@ def wideband(n_check: int, n_large: int) -> dict:
         circuit, output=f"n{n_check}", band=(0, math.inf), options=SolverOptions(exact_limit=10**9)
     )
     t = time.perf_counter()
-    approx = netnoise.analyze(circuit, output=f"n{n_check}", band=(0, math.inf), options=SolverOptions(exact_limit=0))
+    approx = netnoise.analyze(
+        circuit, output=f"n{n_check}", band=(0, math.inf), options=SolverOptions(exact_limit=0, symmetric_limit=0)
+    )
     t_small = time.perf_counter() - t
     big = netnoise.parse_netlist(gen.rc_ladder(n_large, source=False))
     t = time.perf_counter()
-    netnoise.analyze(big, output=f"n{n_large}", band=(0, math.inf))
+    netnoise.analyze(big, output=f"n{n_large}", band=(0, math.inf), options=SolverOptions(symmetric_limit=0))
     t_large = time.perf_counter() - t
     v_e, v_a = np.asarray(exact.source_variance), np.asarray(approx.source_variance)
     return dict(
@@ -312,6 +316,40 @@ def wideband(n_check: int, n_large: int) -> dict:
         n_check=n_check,
         n_large=n_large,
     )
+
+
+# --- symmetric exact path (issue 16) ----------------------------------------------------
+def symmetric_cost(shape_large: tuple[int, int], shape_small: tuple[int, int]) -> dict:
+    """Exact totals to infinity of an RC mesh through analyze() (symmetric path) against one bare
+    scipy.linalg.eigh of its (G, C) pencil; at the small size also the old QZ path."""
+    import scipy.linalg as la
+
+    import netnoise
+    from netnoise.engine.options import SolverOptions
+
+    out = {}
+    for key, (nx, ny) in (("large", shape_large), ("small", shape_small)):
+        circuit = netnoise.parse_netlist(gen.rc_mesh(nx, ny))
+        G, C = gen.mesh_matrices(nx, ny)
+        g, c = G.toarray(), C.toarray()
+        repeat = 2 if key == "large" else 3
+        found = []
+        t_engine = best(lambda: found.append(netnoise.analyze(circuit, band=(0, math.inf))), repeat)
+        t_ref = best(lambda: la.eigh(g, c), repeat)
+        row = dict(
+            n=nx * ny, engine=t_engine, ref=t_ref, method=found[-1].total_method, sources=len(found[-1].source_names)
+        )
+        if key == "small":
+            qz = []
+            row["qz"] = best(
+                lambda: qz.append(
+                    netnoise.analyze(circuit, band=(0, math.inf), options=SolverOptions(symmetric_limit=0))
+                ),
+                1,
+            )
+            row["agree"] = abs(found[-1].total_variance / qz[-1].total_variance - 1)
+        out[key] = row
+    return out
 
 
 def machine() -> str:
@@ -342,7 +380,7 @@ def main(argv=None) -> int:
         "--only",
         nargs="*",
         default=None,
-        choices=["startup", "small", "rerun", "sweep", "ladder", "mesh", "parse", "exact", "wideband"],
+        choices=["startup", "small", "rerun", "sweep", "ladder", "mesh", "parse", "exact", "wideband", "symmetric"],
         help="run only these figures",
     )
     args = ap.parse_args(argv)
@@ -478,6 +516,30 @@ def main(argv=None) -> int:
                 "",
                 None,
                 f"worst single source {w['worst_source_rel']:.1e}",
+            )
+        if want("symmetric"):
+            sy = symmetric_cost((20, 25) if q else (40, 50), (10, 10) if q else (24, 25))
+            big, little = sy["large"], sy["small"]
+            line(
+                f"exact total, RC mesh {big['n']} unknowns ({big['method']})",
+                f"{big['engine']:.2f} s",
+                f"{big['ref']:.2f} s",
+                big["engine"] / big["ref"],
+                f"<= 2x  (bare: scipy.linalg.eigh(G, C); {big['sources']} sources, analyze() whole)",
+            )
+            line(
+                f"  at {little['n']} unknowns ({little['method']})",
+                f"{little['engine']:.2f} s",
+                f"{little['ref']:.2f} s",
+                little["engine"] / little["ref"],
+                "(bare: scipy.linalg.eigh(G, C))",
+            )
+            line(
+                f"  the QZ path at {little['n']} unknowns",
+                f"{little['qz']:.2f} s",
+                f"{little['engine']:.2f} s",
+                little["qz"] / little["engine"],
+                f"(reference: the symmetric path; totals agree to {little['agree']:.1e})",
             )
     print(
         f"peak memory of this benchmark process: {resource.getrusage(resource.RUSAGE_SELF).ru_maxrss / 2**20:.2f} GiB"

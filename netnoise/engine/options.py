@@ -4,6 +4,7 @@ from __future__ import annotations
 
 from dataclasses import dataclass
 
+from netnoise.engine.symmetric import SYMMETRIC_LIMIT
 from netnoise.engine.total_variance import EXACT_LIMIT
 from netnoise.errors import UsageError
 
@@ -21,18 +22,22 @@ class SolverOptions:
     ``dense_limit``: unknowns up to which the dense batched path is taken.
     ``exact_limit``: unknowns up to which the total to infinite bandwidth is
     exact (dense QZ, O(n³)); beyond it, quadrature plus an analytic tail.
+    ``symmetric_limit``: unknowns up to which a circuit with symmetric G and C
+    (RC networks) gets its exact total from one symmetric eigendecomposition
+    (:mod:`netnoise.engine.symmetric`), whatever ``exact_limit`` says.
     ``rtol``: the band integrator's relative tolerance on its error estimate.
     """
 
     method: str | None = None
     dense_limit: int = 200
     exact_limit: int = EXACT_LIMIT
+    symmetric_limit: int = SYMMETRIC_LIMIT
     rtol: float = 1e-6
 
     def __post_init__(self) -> None:
         if self.method is not None and self.method not in METHODS:
             raise UsageError(f"solver method must be one of {', '.join(METHODS)} or None, not {self.method!r}")
-        if self.dense_limit < 0 or self.exact_limit < 0:
-            raise UsageError("dense_limit and exact_limit must be >= 0")
+        if self.dense_limit < 0 or self.exact_limit < 0 or self.symmetric_limit < 0:
+            raise UsageError("dense_limit, exact_limit and symmetric_limit must be >= 0")
         if not 0 < self.rtol < 1:
             raise UsageError(f"rtol must lie between 0 and 1, not {self.rtol!r}")
