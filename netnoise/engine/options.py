@@ -41,5 +41,7 @@ class SolverOptions:
             raise UsageError("dense_limit and exact_limit must be >= 0")
         if not 0 < self.rtol < 1:
             raise UsageError(f"rtol must lie between 0 and 1, not {self.rtol!r}")
-        if self.jobs is not None and (isinstance(self.jobs, bool) or not isinstance(self.jobs, Integral) or self.jobs < 1):
+        if self.jobs is not None and (
+            isinstance(self.jobs, bool) or not isinstance(self.jobs, Integral) or self.jobs < 1
+        ):
             raise UsageError(f"jobs must be a whole number of 1 or more, or None for every core, not {self.jobs!r}")

@@ -93,29 +93,36 @@ def transfer_power(
     options: SolverOptions | None = None,
 ):
     """``(|zᵀB|² (K, F), |zᵀu|² (F,) or None)``: the power transfer from every
-    column of the sparse injection matrix ``B`` (n, K) and from the input
+    column of the sparse injection matrix ``B`` (n, K; None: no sources) and from the input
     vector ``u``, in blocks of frequencies (the (F, n) solutions are never
     all held at once for a large circuit).  ``power_out``: a (K, F) array to
     fill and return as the first; ``progress``: see :meth:`AdjointSolver.solve`."""
     f = np.asarray(frequency_Hz, dtype=float)
     solver = solver_for(system, options)
     jobs = options.jobs if options is not None else None
-    bt = injection.T.tocsr()  # (K, n)
-    k = bt.shape[0]
+    bt = injection.T.tocsr() if injection is not None else None  # (K, n)
+    k = bt.shape[0] if bt is not None else 0
     power = power_out
     if power is None:
         require_memory(f.size * (k * 8 + 8), "the per-source transfer at every frequency")
         power = np.empty((k, f.size))
     signal = np.empty(f.size) if input_vector is not None else None
-    chunk = f.size if solver.method == "dense" else _GAIN_CHUNK
+    # zᵀu summed over u's few nonzeros in a fixed order, elementwise: the same bits however many
+    # frequencies are solved together (a BLAS matrix-vector product need not be), which the
+    # analysis's memo relies on
+    u = np.asarray(input_vector, dtype=float) if signal is not None else np.zeros(0)
+    u_at = np.flatnonzero(u)
+    chunk = max(1, f.size) if solver.method == "dense" else _GAIN_CHUNK
     for start in range(0, f.size, chunk):
         stop = min(f.size, start + chunk)
         z = solver.solve(selector, f[start:stop], progress, jobs=jobs)  # (Fc, n)
-        if k:
+        if bt is not None and k:
             gains = bt @ z.T  # (K, Fc)
             power[:, start:stop] = gains.real**2 + gains.imag**2
         if signal is not None:
-            s = z @ input_vector
+            s = np.zeros(stop - start, dtype=complex)
+            for j in u_at:
+                s += z[:, j] * u[j]
             signal[start:stop] = s.real**2 + s.imag**2
     return power, signal
 
