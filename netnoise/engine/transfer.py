@@ -112,7 +112,9 @@ def transfer_power(
     # analysis's memo relies on
     u = np.asarray(input_vector, dtype=float) if signal is not None else np.zeros(0)
     u_at = np.flatnonzero(u)
-    chunk = max(1, f.size) if solver.method == "dense" else _GAIN_CHUNK
+    # a block per thread-pool run: 32 frequencies per thread, so that the threads' uneven finish
+    # at the end of each block costs little
+    chunk = max(1, f.size) if solver.method == "dense" else _GAIN_CHUNK * solver.threads_for(jobs)
     for start in range(0, f.size, chunk):
         stop = min(f.size, start + chunk)
         z = solver.solve(selector, f[start:stop], progress, jobs=jobs)  # (Fc, n)
@@ -337,6 +339,13 @@ class AdjointSolver:
             else:
                 _on_threads(threads, one, c, f, out, progress)
         return out
+
+    def threads_for(self, jobs: int | None) -> int:
+        """Threads :meth:`solve` runs for ``jobs`` on this path (1 on the dense and the general
+        banded paths)."""
+        if self.method == "dense" or (self.method == "banded" and self._gtsv is None):
+            return 1
+        return thread_count(jobs)
 
     # -- checks --------------------------------------------------------------
     def _check(self, f: float, w_c: np.ndarray, w_p: np.ndarray, rhs_norm: float, norm: float) -> None:
