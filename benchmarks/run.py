@@ -345,6 +345,7 @@ def cores(nx: int, ny: int, repeat: int = 3) -> dict:
                 results[jobs] = netnoise.analyze(circuit, band=(1e3, 1e10), options=SolverOptions(jobs=jobs))
                 runs[jobs].append((time.perf_counter() - t, time.process_time() - c))
             load.append(os.getloadavg()[0])
+        frequencies = solved[0]  # what one analysis solved
         same = np.array_equal(results[1].source_density, results[2].source_density) and np.array_equal(
             results[1].source_variance, results[2].source_variance
         )
@@ -386,7 +387,7 @@ def cores(nx: int, ny: int, repeat: int = 3) -> dict:
                     with ThreadPoolExecutor(jobs) as pool:
                         list(pool.map(one, fs))
                     bare[jobs].append((time.perf_counter() - t, time.process_time() - cp))
-        print(json.dumps(dict(runs=runs, bare=bare, solved=solved[0], same=bool(same), load=load, share=share,
+        print(json.dumps(dict(runs=runs, bare=bare, solved=frequencies, same=bool(same), load=load, share=share,
               cores=len(os.sched_getaffinity(0)), nodes={nx} * {ny})))
     """
     return run_child(code)

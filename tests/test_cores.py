@@ -62,7 +62,7 @@ def solved(monkeypatch):
 
 
 def _no_memo(monkeypatch):
-    monkeypatch.setattr(analysis._Problem, "remembering", lambda self: contextlib.nullcontext())
+    monkeypatch.setattr(analysis._Problem, "remembering", lambda self, keep_rows=True: contextlib.nullcontext())
 
 
 def _same_bits(a, b) -> None:
@@ -263,3 +263,23 @@ def test_cli_jobs_on_analyze_and_sweep(tmp_path, capsys, monkeypatch):
     capsys.readouterr()
     assert cli.main(["analyze", str(path), "--out", "n20", "--jobs", "0"]) != 0
     assert "--jobs" in capsys.readouterr().err
+
+
+def test_a_finite_band_keeps_no_per_source_rows(monkeypatch, solved):
+    # a finite band's integrator never asks a frequency twice: only the signal's |H|² is kept
+    from netnoise.engine import memo as memo_module
+
+    made: list[memo_module.TransferMemo] = []
+    plain = memo_module.TransferMemo.__init__
+
+    def recording(self, sources, keep_rows=True):
+        plain(self, sources, keep_rows)
+        made.append(self)
+
+    monkeypatch.setattr(memo_module.TransferMemo, "__init__", recording)
+    circuit = netnoise.parse_netlist(ladder(300))
+    netnoise.analyze(circuit, output="n300", input_source="Vin", band=(0.0, 1e9))
+    assert len(made) == 1 and not made[0].keep_rows and made[0]._blocks == []
+    assert made[0].solved == len(solved) == len(set(solved))
+    netnoise.analyze(circuit, output="n300", input_source="Vin", band=(0.0, math.inf))
+    assert len(made) == 2 and made[1].keep_rows

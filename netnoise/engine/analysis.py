@@ -217,14 +217,15 @@ class _Problem:
         self._memo: TransferMemo | None = None  # set for the length of one analysis (remembering)
 
     @contextlib.contextmanager
-    def remembering(self) -> Iterator[TransferMemo]:
+    def remembering(self, keep_rows: bool = True) -> Iterator[TransferMemo]:
         """Within: every frequency solved is kept (:class:`~netnoise.engine.memo.TransferMemo`)
-        and not solved again; after: forgotten, so that no later analysis (a refill with other
-        values, a rerun) sees these solves.  Nested uses share the outer memo."""
+        and not solved again -- the per-source rows only with ``keep_rows``, the signal's |H|²
+        always; after: forgotten, so that no later analysis (a refill with other values, a
+        rerun) sees these solves.  Nested uses share the outer memo."""
         if self._memo is not None:
             yield self._memo
             return
-        self._memo = TransferMemo(len(self.sources))
+        self._memo = TransferMemo(len(self.sources), keep_rows)
         try:
             yield self._memo
         finally:
@@ -295,7 +296,7 @@ class _Problem:
                 progress=self.progress,
                 options=self.options,
             )
-            memo.keep(f, power_out.copy(), signal)  # the caller scales power_out in place
+            memo.keep(f, power_out.copy() if memo.keep_rows else None, signal)  # power_out is scaled in place
             return signal
         fresh: dict[float, tuple[np.ndarray, int]] = {}
         if new.size:
@@ -490,7 +491,9 @@ class PreparedAnalysis:
 
     def analyze(self) -> NoiseResult:
         """The noise result of this circuit with these settings."""
-        with self._problem.remembering():  # every frequency solved once in this analysis, forgotten after it
+        # every frequency solved once in this analysis, forgotten after it; the per-source rows are
+        # asked again only on a band to infinity (a finite band's later questions are the signal's)
+        with self._problem.remembering(keep_rows=math.isinf(self._problem.settings.high)):
             return _analyze(self._problem, self._source_resistor, self._gain_at_Hz)
 
     def with_circuit(self, circuit: ck.Circuit) -> PreparedAnalysis:

@@ -10,9 +10,12 @@ path's ``|zᵀu|²`` -- keyed by the exact float frequency, for the length of on
 densities: the densities are the transfers times each source's density at that frequency,
 whichever part (full, white, 1/f) a caller asks for.
 
-Memory: the per-source rows are kept only while they fit in a quarter of the share of the
-available memory one array may take (:mod:`netnoise.engine.resources`); past it a frequency
-is solved again rather than kept.  A frequency's values are the same bits whether they come
+Memory: the per-source rows are kept only when the analysis will ask for them again
+(``keep_rows``: a band to infinity, where a quadrature and the spectrum shown share their
+frequencies; a finite band's integrator never asks twice, and its later questions are the
+signal path's alone), and only while they fit in a quarter of the share of the available
+memory one array may take (:mod:`netnoise.engine.resources`); past it a frequency is solved
+again rather than kept.  A frequency's values are the same bits whether they come
 from here or from a new solve (every solver path solves each frequency alone).
 """
 
@@ -33,8 +36,9 @@ class TransferMemo:
     ``solved`` counts the frequencies solved while this memo was in use (each one once,
     unless the memory bound dropped its rows)."""
 
-    def __init__(self, sources: int) -> None:
+    def __init__(self, sources: int, keep_rows: bool = True) -> None:
         self.sources = sources
+        self.keep_rows = keep_rows
         self._column: dict[float, tuple[int, int]] = {}  # f -> (block, column) of its per-source row
         self._blocks: list[np.ndarray] = []  # (K, M) power transfers, as solved together
         self._signal: dict[float, float] = {}  # f -> |H|² of the input (when there is one)
@@ -69,7 +73,7 @@ class TransferMemo:
         self.solved += len(keys)
         if signal is not None:
             self._signal.update(zip(keys, signal.tolist()))
-        if power is None or not keys:
+        if power is None or not keys or not self.keep_rows:
             return
         if self._bytes + power.nbytes > _MEMO_SHARE * MEMORY_FRACTION * available_memory():
             return  # solved again if asked again: slower, never wrong
