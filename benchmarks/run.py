@@ -346,6 +346,20 @@ def cores(nx: int, ny: int, repeat: int = 3) -> dict:
                 runs[jobs].append((time.perf_counter() - t, time.process_time() - c))
             load.append(os.getloadavg()[0])
         frequencies = solved[0]  # what one analysis solved
+        # item 3 of the issue: to infinite bandwidth (beyond the exact limit: a quadrature, then the
+        # spectrum shown on a grid it shares), with the memo and without it (patched out)
+        import contextlib
+        from netnoise.engine import analysis
+        wide = {{}}
+        for label in ("memo", "none"):
+            if label == "none":
+                analysis._Problem.remembering = lambda self, keep_rows=True: contextlib.nullcontext()
+            solved[0] = 0
+            t = time.perf_counter()
+            r = netnoise.analyze(circuit, band=(0.0, float("inf")), options=SolverOptions(jobs=1))
+            wide[label] = (solved[0], time.perf_counter() - t, r.source_variance)
+        wide_same = bool(np.array_equal(wide["memo"][2], wide["none"][2]))
+        wide = {{label: value[:2] for label, value in wide.items()}}
         same = np.array_equal(results[1].source_density, results[2].source_density) and np.array_equal(
             results[1].source_variance, results[2].source_variance
         )
@@ -387,7 +401,7 @@ def cores(nx: int, ny: int, repeat: int = 3) -> dict:
                     with ThreadPoolExecutor(jobs) as pool:
                         list(pool.map(one, fs))
                     bare[jobs].append((time.perf_counter() - t, time.process_time() - cp))
-        print(json.dumps(dict(runs=runs, bare=bare, solved=frequencies, same=bool(same), load=load, share=share,
+        print(json.dumps(dict(runs=runs, bare=bare, solved=frequencies, wide=wide, wide_same=wide_same, same=bool(same), load=load, share=share,
               cores=len(os.sched_getaffinity(0)), nodes={nx} * {ny})))
     """
     return run_child(code)
@@ -593,6 +607,14 @@ def main(argv=None) -> int:
                 None,
                 f"1 thread {b1:.2f} s / {bc1:.2f} s; load (1 min) {', '.join(f'{x:.1f}' for x in k['load'])} "
                 f"on {k['cores']} cores",
+            )
+            (n_memo, t_memo), (n_none, t_none) = k["wide"]["memo"], k["wide"]["none"]
+            line(
+                "  to infinity (jobs=1): solves with / without memo",
+                f"{n_memo}",
+                f"{n_none}",
+                n_memo / n_none,
+                f"{t_memo:.2f} s vs {t_none:.2f} s; same bits: {k['wide_same']}",
             )
     print(
         f"peak memory of this benchmark process: {resource.getrusage(resource.RUSAGE_SELF).ru_maxrss / 2**20:.2f} GiB"
