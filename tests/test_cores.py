@@ -283,3 +283,53 @@ def test_a_finite_band_keeps_no_per_source_rows(monkeypatch, solved):
     assert made[0].solved == len(solved) == len(set(solved))
     netnoise.analyze(circuit, output="n300", input_source="Vin", band=(0.0, math.inf))
     assert len(made) == 2 and made[1].keep_rows
+
+
+def test_a_small_circuit_never_loads_threadpoolctl():
+    # the dense batched path is one call: no threads, no BLAS limits, nothing imported for them
+    import os
+    import pathlib
+    import subprocess
+    import sys
+
+    repo = pathlib.Path(__file__).resolve().parents[1]
+    code = (
+        "import sys, netnoise\n"
+        "c = netnoise.parse_netlist('rc\\nV1 in 0 AC 1\\nR1 in out 1k\\nC1 out 0 1n\\n.end\\n')\n"
+        "netnoise.analyze(c, output='out', input_source='V1', band=(1, 1e6))\n"
+        "print('TPC:', 'threadpoolctl' in sys.modules, 'concurrent.futures.thread' in sys.modules)\n"
+    )
+    completed = subprocess.run(
+        [sys.executable, "-c", code],
+        cwd=repo,
+        env={**os.environ, "PYTHONPATH": str(repo)},
+        capture_output=True,
+        text=True,
+        timeout=120,
+    )
+    assert completed.returncode == 0, completed.stderr
+    assert completed.stdout.strip() == "TPC: False False"
+
+
+def test_the_memo_keeps_no_rows_beyond_its_memory_share(monkeypatch, solved):
+    # with little memory the memo keeps no per-source rows: the frequencies are solved again,
+    # to the same bits as an analysis without the memo
+    from netnoise.engine import resources
+
+    circuit = netnoise.parse_netlist(mesh(9, 9))
+    kwargs = dict(output="m8_8", input_source="Vin", band=(0.0, math.inf), options=SolverOptions(exact_limit=50))
+    plenty = netnoise.analyze(circuit, **kwargs)
+    with_room = len(solved)
+    resources.set_available_memory(2**19)  # the memo's share (a fifth) is below one grid's rows
+    try:
+        solved.clear()
+        tight = netnoise.analyze(circuit, **kwargs)
+        tight_solves = len(solved)
+        _no_memo(monkeypatch)
+        solved.clear()
+        bare = netnoise.analyze(circuit, **kwargs)
+    finally:
+        resources.set_available_memory(None)
+    assert tight_solves > with_room and tight_solves < len(solved)  # the signal's |H|² is still kept
+    _same_bits(tight, bare)
+    assert plenty.total_rms == pytest.approx(tight.total_rms, rel=1e-6)  # the same analysis, less memory
