@@ -352,6 +352,99 @@ def symmetric_cost(shape_large: tuple[int, int], shape_small: tuple[int, int]) -
     return out
 
 
+def cores(nx: int, ny: int, repeat: int = 3) -> dict:
+    """Issue 16: analyze() of an RC mesh over a finite band with jobs=2 against jobs=1, runs
+    interleaved in one fresh process; wall and CPU time (every thread of the process) of each.
+    Beside it, the bare ceiling: the same number of splu + solve of the mesh's nodal matrix on
+    2 threads against 1 (BLAS on one thread), measured in the same run."""
+    code = f"""
+        import json, os, sys, time
+        sys.path.insert(0, {str(HERE)!r})
+        import numpy as np, generators as gen, netnoise
+        from concurrent.futures import ThreadPoolExecutor
+        import scipy.sparse.linalg as spla
+        from threadpoolctl import threadpool_limits
+        from netnoise.engine import transfer
+        from netnoise.engine.options import SolverOptions
+        circuit = netnoise.parse_netlist(gen.rc_mesh({nx}, {ny}))
+        solved = [0]
+        plain_solve = transfer.AdjointSolver.solve
+        def counting(self, selector, f, progress=None, jobs=1):
+            solved[0] += len(f)
+            return plain_solve(self, selector, f, progress, jobs)
+        transfer.AdjointSolver.solve = counting
+        load = [os.getloadavg()[0]]
+        runs = {{1: [], 2: []}}
+        results = {{}}
+        for _ in range({repeat}):
+            for jobs in (1, 2):  # interleaved: both see the same load
+                solved[0] = 0
+                t, c = time.perf_counter(), time.process_time()
+                results[jobs] = netnoise.analyze(circuit, band=(1e3, 1e10), options=SolverOptions(jobs=jobs))
+                runs[jobs].append((time.perf_counter() - t, time.process_time() - c))
+            load.append(os.getloadavg()[0])
+        frequencies = solved[0]  # what one analysis solved
+        # item 3 of the issue: to infinite bandwidth (beyond the exact limit: a quadrature, then the
+        # spectrum shown on a grid it shares), with the memo and without it (patched out)
+        import contextlib
+        from netnoise.engine import analysis
+        wide = {{}}
+        for label in ("memo", "none"):
+            if label == "none":
+                analysis._Problem.remembering = lambda self, keep_rows=True: contextlib.nullcontext()
+            solved[0] = 0
+            t = time.perf_counter()
+            r = netnoise.analyze(circuit, band=(0.0, float("inf")), options=SolverOptions(jobs=1))
+            wide[label] = (solved[0], time.perf_counter() - t, r.source_variance)
+        wide_same = bool(np.array_equal(wide["memo"][2], wide["none"][2]))
+        wide = {{label: value[:2] for label, value in wide.items()}}
+        same = np.array_equal(results[1].source_density, results[2].source_density) and np.array_equal(
+            results[1].source_variance, results[2].source_variance
+        )
+        # the share of a jobs=1 analysis spent inside SuperLU's factor and solve (the GIL released
+        # there): Amdahl's bound on what two threads can give, whatever the machine's load
+        inside = [0.0]
+        plain_splu = spla.splu
+        class Timed:
+            def __init__(self, lu):
+                self.lu = lu
+            def solve(self, rhs):
+                t = time.perf_counter()
+                out = self.lu.solve(rhs)
+                inside[0] += time.perf_counter() - t
+                return out
+            def __getattr__(self, name):
+                return getattr(self.lu, name)
+        def timed_splu(*args, **kwargs):
+            t = time.perf_counter()
+            lu = plain_splu(*args, **kwargs)
+            inside[0] += time.perf_counter() - t
+            return Timed(lu)
+        spla.splu = timed_splu
+        t = time.perf_counter()
+        netnoise.analyze(circuit, band=(1e3, 1e10), options=SolverOptions(jobs=1))
+        share = inside[0] / (time.perf_counter() - t)
+        spla.splu = plain_splu
+        G, C = gen.mesh_matrices({nx}, {ny})
+        c = np.zeros(G.shape[0]) + 0j
+        c[-1] = 1.0
+        fs = np.logspace(3, 10, 24)
+        def one(fi):
+            spla.splu((G + 2j * np.pi * fi * C).tocsc()).solve(c, trans="T")
+        bare = {{1: [], 2: []}}
+        with threadpool_limits(limits=1):
+            for _ in range({repeat}):
+                for jobs in (1, 2):
+                    t, cp = time.perf_counter(), time.process_time()
+                    with ThreadPoolExecutor(jobs) as pool:
+                        list(pool.map(one, fs))
+                    bare[jobs].append((time.perf_counter() - t, time.process_time() - cp))
+        print(json.dumps(dict(runs=runs, bare=bare, solved=frequencies, wide=wide, wide_same=wide_same, same=bool(same), load=load, share=share,
+              cores=len(os.sched_getaffinity(0)), nodes={nx} * {ny})))
+    """
+    return run_child(code)
+
+
 def machine() -> str:
     cpu = platform.processor() or ""
     try:
@@ -380,7 +473,19 @@ def main(argv=None) -> int:
         "--only",
         nargs="*",
         default=None,
-        choices=["startup", "small", "rerun", "sweep", "ladder", "mesh", "parse", "exact", "wideband", "symmetric"],
+        choices=[
+            "startup",
+            "small",
+            "rerun",
+            "sweep",
+            "ladder",
+            "mesh",
+            "parse",
+            "exact",
+            "wideband",
+            "symmetric",
+            "cores",
+        ],
         help="run only these figures",
     )
     args = ap.parse_args(argv)
@@ -540,6 +645,50 @@ def main(argv=None) -> int:
                 f"{little['engine']:.2f} s",
                 little["qz"] / little["engine"],
                 f"(reference: the symmetric path; totals agree to {little['agree']:.1e})",
+            )
+        if want("cores"):
+            nx, ny = (40, 40) if q else (100, 100)
+            k = cores(nx, ny)
+            (w1, c1), (w2, c2) = (min(k["runs"][j], key=lambda run: run[0]) for j in ("1", "2"))
+            (b1, bc1), (b2, bc2) = (min(k["bare"][j], key=lambda run: run[0]) for j in ("1", "2"))
+            line(
+                f"RC mesh {k['nodes']} nodes, analyze() jobs=2 vs jobs=1",
+                f"{w1 / w2:.2f}x",
+                f"{b1 / b2:.2f}x",
+                (w1 / w2) / (b1 / b2),
+                f">= 1.7x on 2 cores  (bare: splu + solve on 2 threads vs 1; {k['solved']} freq.; "
+                f"same bits: {k['same']})",
+            )
+            line(
+                "  jobs=1: wall / CPU (all threads)",
+                f"{w1:.2f} s",
+                f"{c1:.2f} s",
+                None,
+                f"best of {len(k['runs']['1'])}; {100 * k['share']:.0f} % of it in splu/solve (GIL released): "
+                f"Amdahl's bound on 2 cores {1 / ((1 - k['share']) + k['share'] / 2):.2f}x",
+            )
+            line(
+                "  jobs=2: wall / CPU (all threads)",
+                f"{w2:.2f} s",
+                f"{c2:.2f} s",
+                None,
+                f"CPU/wall {c2 / w2:.2f} (2.0 = both cores busy throughout); CPU vs jobs=1 {c2 / c1:.2f}x",
+            )
+            line(
+                "  bare 2 threads: wall / CPU",
+                f"{b2:.2f} s",
+                f"{bc2:.2f} s",
+                None,
+                f"1 thread {b1:.2f} s / {bc1:.2f} s; load (1 min) {', '.join(f'{x:.1f}' for x in k['load'])} "
+                f"on {k['cores']} cores",
+            )
+            (n_memo, t_memo), (n_none, t_none) = k["wide"]["memo"], k["wide"]["none"]
+            line(
+                "  to infinity (jobs=1): solves with / without memo",
+                f"{n_memo}",
+                f"{n_none}",
+                n_memo / n_none,
+                f"{t_memo:.2f} s vs {t_none:.2f} s; same bits: {k['wide_same']}",
             )
     print(
         f"peak memory of this benchmark process: {resource.getrusage(resource.RUSAGE_SELF).ru_maxrss / 2**20:.2f} GiB"

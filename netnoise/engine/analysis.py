@@ -20,9 +20,10 @@ are refused by name (:mod:`netnoise.circuit.topology`, :func:`_Problem.check_sta
 
 from __future__ import annotations
 
+import contextlib
 import difflib
 import math
-from collections.abc import Callable
+from collections.abc import Callable, Iterator
 from dataclasses import dataclass
 from typing import Any
 
@@ -33,6 +34,7 @@ from netnoise.circuit.topology import check_element_values, check_topology
 from netnoise.constants import DEFAULT_TEMPERATURE_C, MAX_TEMPERATURE_C, T0_KELVIN, ZERO_CELSIUS_K, canonical_node
 from netnoise.engformat import format_quantity
 from netnoise.engine.integrate import integrate_band
+from netnoise.engine.memo import TransferMemo
 from netnoise.engine.mna import MnaSystem, assemble
 from netnoise.engine.noise_sources import NoiseSources, collect_noise_sources
 from netnoise.engine.operating_point import NonlinearSolution, biased
@@ -225,6 +227,22 @@ class _Problem:
         self.input_unit = None
         if settings.input_source is not None:
             self.input_vector, self.input_unit = self.system.excitation_vector(settings.input_source)
+        self._memo: TransferMemo | None = None  # set for the length of one analysis (remembering)
+
+    @contextlib.contextmanager
+    def remembering(self, keep_rows: bool = True) -> Iterator[TransferMemo]:
+        """Within: every frequency solved is kept (:class:`~netnoise.engine.memo.TransferMemo`)
+        and not solved again -- the per-source rows only with ``keep_rows``, the signal's |H|²
+        always; after: forgotten, so that no later analysis (a refill with other values, a
+        rerun) sees these solves.  Nested uses share the outer memo."""
+        if self._memo is not None:
+            yield self._memo
+            return
+        self._memo = TransferMemo(len(self.sources), keep_rows)
+        try:
+            yield self._memo
+        finally:
+            self._memo = None
 
     def refilled(self, circuit: ck.Circuit) -> _Problem:
         """The same problem for ``circuit``, a copy of this one's circuit with
@@ -249,16 +267,19 @@ class _Problem:
         require_memory(rows * np.size(frequency_Hz) * 8, "the per-source transfer at every frequency")
         out = np.empty((rows, np.size(frequency_Hz)))  # filled in place: no stacking copy
         with np.errstate(over="ignore", invalid="ignore"):  # an overflow here is refused just below, by name
-            _, signal = transfer_power(
-                self.system,
-                self.selector,
-                self.sources.injection,
-                self.input_vector,
-                frequency_Hz,
-                power_out=out[:k],
-                progress=self.progress,
-                options=self.options,
-            )
+            if self._memo is None:
+                _, signal = transfer_power(
+                    self.system,
+                    self.selector,
+                    self.sources.injection,
+                    self.input_vector,
+                    frequency_Hz,
+                    power_out=out[:k],
+                    progress=self.progress,
+                    options=self.options,
+                )
+            else:
+                signal = self._remembered_power(np.asarray(frequency_Hz, dtype=float), out[:k])
             power = out[:k]
             if colored.size:
                 out[k : k + colored.size] = power[colored] * self.sources.density(frequency_Hz, "colored")[colored]
@@ -268,6 +289,46 @@ class _Problem:
         if not np.isfinite(out).all():
             self._refuse_overflow(out[:k], signal)
         return out
+
+    def _remembered_power(self, f: np.ndarray, power_out: np.ndarray) -> np.ndarray | None:
+        """Every source's power transfer at ``f`` into ``power_out`` (K, F) and |H|² of the input
+        (F,) or None, solving only the frequencies the memo does not hold."""
+        from netnoise.engine.transfer import transfer_power
+
+        memo = self._memo
+        assert memo is not None
+        new = memo.unknown(f)
+        if new.size == f.size:  # all new (the grid, the integrator's refinements): solved in place
+            _, signal = transfer_power(
+                self.system,
+                self.selector,
+                self.sources.injection,
+                self.input_vector,
+                f,
+                power_out=power_out,
+                progress=self.progress,
+                options=self.options,
+            )
+            memo.keep(f, power_out.copy() if memo.keep_rows else None, signal)  # power_out is scaled in place
+            return signal
+        fresh: dict[float, tuple[np.ndarray, int]] = {}
+        if new.size:
+            require_memory(len(self.sources) * new.size * 8, "the per-source transfer at every frequency")
+            block = np.empty((len(self.sources), new.size))
+            _, new_signal = transfer_power(
+                self.system,
+                self.selector,
+                self.sources.injection,
+                self.input_vector,
+                new,
+                power_out=block,
+                progress=self.progress,
+                options=self.options,
+            )
+            memo.keep(new, block, new_signal)
+            fresh = {fi: (block, j) for j, fi in enumerate(new.tolist())}
+        memo.fill(f, power_out, fresh)
+        return memo.signal(f) if self.has_input else None
 
     def _refuse_overflow(self, power: np.ndarray, signal: np.ndarray | None) -> None:
         """CircuitError naming the sources (or the signal path) whose output density overflowed:
@@ -478,7 +539,10 @@ class PreparedAnalysis:
 
     def analyze(self) -> NoiseResult:
         """The noise result of this circuit with these settings."""
-        return _analyze(self._problem, self._source_resistor, self._gain_at_Hz)
+        # every frequency solved once in this analysis, forgotten after it; the per-source rows are
+        # asked again only on a band to infinity (a finite band's later questions are the signal's)
+        with self._problem.remembering(keep_rows=math.isinf(self._problem.settings.high)):
+            return _analyze(self._problem, self._source_resistor, self._gain_at_Hz)
 
     def with_circuit(self, circuit: ck.Circuit) -> PreparedAnalysis:
         """This analysis for ``circuit``, the same circuit with other values
@@ -746,14 +810,23 @@ def _pass_band_gain(
 
 def _transfer_signal(problem: _Problem, frequency_Hz: np.ndarray):
     """(None, |H|²) of the signal path alone (no noise sources) at ``frequency_Hz``: the
-    adjoint solution against the input vector, on the problem's own (cached) solver."""
-    from netnoise.engine.transfer import solver_for
+    adjoint solution against the input vector, on the problem's own (cached) solver; within
+    an analysis, only at frequencies its memo does not hold yet."""
+    from netnoise.engine.transfer import transfer_power
 
     assert problem.input_vector is not None  # called for a signal path only
+    f = np.asarray(frequency_Hz, dtype=float).ravel()
+    memo = problem._memo
+    new = f if memo is None else memo.unknown_signal(f)
     with np.errstate(over="ignore", invalid="ignore"):  # an overflow is refused by the callers, by name
-        z = solver_for(problem.system, problem.options).solve(problem.selector, np.asarray(frequency_Hz, dtype=float))
-        s = z @ problem.input_vector
-        return None, s.real**2 + s.imag**2
+        _, signal = transfer_power(
+            problem.system, problem.selector, None, problem.input_vector, new, options=problem.options
+        )
+    assert signal is not None
+    if memo is None:
+        return None, signal
+    memo.keep(new, None, signal)
+    return None, memo.signal(f)
 
 
 def _linear_start(poles: np.ndarray | None, high: float) -> float:
