@@ -328,12 +328,14 @@ def exact_cost(sizes) -> list[dict]:
     import scipy.linalg as la
 
     import netnoise
+    from netnoise.engine.options import SolverOptions
 
+    qz = SolverOptions(symmetric_limit=0)  # the QZ path itself (an RC ladder would take the symmetric one)
     rows = []
     for n in sizes:
         circuit = netnoise.parse_netlist(gen.rc_ladder(n, source=False))
         repeat = 3 if n <= 300 else 1  # the first small one would otherwise carry first-call costs
-        t_engine = best(lambda: netnoise.analyze(circuit, output=f"n{n}", band=(0, math.inf)), repeat)
+        t_engine = best(lambda: netnoise.analyze(circuit, output=f"n{n}", band=(0, math.inf), options=qz), repeat)
         G, C = gen.ladder_matrices(n)
         t_ref = best(lambda: la.ordqz(-G.toarray(), C.toarray(), sort="lhp", output="real"), repeat)
         rows.append(dict(n=n, engine=t_engine, ref=t_ref))
@@ -351,11 +353,13 @@ def wideband(n_check: int, n_large: int) -> dict:
         circuit, output=f"n{n_check}", band=(0, math.inf), options=SolverOptions(exact_limit=10**9)
     )
     t = time.perf_counter()
-    approx = netnoise.analyze(circuit, output=f"n{n_check}", band=(0, math.inf), options=SolverOptions(exact_limit=0))
+    approx = netnoise.analyze(
+        circuit, output=f"n{n_check}", band=(0, math.inf), options=SolverOptions(exact_limit=0, symmetric_limit=0)
+    )
     t_small = time.perf_counter() - t
     big = netnoise.parse_netlist(gen.rc_ladder(n_large, source=False))
     t = time.perf_counter()
-    netnoise.analyze(big, output=f"n{n_large}", band=(0, math.inf))
+    netnoise.analyze(big, output=f"n{n_large}", band=(0, math.inf), options=SolverOptions(symmetric_limit=0))
     t_large = time.perf_counter() - t
     v_e, v_a = np.asarray(exact.source_variance), np.asarray(approx.source_variance)
     return dict(
@@ -366,6 +370,133 @@ def wideband(n_check: int, n_large: int) -> dict:
         n_check=n_check,
         n_large=n_large,
     )
+
+
+# --- symmetric exact path (issue 16) ----------------------------------------------------
+def symmetric_cost(shape_large: tuple[int, int], shape_small: tuple[int, int]) -> dict:
+    """Exact totals to infinity of an RC mesh through analyze() (symmetric path) against one bare
+    scipy.linalg.eigh of its (G, C) pencil; at the small size also the old QZ path."""
+    import scipy.linalg as la
+
+    import netnoise
+    from netnoise.engine.options import SolverOptions
+
+    out = {}
+    for key, (nx, ny) in (("large", shape_large), ("small", shape_small)):
+        circuit = netnoise.parse_netlist(gen.rc_mesh(nx, ny))
+        G, C = gen.mesh_matrices(nx, ny)
+        g, c = G.toarray(), C.toarray()
+        repeat = 2 if key == "large" else 3
+        found = []
+        t_engine = best(lambda: found.append(netnoise.analyze(circuit, band=(0, math.inf))), repeat)
+        t_ref = best(lambda: la.eigh(g, c), repeat)
+        row = dict(
+            n=nx * ny, engine=t_engine, ref=t_ref, method=found[-1].total_method, sources=len(found[-1].source_names)
+        )
+        if key == "small":
+            qz = []
+            row["qz"] = best(
+                lambda: qz.append(
+                    netnoise.analyze(circuit, band=(0, math.inf), options=SolverOptions(symmetric_limit=0))
+                ),
+                1,
+            )
+            row["agree"] = abs(found[-1].total_variance / qz[-1].total_variance - 1)
+        out[key] = row
+    return out
+
+
+def cores(nx: int, ny: int, repeat: int = 3) -> dict:
+    """Issue 16: analyze() of an RC mesh over a finite band with jobs=2 against jobs=1, runs
+    interleaved in one fresh process; wall and CPU time (every thread of the process) of each.
+    Beside it, the bare ceiling: the same number of splu + solve of the mesh's nodal matrix on
+    2 threads against 1 (BLAS on one thread), measured in the same run."""
+    code = f"""
+        import json, os, sys, time
+        sys.path.insert(0, {str(HERE)!r})
+        import numpy as np, generators as gen, netnoise
+        from concurrent.futures import ThreadPoolExecutor
+        import scipy.sparse.linalg as spla
+        from threadpoolctl import threadpool_limits
+        from netnoise.engine import transfer
+        from netnoise.engine.options import SolverOptions
+        circuit = netnoise.parse_netlist(gen.rc_mesh({nx}, {ny}))
+        solved = [0]
+        plain_solve = transfer.AdjointSolver.solve
+        def counting(self, selector, f, progress=None, jobs=1):
+            solved[0] += len(f)
+            return plain_solve(self, selector, f, progress, jobs)
+        transfer.AdjointSolver.solve = counting
+        load = [os.getloadavg()[0]]
+        runs = {{1: [], 2: []}}
+        results = {{}}
+        for _ in range({repeat}):
+            for jobs in (1, 2):  # interleaved: both see the same load
+                solved[0] = 0
+                t, c = time.perf_counter(), time.process_time()
+                results[jobs] = netnoise.analyze(circuit, band=(1e3, 1e10), options=SolverOptions(jobs=jobs))
+                runs[jobs].append((time.perf_counter() - t, time.process_time() - c))
+            load.append(os.getloadavg()[0])
+        frequencies = solved[0]  # what one analysis solved
+        # item 3 of the issue: to infinite bandwidth (beyond the exact limit: a quadrature, then the
+        # spectrum shown on a grid it shares), with the memo and without it (patched out)
+        import contextlib
+        from netnoise.engine import analysis
+        wide = {{}}
+        for label in ("memo", "none"):
+            if label == "none":
+                analysis._Problem.remembering = lambda self, keep_rows=True: contextlib.nullcontext()
+            solved[0] = 0
+            t = time.perf_counter()
+            r = netnoise.analyze(circuit, band=(0.0, float("inf")), options=SolverOptions(jobs=1))
+            wide[label] = (solved[0], time.perf_counter() - t, r.source_variance)
+        wide_same = bool(np.array_equal(wide["memo"][2], wide["none"][2]))
+        wide = {{label: value[:2] for label, value in wide.items()}}
+        same = np.array_equal(results[1].source_density, results[2].source_density) and np.array_equal(
+            results[1].source_variance, results[2].source_variance
+        )
+        # the share of a jobs=1 analysis spent inside SuperLU's factor and solve (the GIL released
+        # there): Amdahl's bound on what two threads can give, whatever the machine's load
+        inside = [0.0]
+        plain_splu = spla.splu
+        class Timed:
+            def __init__(self, lu):
+                self.lu = lu
+            def solve(self, rhs):
+                t = time.perf_counter()
+                out = self.lu.solve(rhs)
+                inside[0] += time.perf_counter() - t
+                return out
+            def __getattr__(self, name):
+                return getattr(self.lu, name)
+        def timed_splu(*args, **kwargs):
+            t = time.perf_counter()
+            lu = plain_splu(*args, **kwargs)
+            inside[0] += time.perf_counter() - t
+            return Timed(lu)
+        spla.splu = timed_splu
+        t = time.perf_counter()
+        netnoise.analyze(circuit, band=(1e3, 1e10), options=SolverOptions(jobs=1))
+        share = inside[0] / (time.perf_counter() - t)
+        spla.splu = plain_splu
+        G, C = gen.mesh_matrices({nx}, {ny})
+        c = np.zeros(G.shape[0]) + 0j
+        c[-1] = 1.0
+        fs = np.logspace(3, 10, 24)
+        def one(fi):
+            spla.splu((G + 2j * np.pi * fi * C).tocsc()).solve(c, trans="T")
+        bare = {{1: [], 2: []}}
+        with threadpool_limits(limits=1):
+            for _ in range({repeat}):
+                for jobs in (1, 2):
+                    t, cp = time.perf_counter(), time.process_time()
+                    with ThreadPoolExecutor(jobs) as pool:
+                        list(pool.map(one, fs))
+                    bare[jobs].append((time.perf_counter() - t, time.process_time() - cp))
+        print(json.dumps(dict(runs=runs, bare=bare, solved=frequencies, wide=wide, wide_same=wide_same, same=bool(same), load=load, share=share,
+              cores=len(os.sched_getaffinity(0)), nodes={nx} * {ny})))
+    """
+    return run_child(code)
 
 
 def machine() -> str:
@@ -396,7 +527,20 @@ def main(argv=None) -> int:
         "--only",
         nargs="*",
         default=None,
-        choices=["startup", "paths", "small", "rerun", "sweep", "ladder", "mesh", "parse", "exact", "wideband"],
+        choices=[
+            "startup",
+            "paths",
+            "small",
+            "rerun",
+            "sweep",
+            "ladder",
+            "mesh",
+            "parse",
+            "exact",
+            "wideband",
+            "symmetric",
+            "cores",
+        ],
         help="run only these figures",
     )
     args = ap.parse_args(argv)
@@ -547,6 +691,74 @@ def main(argv=None) -> int:
                 "",
                 None,
                 f"worst single source {w['worst_source_rel']:.1e}",
+            )
+        if want("symmetric"):
+            sy = symmetric_cost((20, 25) if q else (40, 50), (10, 10) if q else (24, 25))
+            big, little = sy["large"], sy["small"]
+            line(
+                f"exact total, RC mesh {big['n']} unknowns ({big['method']})",
+                f"{big['engine']:.2f} s",
+                f"{big['ref']:.2f} s",
+                big["engine"] / big["ref"],
+                f"<= 2x  (bare: scipy.linalg.eigh(G, C); {big['sources']} sources, analyze() whole)",
+            )
+            line(
+                f"  at {little['n']} unknowns ({little['method']})",
+                f"{little['engine']:.2f} s",
+                f"{little['ref']:.2f} s",
+                little["engine"] / little["ref"],
+                "(bare: scipy.linalg.eigh(G, C))",
+            )
+            line(
+                f"  the QZ path at {little['n']} unknowns",
+                f"{little['qz']:.2f} s",
+                f"{little['engine']:.2f} s",
+                little["qz"] / little["engine"],
+                f"(reference: the symmetric path; totals agree to {little['agree']:.1e})",
+            )
+        if want("cores"):
+            nx, ny = (40, 40) if q else (100, 100)
+            k = cores(nx, ny)
+            (w1, c1), (w2, c2) = (min(k["runs"][j], key=lambda run: run[0]) for j in ("1", "2"))
+            (b1, bc1), (b2, bc2) = (min(k["bare"][j], key=lambda run: run[0]) for j in ("1", "2"))
+            line(
+                f"RC mesh {k['nodes']} nodes, analyze() jobs=2 vs jobs=1",
+                f"{w1 / w2:.2f}x",
+                f"{b1 / b2:.2f}x",
+                (w1 / w2) / (b1 / b2),
+                f">= 1.7x on 2 cores  (bare: splu + solve on 2 threads vs 1; {k['solved']} freq.; "
+                f"same bits: {k['same']})",
+            )
+            line(
+                "  jobs=1: wall / CPU (all threads)",
+                f"{w1:.2f} s",
+                f"{c1:.2f} s",
+                None,
+                f"best of {len(k['runs']['1'])}; {100 * k['share']:.0f} % of it in splu/solve (GIL released): "
+                f"Amdahl's bound on 2 cores {1 / ((1 - k['share']) + k['share'] / 2):.2f}x",
+            )
+            line(
+                "  jobs=2: wall / CPU (all threads)",
+                f"{w2:.2f} s",
+                f"{c2:.2f} s",
+                None,
+                f"CPU/wall {c2 / w2:.2f} (2.0 = both cores busy throughout); CPU vs jobs=1 {c2 / c1:.2f}x",
+            )
+            line(
+                "  bare 2 threads: wall / CPU",
+                f"{b2:.2f} s",
+                f"{bc2:.2f} s",
+                None,
+                f"1 thread {b1:.2f} s / {bc1:.2f} s; load (1 min) {', '.join(f'{x:.1f}' for x in k['load'])} "
+                f"on {k['cores']} cores",
+            )
+            (n_memo, t_memo), (n_none, t_none) = k["wide"]["memo"], k["wide"]["none"]
+            line(
+                "  to infinity (jobs=1): solves with / without memo",
+                f"{n_memo}",
+                f"{n_none}",
+                n_memo / n_none,
+                f"{t_memo:.2f} s vs {t_none:.2f} s; same bits: {k['wide_same']}",
             )
     print(
         f"peak memory of this benchmark process: {resource.getrusage(resource.RUSAGE_SELF).ru_maxrss / 2**20:.2f} GiB"

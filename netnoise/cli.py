@@ -250,6 +250,7 @@ def build_parser() -> argparse.ArgumentParser:
     )
     out.add_argument("--dc", action="store_true", help="append the DC operating point to the report")
     _add_speed_options(analyze)
+    _add_jobs_option(analyze)
     analyze.add_argument_group("what to change").add_argument(
         "--sensitivity",
         action="store_true",
@@ -270,6 +271,16 @@ def _add_speed_options(command: argparse.ArgumentParser) -> None:
         metavar="ACCURACY",
         help="settling accuracy: a fraction of the step as a percentage (0.01%%) or a converter's "
         "resolution (16bit: within half an LSB, 2^-17 of the step); implies --response",
+    )
+
+
+def _add_jobs_option(command: argparse.ArgumentParser) -> None:
+    command.add_argument_group("computing").add_argument(
+        "--jobs",
+        type=_count(1),
+        metavar="N",
+        help="threads solving frequencies at once on large circuits, each with one BLAS thread "
+        "(default: every core; never more than the cores)",
     )
 
 
@@ -302,6 +313,7 @@ def _add_sweep_command(commands) -> None:
     )
     speed = sweep.add_argument_group("speed")
     speed.add_argument("--settle", metavar="ACCURACY", help="settling accuracy (0.01%%, or 16bit)")
+    _add_jobs_option(sweep)
     out = sweep.add_argument_group("outputs")
     out.add_argument("--json", metavar="PATH", help="write the sweep as JSON ('-' for standard output)")
     out.add_argument("--csv", metavar="PATH", help="write the sweep's points as CSV")
@@ -576,7 +588,18 @@ def _engine_options(args: argparse.Namespace, band, temperature) -> dict:
         options["source_resistor"] = args.source_resistor
     if args.gain_at is not None:
         options["gain_at_Hz"] = _frequency(args.gain_at, "--gain-at", allow_infinite=False)
+    if args.jobs is not None:
+        options["options"] = _solver_options(args)
     return options
+
+
+def _solver_options(args: argparse.Namespace):
+    """The solver options the command line sets (--jobs); None when it sets none."""
+    if args.jobs is None:
+        return None
+    from netnoise.engine.options import SolverOptions
+
+    return SolverOptions(jobs=args.jobs)
 
 
 def _studies(args: argparse.Namespace, circuit, band, temperature, result) -> dict:
@@ -648,6 +671,7 @@ def run_sweep(args: argparse.Namespace) -> int:
         band=band,
         points_per_decade=args.points,
         temperature_celsius=temperature,
+        options=_solver_options(args),
     )
     prepared = analysis.prepare(circuit, **options)
     if settle is not None and not prepared.problem.has_input:

@@ -116,6 +116,7 @@ def rc_unbounded(resistance=1e3, capacitance=1e-9, kelvin=300.0) -> NoiseResult:
 
     Density 4kTR/(1+(f/fc)²); integral to f is 4kTR·fc·atan(f/fc); to ∞ it is
     4kTR·fc·π/2 = kT/C (common practice: the kT/C result).  Grid 1 Hz..100 MHz.
+    The totals as the engine finds them for an RC network: the symmetric eigen-solution.
     """
     fc = 1.0 / (2.0 * math.pi * resistance * capacitance)
     s0 = thermal_density(resistance, kelvin)
@@ -141,6 +142,8 @@ def rc_unbounded(resistance=1e3, capacitance=1e-9, kelvin=300.0) -> NoiseResult:
         gain=1.0 / np.sqrt(1.0 + (f / fc) ** 2),
         gain_squared_integral=fc * math.pi / 2.0,
         integration_rel_error=2e-3,
+        total_method="exact-symmetric",
+        total_tolerance=1e-12,
     )
 
 

@@ -60,7 +60,8 @@ def test_options_reach_the_elements():
     )
     assert circuit.element("C1").effective_capacitance == pytest.approx(3e-9, rel=1e-12, abs=0)
     assert circuit.element("L1").effective_inductance == pytest.approx(0.25e-3, rel=1e-12, abs=0)
-    assert sum("ic=" in n for n in circuit.notices) == 2
+    (ic,) = [n for n in circuit.notices if "ic=" in n]  # one notice naming both elements
+    assert ic.startswith("C1 (") and ", L1 (" in ic
 
 
 def test_a_single_tc_value_is_tc1():
@@ -316,3 +317,11 @@ def test_monte_carlo_trials_follow_their_temperature(band):
         fc = 1 / (2 * math.pi * r * 1e-9)
         expected = 4 * K_B * t * r * fc * (np.arctan(11.0 / fc) - np.arctan(1.0 / fc))
         assert variance == pytest.approx(expected, rel=1e-6, abs=0)
+
+
+def test_one_notice_for_many_ignored_starting_values():
+    # a simulator deck gives every capacitor a starting value: one notice names them, not eight
+    lines = "".join(f"C{i} a 0 1n ic={i}\n" for i in range(1, 9))
+    circuit = netnoise.parse_netlist(f"t\nV1 a 0 1\n{lines}R1 a 0 1k\n")
+    (ic,) = [n for n in circuit.notices if "ic=" in n]
+    assert ic.startswith("C1 (<text>:3), C2 (<text>:4)") and "C6 (<text>:8) and 2 more: ic=" in ic

@@ -51,7 +51,15 @@ def test_bounded_band_is_low_to_high():
 def test_unbounded_band_says_infinite_bandwidth():
     text = format_report(samples.rc_unbounded())
     assert "0 Hz .. ∞" in text
-    assert "to infinite bandwidth (exact)" in text
+    assert "to infinite bandwidth" in text and "(exact)" not in text
+
+
+def test_totals_say_how_they_were_found():
+    exact = format_report(samples.rc_unbounded())  # exact-symmetric, rounding 1e-12
+    assert "totals found by" in exact and "exact symmetric eigen-solution (rounding ≈ 1e-12)" in exact
+    integrated = format_report(samples.white())  # a hand-built band result: quadrature, no estimate given
+    line = next(x for x in integrated.splitlines() if "totals found by" in x)
+    assert line.split("totals found by")[1].strip() == "numerical integration"
 
 
 def test_spot_density_of_a_1k_resistor():

@@ -461,3 +461,18 @@ def test_random_bias_networks_converge_and_satisfy_kcl(vcc, scale):
     assert (vcc - v["c"]) / rc == pytest.approx(ic, rel=tol, abs=leak)
     assert v["e"] / re == pytest.approx(ic + ib, rel=tol, abs=leak)
     assert (vcc - v["b"]) / r1 - v["b"] / r2 == pytest.approx(ib, rel=1e-6, abs=leak)
+
+
+def test_reverse_gate_leakage_shot_row_shows_its_size():
+    # A reverse-biased gate leaks about -IS per junction (Shockley diode law, common practice); the
+    # budget row of its shot noise 2q|I| (Schottky 1918) gives the size |I|, not the signed current.
+    circuit = parse_netlist(
+        _net(
+            "V1 g 0 DC -1 AC 1\nVDD vdd 0 15\nRD vdd d 1k quiet\nJ1 d g 0 jn\n.model jn NJF (VTO=-2.5 BETA=2m IS=1e-11)"
+        )
+    )
+    ig = operating_point(circuit).devices["J1"]["gate_current_A"]
+    assert ig < 0.0
+    result = analyze(circuit, output="d", input_source="V1", band=(1.0, 1e5), temperature_celsius=27.0)
+    row = result.source_names.index("J1 (gate shot)")
+    assert result.source_values[row] == pytest.approx(abs(ig), rel=1e-12)

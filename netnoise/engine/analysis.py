@@ -7,7 +7,10 @@ in the result's notes), assembles the MNA system, collects the noise
 sources, and integrates the output density over the band:
 
 * finite band: adaptive integration on the reported grid (:mod:`netnoise.integrate`);
-* band from 0 Hz to infinity: the exact state-space total (:mod:`netnoise.total_variance`);
+* band from 0 Hz to infinity: the exact total, by one symmetric eigendecomposition for
+  symmetric G and C (:mod:`netnoise.engine.symmetric`), else from the state space by QZ
+  (:mod:`netnoise.engine.total_variance`), else (large circuits) by quadrature
+  (:mod:`netnoise.engine.wideband`); :func:`_infinite_band_totals` says which;
 * band from low > 0 to infinity: integrated itself, adaptively up to 100x the highest pole and
   in u = 1/f above (never as the exact total minus the stretch below low, which cancels).
 
@@ -17,10 +20,12 @@ are refused by name (:mod:`netnoise.circuit.topology`, :func:`_Problem.check_sta
 
 from __future__ import annotations
 
+import contextlib
 import difflib
 import math
-from collections.abc import Callable
+from collections.abc import Callable, Iterator
 from dataclasses import dataclass
+from typing import Any
 
 import numpy as np
 
@@ -29,16 +34,26 @@ from netnoise.circuit.topology import check_element_values, check_topology
 from netnoise.constants import DEFAULT_TEMPERATURE_C, MAX_TEMPERATURE_C, T0_KELVIN, ZERO_CELSIUS_K, canonical_node
 from netnoise.engformat import format_quantity
 from netnoise.engine.integrate import integrate_band
+from netnoise.engine.memo import TransferMemo
 from netnoise.engine.mna import MnaSystem, assemble
 from netnoise.engine.noise_sources import NoiseSources, collect_noise_sources
 from netnoise.engine.operating_point import NonlinearSolution, biased
 from netnoise.engine.options import SolverOptions
 from netnoise.engine.rails import rail_notes
 from netnoise.engine.resources import require_memory
+from netnoise.engine.symmetric import (
+    NotSymmetricDefinite,
+    SymmetricPencil,
+    symmetric_pencil,
+    symmetric_rates,
+    symmetric_totals,
+)
 from netnoise.engine.total_variance import (
+    QZ_TOLERANCE_MARGIN,
     UnstableCircuit,
     finite_scaled_eigenvalues,
     infinite_band_totals,
+    rounding_tolerance,
     unstable_pole,
 )
 from netnoise.errors import CircuitError, UsageError
@@ -110,7 +125,7 @@ def _resolve(circuit, output, reference, input_source, band, points_per_decade, 
             notes.append(
                 Note(
                     "band-default",
-                    "no band given: integrating from 0 Hz to infinite bandwidth (exact)",
+                    "no band given: integrating from 0 Hz to infinite bandwidth",
                     {"low_Hz": 0.0, "high_Hz": math.inf},
                 )
             )
@@ -212,6 +227,22 @@ class _Problem:
         self.input_unit = None
         if settings.input_source is not None:
             self.input_vector, self.input_unit = self.system.excitation_vector(settings.input_source)
+        self._memo: TransferMemo | None = None  # set for the length of one analysis (remembering)
+
+    @contextlib.contextmanager
+    def remembering(self, keep_rows: bool = True) -> Iterator[TransferMemo]:
+        """Within: every frequency solved is kept (:class:`~netnoise.engine.memo.TransferMemo`)
+        and not solved again -- the per-source rows only with ``keep_rows``, the signal's |H|²
+        always; after: forgotten, so that no later analysis (a refill with other values, a
+        rerun) sees these solves.  Nested uses share the outer memo."""
+        if self._memo is not None:
+            yield self._memo
+            return
+        self._memo = TransferMemo(len(self.sources), keep_rows)
+        try:
+            yield self._memo
+        finally:
+            self._memo = None
 
     def refilled(self, circuit: ck.Circuit) -> _Problem:
         """The same problem for ``circuit``, a copy of this one's circuit with
@@ -236,16 +267,19 @@ class _Problem:
         require_memory(rows * np.size(frequency_Hz) * 8, "the per-source transfer at every frequency")
         out = np.empty((rows, np.size(frequency_Hz)))  # filled in place: no stacking copy
         with np.errstate(over="ignore", invalid="ignore"):  # an overflow here is refused just below, by name
-            _, signal = transfer_power(
-                self.system,
-                self.selector,
-                self.sources.injection,
-                self.input_vector,
-                frequency_Hz,
-                power_out=out[:k],
-                progress=self.progress,
-                options=self.options,
-            )
+            if self._memo is None:
+                _, signal = transfer_power(
+                    self.system,
+                    self.selector,
+                    self.sources.injection,
+                    self.input_vector,
+                    frequency_Hz,
+                    power_out=out[:k],
+                    progress=self.progress,
+                    options=self.options,
+                )
+            else:
+                signal = self._remembered_power(np.asarray(frequency_Hz, dtype=float), out[:k])
             power = out[:k]
             if colored.size:
                 out[k : k + colored.size] = power[colored] * self.sources.density(frequency_Hz, "colored")[colored]
@@ -255,6 +289,46 @@ class _Problem:
         if not np.isfinite(out).all():
             self._refuse_overflow(out[:k], signal)
         return out
+
+    def _remembered_power(self, f: np.ndarray, power_out: np.ndarray) -> np.ndarray | None:
+        """Every source's power transfer at ``f`` into ``power_out`` (K, F) and |H|² of the input
+        (F,) or None, solving only the frequencies the memo does not hold."""
+        from netnoise.engine.transfer import transfer_power
+
+        memo = self._memo
+        assert memo is not None
+        new = memo.unknown(f)
+        if new.size == f.size:  # all new (the grid, the integrator's refinements): solved in place
+            _, signal = transfer_power(
+                self.system,
+                self.selector,
+                self.sources.injection,
+                self.input_vector,
+                f,
+                power_out=power_out,
+                progress=self.progress,
+                options=self.options,
+            )
+            memo.keep(f, power_out.copy() if memo.keep_rows else None, signal)  # power_out is scaled in place
+            return signal
+        fresh: dict[float, tuple[np.ndarray, int]] = {}
+        if new.size:
+            require_memory(len(self.sources) * new.size * 8, "the per-source transfer at every frequency")
+            block = np.empty((len(self.sources), new.size))
+            _, new_signal = transfer_power(
+                self.system,
+                self.selector,
+                self.sources.injection,
+                self.input_vector,
+                new,
+                power_out=block,
+                progress=self.progress,
+                options=self.options,
+            )
+            memo.keep(new, block, new_signal)
+            fresh = {fi: (block, j) for j, fi in enumerate(new.tolist())}
+        memo.fill(f, power_out, fresh)
+        return memo.signal(f) if self.has_input else None
 
     def _refuse_overflow(self, power: np.ndarray, signal: np.ndarray | None) -> None:
         """CircuitError naming the sources (or the signal path) whose output density overflowed:
@@ -280,10 +354,39 @@ class _Problem:
             k += kc
         return out + ([slice(k, k + 1)] if self.has_input else [])
 
+    def symmetric(self) -> SymmetricPencil | None:
+        """The reduced symmetric-definite pencil (:func:`netnoise.engine.symmetric.symmetric_pencil`)
+        when G and C are symmetric, C definite where it is not zero, and the circuit has at most
+        ``symmetric_limit`` unknowns; else None.  Cached."""
+        if "_symmetric" not in self.__dict__:
+            pencil = None
+            if self.system.size <= self.options.symmetric_limit:
+                try:
+                    pencil = symmetric_pencil(self.system.G, self.system.C)
+                except NotSymmetricDefinite:
+                    pencil = None
+            self.__dict__["_symmetric"] = pencil
+        return self.__dict__["_symmetric"]
+
+    def symmetric_rates(self) -> np.ndarray | None:
+        """The rates λ_i (1/s, poles at −λ_i) of the symmetric pencil, None without one; not
+        checked for sign (:meth:`check_stable` judges them).  Cached; the exact total's
+        decomposition fills the cache too."""
+        if "_rates" not in self.__dict__:
+            pencil = self.symmetric()
+            self.__dict__["_rates"] = None if pencil is None else symmetric_rates(pencil)
+        return self.__dict__["_rates"]
+
     def poles_Hz(self) -> np.ndarray | None:
         """Magnitudes of the finite poles (Hz): all of them up to the exact limit of
-        unknowns (dense QZ); beyond it, estimates of the lowest and highest
+        unknowns (the symmetric eigenvalues for symmetric G and C, else dense QZ), or
+        when the symmetric decomposition is at hand; beyond it, estimates of the lowest and highest
         only (:func:`netnoise.wideband.pole_range_Hz`, sparse, no dense matrix)."""
+        rates = self.__dict__.get("_rates")
+        if rates is None and self.system.size <= self.options.exact_limit and self.symmetric() is not None:
+            rates = self.symmetric_rates()
+        if rates is not None:
+            return np.abs(rates) / (2 * math.pi)
         if self.system.size > self.options.exact_limit:
             from netnoise.engine.wideband import pole_range_Hz
 
@@ -296,7 +399,12 @@ class _Problem:
 
     def scaled_eigenvalues(self) -> tuple[np.ndarray, float]:
         """The finite generalized eigenvalues of (−G, C), scaled, and their time scale s0
-        (poles p = λ·s0 rad/s); dense QZ, for circuits up to the exact limit of unknowns; cached."""
+        (poles p = λ·s0 rad/s): the negated symmetric rates (s0 = 1) for symmetric G and C,
+        else dense QZ, for circuits up to the exact limit of unknowns; cached."""
+        if self.symmetric() is not None:
+            rates = self.symmetric_rates()
+            assert rates is not None
+            return -rates, 1.0
         cached = self.__dict__.get("_eigenvalues")
         if cached is None:
             cached = self.__dict__["_eigenvalues"] = finite_scaled_eigenvalues(
@@ -323,13 +431,14 @@ class _Problem:
 
     def check_stable(self, notes: list[Note]) -> None:
         """Refuse a circuit with a pole right of the imaginary axis (positive feedback): its noise
-        grows without limit, so no band total of it means anything.  Checked with the dense QZ
+        grows without limit, so no band total of it means anything.  Checked with the symmetric
+        eigenvalues up to the symmetric limit (symmetric G and C), else with the dense QZ
         up to the exact limit of unknowns; beyond, said in the notes that it was not checked.  A network
         of positive R, C, L and realisable couplings alone (values checked before) is passive: its
         stored energy can only decay, so it needs no check (and large ladders no QZ)."""
         if not self.active_elements():
             return
-        if self.system.size > self.options.exact_limit:
+        if self.system.size > self.options.exact_limit and self.symmetric() is None:
             notes.append(
                 Note(
                     "stability-unchecked",
@@ -430,7 +539,10 @@ class PreparedAnalysis:
 
     def analyze(self) -> NoiseResult:
         """The noise result of this circuit with these settings."""
-        return _analyze(self._problem, self._source_resistor, self._gain_at_Hz)
+        # every frequency solved once in this analysis, forgotten after it; the per-source rows are
+        # asked again only on a band to infinity (a finite band's later questions are the signal's)
+        with self._problem.remembering(keep_rows=math.isinf(self._problem.settings.high)):
+            return _analyze(self._problem, self._source_resistor, self._gain_at_Hz)
 
     def with_circuit(self, circuit: ck.Circuit) -> PreparedAnalysis:
         """This analysis for ``circuit``, the same circuit with other values
@@ -500,8 +612,9 @@ def _analyze(problem: _Problem, source_resistor: str | None, gain_at_Hz: float |
     if math.isinf(high):
         if problem.system.size > problem.options.exact_limit:  # the exact method below checks the smaller ones
             problem.check_stable(notes)
-        exact, poles, method = _infinite_band_totals(problem)  # white parts, from 0 Hz to infinity
-        poles = _positive(poles)
+        infinite = _infinite_band_totals(problem)  # white parts, from 0 Hz to infinity
+        poles = _positive(infinite.poles_Hz)
+        method, total_method, total_tolerance = infinite.note, infinite.method, infinite.tolerance
         top = _decade_ceil(poles.max() * 100) if poles.size else 1e9
         start = low if low > 0 else (_decade_floor(poles.min() / 100) if poles.size else top * 1e-9)
         top = max(top, start * 1e3)
@@ -525,12 +638,13 @@ def _analyze(problem: _Problem, source_resistor: str | None, gain_at_Hz: float |
             first_row = k + (int(sources.colored.sum()) if colored else 0)
             totals = np.concatenate([shown.values[:k], shown.values[first_row:]]) + tail
             rel_error = shown.rel_error + tail_error
+            total_method, total_tolerance = "quadrature", rel_error
             method = (
                 f"from {format_quantity(low, 'Hz')} to infinite bandwidth: integrated numerically up to there, "
                 "and above it in the variable 1/f"
             )
         else:
-            totals = exact
+            totals = infinite.variance
         totals = np.maximum(totals, 0.0)
         notes.append(
             Note(
@@ -557,6 +671,7 @@ def _analyze(problem: _Problem, source_resistor: str | None, gain_at_Hz: float |
         )
         totals = shown.values
         rel_error = shown.rel_error
+        total_method, total_tolerance = "quadrature", rel_error
         gain_row = k
     if rel_error > 1e-4:
         notes.append(
@@ -611,6 +726,8 @@ def _analyze(problem: _Problem, source_resistor: str | None, gain_at_Hz: float |
         noise_figure_spectrum_dB=figure.spectrum_dB if figure else None,
         noise_figure_dB=figure.integrated_dB if figure else None,
         integration_rel_error=rel_error,
+        total_method=total_method,
+        total_tolerance=total_tolerance,
         notes=tuple(notes),
     )
 
@@ -693,14 +810,23 @@ def _pass_band_gain(
 
 def _transfer_signal(problem: _Problem, frequency_Hz: np.ndarray):
     """(None, |H|²) of the signal path alone (no noise sources) at ``frequency_Hz``: the
-    adjoint solution against the input vector, on the problem's own (cached) solver."""
-    from netnoise.engine.transfer import solver_for
+    adjoint solution against the input vector, on the problem's own (cached) solver; within
+    an analysis, only at frequencies its memo does not hold yet."""
+    from netnoise.engine.transfer import transfer_power
 
     assert problem.input_vector is not None  # called for a signal path only
+    f = np.asarray(frequency_Hz, dtype=float).ravel()
+    memo = problem._memo
+    new = f if memo is None else memo.unknown_signal(f)
     with np.errstate(over="ignore", invalid="ignore"):  # an overflow is refused by the callers, by name
-        z = solver_for(problem.system, problem.options).solve(problem.selector, np.asarray(frequency_Hz, dtype=float))
-        s = z @ problem.input_vector
-        return None, s.real**2 + s.imag**2
+        _, signal = transfer_power(
+            problem.system, problem.selector, None, problem.input_vector, new, options=problem.options
+        )
+    assert signal is not None
+    if memo is None:
+        return None, signal
+    memo.keep(new, None, signal)
+    return None, memo.signal(f)
 
 
 def _linear_start(poles: np.ndarray | None, high: float) -> float:
@@ -735,53 +861,131 @@ def _white_tail(problem: _Problem, top: float) -> tuple[np.ndarray, float]:
     return fine, error
 
 
-def _infinite_band_totals(problem: _Problem) -> tuple[np.ndarray, np.ndarray | None, str]:
-    """Every source's white-noise variance (and ∫|H|² of the input) from 0 Hz
-    to infinity, the circuit's finite pole magnitudes (Hz), and a note saying
-    how the total was found: exact up to the exact limit of unknowns, else by
-    quadrature with an analytic tail (:mod:`netnoise.wideband`)."""
+@dataclass(frozen=True, eq=False)
+class _InfiniteTotals:
+    """How the totals from 0 Hz to infinite bandwidth were found.  ``variance`` (K[+1],): every
+    source's white-noise variance (V²), then ∫|H|² df of the input when there is one;
+    ``poles_Hz``: the finite pole magnitudes (Hz), or None; ``method``: one of
+    :data:`~netnoise.results.result.TOTAL_METHODS`; ``tolerance``: the stated relative error of
+    the totals; ``note``: a sentence for the notes."""
+
+    variance: np.ndarray
+    poles_Hz: np.ndarray | None
+    method: str
+    tolerance: float
+    note: str
+
+
+def _infinite_band_totals(problem: _Problem) -> _InfiniteTotals:
+    """The white-noise totals from 0 Hz to infinity, by the first method that applies: one
+    symmetric eigendecomposition (symmetric G and C, up to ``symmetric_limit`` unknowns), the
+    state space by QZ (up to ``exact_limit``), else quadrature with an analytic tail
+    (:mod:`netnoise.wideband`).  A method that cannot take the circuit returns None and the next
+    one is tried.  CircuitError when a source's white noise reaches the output unfiltered."""
+    found = None
+    if problem.symmetric() is not None:
+        found = _symmetric_totals(problem)
+    if found is None and problem.system.size <= problem.options.exact_limit:
+        found = _qz_totals(problem)
+    if found is None:
+        found = _quadrature_totals(problem)
+    _refuse_unbounded(problem, found.variance)
+    return found
+
+
+def _columns(problem: _Problem, dense: bool) -> tuple[Any, np.ndarray]:
+    """The injection columns (sparse, or dense with ``dense``) with the input's vector last, and
+    their one-sided white densities (1 for the input)."""
+    import scipy.sparse as sp
+
+    columns = problem.sources.injection
+    density = np.asarray(problem.sources.white_density)
+    if problem.input_vector is not None:
+        columns = sp.hstack([columns, sp.csc_matrix(problem.input_vector[:, None])], format="csc")
+        density = np.append(density, 1.0)
+    return (columns.toarray() if dense else columns), density
+
+
+def _white_only(problem: _Problem) -> str:
+    return " for white noise" if problem.sources.colored.any() else ""
+
+
+def _symmetric_totals(problem: _Problem) -> _InfiniteTotals | None:
+    """Exact, by :func:`netnoise.engine.symmetric.symmetric_totals`; None when the method refuses
+    (a source reaching the output unfiltered, a rate not clearly positive): the QZ path then
+    reports those by name."""
+    pencil = problem.symmetric()
+    assert pencil is not None
+    columns, density = _columns(problem, dense=False)
+    try:
+        exact = symmetric_totals(pencil, problem.selector, columns, density)
+    except NotSymmetricDefinite:
+        return None
+    problem.__dict__["_rates"] = 2 * math.pi * exact.poles_Hz  # for poles_Hz, check_stable
+    return _InfiniteTotals(
+        exact.variance,
+        exact.poles_Hz,
+        "exact-symmetric",
+        exact.tolerance,
+        "the total to infinite bandwidth is exact" + _white_only(problem) + " (one symmetric eigendecomposition)",
+    )
+
+
+def _qz_totals(problem: _Problem) -> _InfiniteTotals:
+    """Exact, from the state space by QZ and a Lyapunov solve (:mod:`netnoise.total_variance`);
+    an unstable circuit refused with the elements that can supply gain named."""
+    system = problem.system
+    columns, density = _columns(problem, dense=True)
+    try:
+        exact = infinite_band_totals(system.G.toarray(), system.C.toarray(), problem.selector, columns, density)
+    except UnstableCircuit as found:
+        if found.lossless:
+            raise
+        problem.refuse_unstable(found)
+    return _InfiniteTotals(
+        exact.variance,
+        exact.poles_Hz,
+        "exact-qz",
+        rounding_tolerance(exact.poles_Hz, QZ_TOLERANCE_MARGIN),
+        "the total to infinite bandwidth is exact" + _white_only(problem) + " (the state space, by QZ)",
+    )
+
+
+def _quadrature_totals(problem: _Problem) -> _InfiniteTotals:
+    """Numerical integration up to 100x the estimated highest pole plus an analytic tail
+    (:func:`netnoise.wideband.wideband_totals`); its error estimate is the stated tolerance."""
+    from netnoise.engine.wideband import wideband_totals
+
     system = problem.system
     k = len(problem.sources)
-    exact_limit = problem.options.exact_limit
-    if system.size > exact_limit:
-        from netnoise.engine.wideband import wideband_totals
+    poles = problem.poles_Hz()
+    if poles is None:
+        raise CircuitError(
+            f"the total to infinite bandwidth of this circuit ({system.size} unknowns) cannot be "
+            "estimated: its pole range is not defined. Give a finite band with --band LOW HIGH"
+        )
+    wide = wideband_totals(
+        lambda f: problem.densities(f, "white"), problem.groups(), float(poles.min()), float(poles.max())
+    )
+    unbounded_rows = np.flatnonzero(wide.unbounded[:k])
+    variance = wide.values
+    if unbounded_rows.size:
+        variance = variance.copy()
+        variance[unbounded_rows] = np.inf
+    tolerance = max(wide.rel_error, 1e-2 * wide.tail_share)
+    note = (
+        f"circuit of {system.size} unknowns, beyond the exact methods (up to {problem.options.exact_limit} "
+        f"unknowns, {problem.options.symmetric_limit} for symmetric G and C): the total to "
+        f"infinite bandwidth is integrated numerically up to {format_quantity(wide.top_Hz, 'Hz')} "
+        f"(100x the estimated highest pole) plus an analytic tail ({100 * wide.tail_share:.2g} % of the "
+        f"total); estimated relative error {tolerance:.1e}"
+    )
+    return _InfiniteTotals(variance, poles, "quadrature", tolerance, note)
 
-        poles = problem.poles_Hz()
-        if poles is None:
-            raise CircuitError(
-                f"the total to infinite bandwidth of this circuit ({system.size} unknowns) cannot be "
-                "estimated: its pole range is not defined. Give a finite band with --band LOW HIGH"
-            )
-        wide = wideband_totals(
-            lambda f: problem.densities(f, "white"), problem.groups(), float(poles.min()), float(poles.max())
-        )
-        unbounded_rows = np.flatnonzero(wide.unbounded[:k])
-        variance = wide.values
-        if unbounded_rows.size:
-            variance = variance.copy()
-            variance[unbounded_rows] = np.inf
-        method = (
-            f"circuit of {system.size} unknowns, above the {exact_limit} of the exact method: the total to "
-            f"infinite bandwidth is integrated numerically up to {format_quantity(wide.top_Hz, 'Hz')} "
-            f"(100x the estimated highest pole) plus an analytic tail ({100 * wide.tail_share:.2g} % of the "
-            f"total); estimated relative error {max(wide.rel_error, 1e-2 * wide.tail_share):.1e}"
-        )
-    else:
-        columns = problem.sources.injection.toarray()
-        density = np.asarray(problem.sources.white_density)
-        if problem.input_vector is not None:
-            columns = np.hstack([columns, problem.input_vector[:, None]])
-            density = np.append(density, 1.0)
-        try:
-            exact = infinite_band_totals(system.G.toarray(), system.C.toarray(), problem.selector, columns, density)
-        except UnstableCircuit as found:
-            if found.lossless:
-                raise
-            problem.refuse_unstable(found)
-        variance, poles = exact.variance, exact.poles_Hz
-        method = "the total is exact to infinite bandwidth" + (
-            " for white noise" if problem.sources.colored.any() else ""
-        )
+
+def _refuse_unbounded(problem: _Problem, variance: np.ndarray) -> None:
+    """CircuitError naming the sources whose white noise reaches the output with no roll-off."""
+    k = len(problem.sources)
     unbounded = [problem.sources.sources[i].name for i in np.flatnonzero(np.isinf(variance[:k]))]
     if unbounded:
         shown = ", ".join(unbounded[:5]) + (f" and {len(unbounded) - 5} more" if len(unbounded) > 5 else "")
@@ -791,7 +995,6 @@ def _infinite_band_totals(problem: _Problem) -> tuple[np.ndarray, np.ndarray | N
             "Give a finite band (--band LOW HIGH, or a .noise card), or add the capacitance "
             "that limits the real circuit's bandwidth"
         )
-    return variance, poles, method
 
 
 def _extreme_values(circuit: ck.Circuit, most: int = 3) -> str:

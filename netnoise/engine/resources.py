@@ -13,10 +13,18 @@ import time
 
 from netnoise.errors import CircuitError
 
-__all__ = ["available_memory", "require_memory", "MEMORY_FRACTION"]
+__all__ = ["available_memory", "require_memory", "usable_cores", "MEMORY_FRACTION"]
 
 MEMORY_FRACTION = 0.8  # of the available memory that one array (or group of arrays) may take
 _override: int | None = None  # tests set this through set_available_memory
+
+
+def usable_cores() -> int:
+    """Cores this process may run on (its CPU affinity where the system has one)."""
+    try:
+        return max(1, len(os.sched_getaffinity(0)))
+    except AttributeError:  # not on Linux
+        return max(1, os.cpu_count() or 1)
 
 
 def available_memory() -> int:

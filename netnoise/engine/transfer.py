@@ -39,6 +39,7 @@ are formed (:mod:`netnoise.resources`).
 
 from __future__ import annotations
 
+import dataclasses
 import math
 import weakref
 
@@ -46,7 +47,7 @@ import numpy as np
 
 from netnoise.engine.mna import MnaSystem
 from netnoise.engine.options import SolverOptions
-from netnoise.engine.resources import require_memory
+from netnoise.engine.resources import require_memory, usable_cores
 from netnoise.errors import CircuitError
 
 __all__ = ["adjoint_solutions", "transfer_power", "AdjointSolver", "solver_for", "RCOND_MIN"]
@@ -81,6 +82,8 @@ def solver_for(system: MnaSystem, options: SolverOptions | None = None) -> Adjoi
     """The (cached) solver of ``system`` under ``options``: path, pattern and
     ordering are decided once per circuit and reused for every later frequency."""
     options = options or SolverOptions()
+    if options.jobs is not None:  # how many threads solve is the caller's, not the solver's: one solver
+        options = dataclasses.replace(options, jobs=None)
     by_options = _SOLVERS.setdefault(system, {})
     solver = by_options.get(options)
     if solver is None:
@@ -92,7 +95,8 @@ def adjoint_solutions(
     system: MnaSystem, selector: np.ndarray, frequency_Hz: np.ndarray, options: SolverOptions | None = None
 ) -> np.ndarray:
     """(F, n) complex ``z(f)`` with ``Y(f)ᵀ z(f) = selector`` at every frequency."""
-    return solver_for(system, options).solve(selector, np.asarray(frequency_Hz, dtype=float))
+    jobs = options.jobs if options is not None else None
+    return solver_for(system, options).solve(selector, np.asarray(frequency_Hz, dtype=float), jobs=jobs)
 
 
 def transfer_power(
@@ -106,28 +110,38 @@ def transfer_power(
     options: SolverOptions | None = None,
 ):
     """``(|zᵀB|² (K, F), |zᵀu|² (F,) or None)``: the power transfer from every
-    column of the sparse injection matrix ``B`` (n, K) and from the input
+    column of the sparse injection matrix ``B`` (n, K; None: no sources) and from the input
     vector ``u``, in blocks of frequencies (the (F, n) solutions are never
     all held at once for a large circuit).  ``power_out``: a (K, F) array to
     fill and return as the first; ``progress``: see :meth:`AdjointSolver.solve`."""
     f = np.asarray(frequency_Hz, dtype=float)
     solver = solver_for(system, options)
-    bt = injection.T.tocsr()  # (K, n)
-    k = bt.shape[0]
+    jobs = options.jobs if options is not None else None
+    bt = injection.T.tocsr() if injection is not None else None  # (K, n)
+    k = bt.shape[0] if bt is not None else 0
     power = power_out
     if power is None:
         require_memory(f.size * (k * 8 + 8), "the per-source transfer at every frequency")
         power = np.empty((k, f.size))
     signal = np.empty(f.size) if input_vector is not None else None
-    chunk = f.size if solver.method == "dense" else _GAIN_CHUNK
+    # zᵀu summed over u's few nonzeros in a fixed order, elementwise: the same bits however many
+    # frequencies are solved together (a BLAS matrix-vector product need not be), which the
+    # analysis's memo relies on
+    u = np.asarray(input_vector, dtype=float) if signal is not None else np.zeros(0)
+    u_at = np.flatnonzero(u)
+    # a block per thread-pool run: 32 frequencies per thread, so that the threads' uneven finish
+    # at the end of each block costs little
+    chunk = max(1, f.size) if solver.method == "dense" else _GAIN_CHUNK * solver.threads_for(jobs)
     for start in range(0, f.size, chunk):
         stop = min(f.size, start + chunk)
-        z = solver.solve(selector, f[start:stop], progress)  # (Fc, n)
-        if k:
+        z = solver.solve(selector, f[start:stop], progress, jobs=jobs)  # (Fc, n)
+        if bt is not None and k:
             gains = bt @ z.T  # (K, Fc)
             power[:, start:stop] = gains.real**2 + gains.imag**2
         if signal is not None:
-            s = z @ input_vector
+            s = np.zeros(stop - start, dtype=complex)
+            for j in u_at:
+                s += z[:, j] * u[j]
             signal[start:stop] = s.real**2 + s.imag**2
     return power, signal
 
@@ -315,9 +329,13 @@ class AdjointSolver:
         self._dense_pattern = pattern
 
     # -- public --------------------------------------------------------------
-    def solve(self, selector: np.ndarray, frequency_Hz: np.ndarray, progress=None) -> np.ndarray:
+    def solve(self, selector: np.ndarray, frequency_Hz: np.ndarray, progress=None, jobs: int | None = 1) -> np.ndarray:
         """(F, n) complex z(f) with Y(f)ᵀ z(f) = selector.  ``progress``, if
-        given, is called with the number of frequencies just solved."""
+        given, is called with the number of frequencies just solved.  ``jobs``:
+        threads solving frequencies at once on the sparse and tridiagonal paths
+        (None: every core this process may use; never more than those cores),
+        each with BLAS held to one thread.  The result does not depend on it:
+        every frequency is solved alone, the same way whatever the order."""
         f = np.asarray(frequency_Hz, dtype=float).ravel()
         if self.n == 0:
             return np.zeros((f.size, 0), dtype=complex)
@@ -329,12 +347,33 @@ class AdjointSolver:
             return out
         require_memory(f.size * self.n * 16, "the adjoint solutions at every frequency")
         out = np.empty((f.size, self.n), dtype=complex)
-        one = self._banded_one if self.method == "banded" else self._sparse_one
-        for i, fi in enumerate(f):
-            out[i] = one(c, float(fi))
-            if progress is not None:
-                progress(1)
+        if self.method == "banded" and self._gtsv is None:
+            # scipy's zgbsv wrapper holds the GIL (measured): threads would only take turns
+            _one_by_one(self._banded_one, c, f, out, progress)
+            return out
+        from threadpoolctl import threadpool_limits  # imported on these paths only (large circuits)
+
+        # BLAS on one thread, whatever the jobs: SuperLU's many small BLAS calls gain nothing from
+        # a BLAS pool (on 2 cores one analysis took 2-5x the CPU time with it), and a multithreaded
+        # BLAS sums in an order that depends on its threads, so jobs=1 and jobs=2 would differ in the
+        # last bits; with one BLAS thread each, threads x BLAS threads never exceed the cores
+        threads = min(thread_count(jobs), f.size)
+        with threadpool_limits(limits=1):
+            if self.method == "sparse" and self._superlu_order is None and f.size:
+                self._choose_superlu_order(float(f[0]))  # once per circuit, before any thread starts
+            one = self._banded_one if self.method == "banded" else self._sparse_one
+            if threads <= 1:
+                _one_by_one(one, c, f, out, progress)
+            else:
+                _on_threads(threads, one, c, f, out, progress)
         return out
+
+    def threads_for(self, jobs: int | None) -> int:
+        """Threads :meth:`solve` runs for ``jobs`` on this path (1 on the dense and the general
+        banded paths)."""
+        if self.method == "dense" or (self.method == "banded" and self._gtsv is None):
+            return 1
+        return thread_count(jobs)
 
     # -- checks --------------------------------------------------------------
     def _check(self, f: float, w_c: np.ndarray, w_p: np.ndarray, rhs_norm: float, norm: float) -> None:
@@ -449,36 +488,85 @@ class AdjointSolver:
         return z
 
     # -- sparse --------------------------------------------------------------
-    def _sparse_one(self, c: np.ndarray, f: float) -> np.ndarray:
+    def _choose_superlu_order(self, f: float) -> None:
+        """The fill-reducing ordering (minimum degree on Aᵀ + A) from a factorisation at ``f``,
+        and the pattern permuted by it.  That factor is dropped: every frequency, ``f`` too, is
+        then factored the same way (the permuted pattern, ``NATURAL``), so a frequency's solution
+        does not depend on which one came first (a factor under the minimum-degree ordering
+        differs from the refactored one in the last bits)."""
         import scipy.sparse as sp
         import scipy.sparse.linalg as spla
 
-        # first frequency: minimum-degree ordering on Aᵀ + A, then the pattern is fixed in that
-        # order and later frequencies factor it as it stands
-        first = self._superlu_order is None
-        p, order = (self._plain, None) if first else (self._pattern, self._superlu_order)
+        p = self._plain
+        data, *_ = p.scaled(2j * math.pi * f)
+        a = sp.csc_matrix((data, p.rows, p.indptr), shape=p.shape)
+        try:
+            lu = spla.splu(
+                a, permc_spec="MMD_AT_PLUS_A", diag_pivot_thresh=_PIVOT_THRESHOLD, options=dict(SymmetricMode=True)
+            )
+        except RuntimeError:
+            raise _singular(f) from None
+        require_memory(3 * 20 * (lu.L.nnz + lu.U.nnz), "the sparse LU factors")
+        self._pattern = _Pattern(self._system.G.T, self._system.C.T, np.argsort(lu.perm_c))
+        self._superlu_order = np.argsort(lu.perm_c)
+        self._system = None  # type: ignore[assignment]  # not needed once the ordering is known
+
+    def _sparse_one(self, c: np.ndarray, f: float) -> np.ndarray:
+        """z at ``f`` on the permuted pattern (:meth:`_choose_superlu_order` first).  Runs on
+        worker threads: reads the solver, never changes it, and its SuperLU factor lives and
+        dies in the calling thread (a factor kept past its thread is what scipy's allocation
+        tracking handles worst)."""
+        import scipy.sparse as sp
+        import scipy.sparse.linalg as spla
+
+        p, order = self._pattern, self._superlu_order
+        assert order is not None  # chosen by solve() before the first frequency
         data, dr, dc, norm = p.scaled(2j * math.pi * f)
         a = sp.csc_matrix((data, p.rows, p.indptr), shape=p.shape)
         try:
             lu = spla.splu(
-                a,
-                permc_spec="MMD_AT_PLUS_A" if first else "NATURAL",
-                diag_pivot_thresh=_PIVOT_THRESHOLD,
-                options=dict(SymmetricMode=True),
+                a, permc_spec="NATURAL", diag_pivot_thresh=_PIVOT_THRESHOLD, options=dict(SymmetricMode=True)
             )
         except RuntimeError:
             raise _singular(f) from None
-        if first:
-            require_memory(3 * 20 * (lu.L.nnz + lu.U.nnz), "the sparse LU factors")
-            self._superlu_order = np.argsort(lu.perm_c)
-            self._pattern = _Pattern(self._system.G.T, self._system.C.T, self._superlu_order)
-            self._system = None  # type: ignore[assignment]  # not needed once the ordering is known
-        rhs = np.stack([dr * (c if order is None else c[order]), self._probe], axis=1)
+        rhs = np.stack([dr * c[order], self._probe], axis=1)
         rn = float(np.abs(rhs[:, 0]).max())
         w = lu.solve(rhs)
         self._check(f, w[:, 0], w[:, 1], rn, norm)
-        if order is None:
-            return dc * w[:, 0]
         z = np.empty(self.n, dtype=complex)
         z[order] = dc * w[:, 0]
         return z
+
+
+def thread_count(jobs: int | None) -> int:
+    """Threads for ``jobs`` (None: all): never more than the cores this process may run on,
+    so that threads x one BLAS thread each do not oversubscribe them."""
+    cores = usable_cores()
+    return cores if jobs is None else max(1, min(int(jobs), cores))
+
+
+def _one_by_one(one, c: np.ndarray, f: np.ndarray, out: np.ndarray, progress) -> None:
+    """``out[i] = one(c, f[i])`` in this thread."""
+    for i, fi in enumerate(f):
+        out[i] = one(c, float(fi))
+        if progress is not None:
+            progress(1)
+
+
+def _on_threads(threads: int, one, c: np.ndarray, f: np.ndarray, out: np.ndarray, progress) -> None:
+    """``out[i] = one(c, f[i])`` on ``threads`` threads; ``progress`` is called from this thread,
+    in frequency order.  The first error (a singular frequency) is raised here and the
+    frequencies not yet started are dropped."""
+    from concurrent.futures import ThreadPoolExecutor
+
+    with ThreadPoolExecutor(max_workers=threads) as pool:
+        futures = [pool.submit(one, c, float(fi)) for fi in f]
+        try:
+            for i, future in enumerate(futures):
+                out[i] = future.result()
+                if progress is not None:
+                    progress(1)
+        except BaseException:
+            for future in futures:
+                future.cancel()
+            raise

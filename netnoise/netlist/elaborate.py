@@ -217,8 +217,16 @@ class _BuildContext:
     def refer(self, word: Word, full_name: str, wanted: type, what: str, slot: str) -> None:
         self._refs.append((word, full_name, wanted, what, slot))
 
-    def notice(self, text: str, loc: SourceLocation | None = None) -> None:
-        self.engine.notices.append(f"{_where(loc or self.loc)}: {text}")
+    def notice(self, text: str, loc: SourceLocation | None = None, about: str | None = None) -> None:
+        """Say ``text`` once; with ``about`` (an element's name) the same text said of several
+        elements becomes one notice naming them all."""
+        where = _where(loc or self.loc)
+        if about is None:
+            self.engine.notices.append(f"{where}: {text}")
+            return
+        if text not in self.engine.grouped:  # the notice keeps the place of its first element
+            self.engine.notices.append(_Grouped(text))
+        self.engine.grouped.setdefault(text, []).append((about, where))
 
     def fail(self, message: str, loc: SourceLocation | None, hint: str = "") -> NetlistError:
         return _fail(message, loc, hint)
@@ -293,7 +301,7 @@ class _Skipped(Exception):
 class _Elaborator:
     def __init__(
         self,
-        notices: list[str],
+        notices: list[str | _Grouped],
         param_overrides: dict[str, float] | None = None,
         problems: list[NetlistError] | None = None,
         functions: dict[str, Function] | None = None,
@@ -312,6 +320,7 @@ class _Elaborator:
         self.by_key: dict[str, tuple[c.Element, SourceLocation]] = {}
         self.pending: list[_Pending] = []
         self.notices = notices
+        self.grouped: dict[str, list[tuple[str, str]]] = {}  # notice text -> (name, file:line) of each element
         self.active: list[Definition] = []  # instantiation stack, for recursion
 
     # ---- values
@@ -816,7 +825,7 @@ def _flat_circuit(
     overrides: dict[str, float],
     problems: list[NetlistError] | None = None,
 ) -> c.Circuit:
-    notices: list[str] = []
+    notices: list[str | _Grouped] = []
     engine = _Elaborator(notices, overrides, problems)
     engine.functions = _functions(top, engine)
     scope = _Scope(top, None, "", "", {})
@@ -873,7 +882,9 @@ def _flat_circuit(
         temperature_celsius=temperature,
         noise_card=noise_card,
         ac_sweep=ac_sweep,
-        notices=tuple(dict.fromkeys(notices)),
+        notices=tuple(
+            dict.fromkeys(n if isinstance(n, str) else _grouped_notice(n.text, engine.grouped[n.text]) for n in notices)
+        ),
         source_file=source_file,
         parameters=dict(scope.params),
         value_origins=engine.origins,
@@ -882,6 +893,26 @@ def _flat_circuit(
         node_spellings=scope.names.spelled,
         operating_point_requested=operating_point,
     )
+
+
+@dataclass(frozen=True)
+class _Grouped:
+    """The place, among the notices, of one said of several elements (filled in at the end)."""
+
+    text: str
+
+
+_GROUPED_SHOWN = 6  # elements named in one grouped notice before "and N more"
+
+
+def _grouped_notice(text: str, about: list[tuple[str, str]]) -> str:
+    """One notice for ``text`` said of every (name, place) in ``about``."""
+    if len(about) == 1:
+        ((name, where),) = about
+        return f"{where}: {name}: {text}"
+    shown_names = ", ".join(f"{name} ({where})" for name, where in about[:_GROUPED_SHOWN])
+    more = f" and {len(about) - _GROUPED_SHOWN} more" if len(about) > _GROUPED_SHOWN else ""
+    return f"{shown_names}{more}: {text}"
 
 
 def _temperature(card: TempCard, engine: _Elaborator, scope: _Scope) -> float:

@@ -20,6 +20,8 @@ JSON shape (fixed keys; more may be added, none removed)::
                   "cumulative_rms_V",
                   "input_referred_density_per_rtHz"},  # last one only with an input source
      "notes": [{"code", "text", "data"}, ...], "integration_rel_error",
+     "total_method": "exact-qz"|"exact-symmetric"|"low-rank"|"quadrature",   # how the totals were found
+     "total_tolerance": float,                 # their stated relative error
      "noise_figure_dB": float|null,            # null without a source resistor
      "noise_figure_spectrum_dB": [float|null]|null,   # null entry: no signal gain there
      "source_resistor": str|null}
@@ -304,6 +306,8 @@ def result_to_dict(
         "spectrum": spectrum,
         "notes": [{"code": n.code, "text": n.text, "data": _note_data(n.data)} for n in result.notes],
         "integration_rel_error": float(result.integration_rel_error),
+        "total_method": result.total_method,
+        "total_tolerance": float(result.total_tolerance),
         "noise_figure_dB": _optional(result.noise_figure_dB),
         "noise_figure_spectrum_dB": _noise_figure_spectrum(result),
         "source_resistor": result.source_resistor,

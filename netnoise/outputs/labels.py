@@ -12,7 +12,15 @@ from collections.abc import Mapping
 from netnoise.engformat import format_quantity
 from netnoise.noise.mechanisms import SHOT
 
-__all__ = ["value_text", "row_value_text"]
+__all__ = ["value_text", "row_value_text", "total_method_text"]
+
+# how each way of finding the totals reads in the report (keys: results.result.TOTAL_METHODS)
+_TOTAL_METHOD_WORDS = {
+    "exact-symmetric": "exact symmetric eigen-solution",
+    "exact-qz": "exact state-space solution (QZ)",
+    "low-rank": "low-rank Gramian",
+    "quadrature": "numerical integration",
+}
 
 
 def value_text(
@@ -36,3 +44,12 @@ def value_text(
 def row_value_text(row) -> str:
     """The value column of a budget row (a :class:`~netnoise.results.result.Contribution`)."""
     return value_text(row.value, row.unit, row.mechanism, row.details)
+
+
+def total_method_text(method: str, tolerance: float) -> str:
+    """How the totals were found, e.g. "exact symmetric eigen-solution (rounding ≈ 1e-12)" or
+    "numerical integration (est. rel. error 3e-08)"."""
+    words = _TOTAL_METHOD_WORDS.get(method, method)
+    if method.startswith("exact"):
+        return f"{words} (rounding ≈ {tolerance:.0e})" if tolerance > 0 else words
+    return f"{words} (est. rel. error {tolerance:.0e})" if tolerance > 0 else words

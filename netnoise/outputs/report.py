@@ -37,7 +37,7 @@ from netnoise.constants import celsius
 from netnoise.engformat import format_quantity
 from netnoise.errors import CircuitError, UsageError
 from netnoise.outputs import study_text
-from netnoise.outputs.labels import row_value_text, value_text
+from netnoise.outputs.labels import row_value_text, total_method_text, value_text
 from netnoise.outputs.merit_text import (
     T0_K,
     converter_section,
@@ -122,7 +122,7 @@ def _conditions(result: NoiseResult) -> list[str]:
     lines.append(_field("temperature", f"{celsius(kelvin):.2f} °C  ({kelvin:.2f} K)"))
     low = _hz(result.band_low_Hz)
     if result.band_is_unbounded:
-        band = f"{low} .. ∞, to infinite bandwidth (exact)"
+        band = f"{low} .. ∞, to infinite bandwidth"
     else:
         band = f"{low} .. {_hz(result.band_high_Hz)}"
     lines.append(_field("integration band", band))
@@ -140,6 +140,7 @@ def _totals(result: NoiseResult) -> list[str]:
             f"(≈ {PEAK_TO_PEAK_SIGMAS:g} σ peak-to-peak, common practice)",
         )
     )
+    lines.append(_field("totals found by", total_method_text(result.total_method, result.total_tolerance)))
     if result.input_source is None:
         return lines
     unit = result.input_unit or "V"

@@ -22,7 +22,11 @@ import numpy as np
 
 from netnoise.results.notes import Note, as_note
 
-__all__ = ["Contribution", "NoiseResult", "SourceBudget"]
+__all__ = ["Contribution", "NoiseResult", "SourceBudget", "TOTAL_METHODS"]
+
+#: How a result's totals were found: exact by the state space (QZ), exact by one symmetric
+#: eigendecomposition, by a low-rank Gramian, or by numerical integration.
+TOTAL_METHODS = ("exact-qz", "exact-symmetric", "low-rank", "quadrature")
 
 
 def _frozen(array, dtype=float) -> np.ndarray:
@@ -109,6 +113,10 @@ class NoiseResult:
         engine took (grid, refinements, 0 Hz), refined between its neighbours by
         a search in log frequency, so a peak between grid points is found; or None.
     integration_rel_error : the integrator's estimate of its relative error.
+    total_method : how ``source_variance`` was found, one of :data:`TOTAL_METHODS`
+        (a finite band: "quadrature").
+    total_tolerance : the stated relative error of the totals: the rounding level of an exact
+        method, the estimate of the low-rank or numerical one.
     notes : :class:`~netnoise.results.notes.Note` remarks (a code, its data and a
         sentence: defaults chosen, warnings), in order; plain strings are taken as notes.
     source_elements : (K,) the element each source belongs to (an amplifier
@@ -142,6 +150,8 @@ class NoiseResult:
     gain_reference: float | None = None
     gain_reference_Hz: float | None = None
     integration_rel_error: float = 0.0
+    total_method: str = "quadrature"
+    total_tolerance: float = 0.0
     notes: tuple[Note, ...] = field(default=())
     source_elements: tuple[str, ...] = ()
     source_resistor: str | None = None
@@ -169,6 +179,8 @@ class NoiseResult:
         if self.noise_figure_spectrum_dB is not None:
             set_(self, "noise_figure_spectrum_dB", _frozen(self.noise_figure_spectrum_dB))
         k, f = len(self.source_names), len(self.frequency_Hz)
+        if self.total_method not in TOTAL_METHODS:
+            raise ValueError(f"total_method must be one of {', '.join(TOTAL_METHODS)}, not {self.total_method!r}")
         if self.source_density.shape != (k, f):
             raise ValueError(f"source_density has shape {self.source_density.shape}, expected {(k, f)}")
         if self.source_variance.shape != (k,):

@@ -21,12 +21,12 @@ study's result does not depend on where it ran.
 from __future__ import annotations
 
 import multiprocessing
-import os
 from collections.abc import Callable, Sequence
 from concurrent.futures import FIRST_COMPLETED, ProcessPoolExecutor, wait
 from concurrent.futures.process import BrokenProcessPool
 from typing import Any
 
+from netnoise.engine.resources import usable_cores
 from netnoise.errors import UsageError
 
 __all__ = ["run_chunks", "usable_cores", "connect"]
@@ -34,14 +34,6 @@ __all__ = ["run_chunks", "usable_cores", "connect"]
 Work = Callable[[Any, Any], Any]
 
 _worker_shared: Any = None  # in a worker process: the shared object, set once by the initializer
-
-
-def usable_cores() -> int:
-    """Cores this process may run on."""
-    try:
-        return max(1, len(os.sched_getaffinity(0)))
-    except AttributeError:  # not on Linux
-        return max(1, os.cpu_count() or 1)
 
 
 def _one_blas_thread():

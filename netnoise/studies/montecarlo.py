@@ -245,7 +245,8 @@ def _trial_problem(model: _Model, values: np.ndarray, temperature_K: float):
     nominal = model.prepared._problem
     circuit, solution = _biased(_trial_circuit(model, values, temperature_K), temperature_K)
     settings = dataclasses.replace(nominal.settings, temperature_K=float(temperature_K))
-    return _Problem(circuit, settings, None, nominal.system.refilled(circuit), nominal.options, solution)
+    options = dataclasses.replace(nominal.options, jobs=1)  # the study's jobs spread the trials: one thread each
+    return _Problem(circuit, settings, None, nominal.system.refilled(circuit), options, solution)
 
 
 @dataclass(frozen=True, eq=False)

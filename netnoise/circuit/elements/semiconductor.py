@@ -421,7 +421,9 @@ class Semiconductor(Element):
                 name=f"{self.name} ({source.label})",
                 element=self.name,
                 mechanism=source.mechanism,
-                value=source.value,
+                value=abs(
+                    source.value
+                ),  # the size that sets the density (2q|I|, KF·|I|^AF); its sign is the operating point's
                 unit=source.unit,
                 injection=injection,
                 white_density=source.white,

@@ -191,8 +191,8 @@ def _build_fields(cls, statement: IndependentSource, ctx: BuildContext) -> dict[
     phase = ctx.number(statement.ac_phase) if statement.ac_phase else 0.0
     if statement.waveform:
         ctx.notice(
-            f"{ctx.name}: the {statement.waveform}(...) waveform is ignored; "
-            "noise analysis works on the small-signal circuit",
+            f"the {statement.waveform}(...) waveform is ignored; noise analysis works on the small-signal circuit",
+            about=ctx.name,
         )
     return dict(dc=dc, ac_magnitude=magnitude, ac_phase=phase, noise=_noise_spec(statement, ctx, cls.density_unit))
 
