@@ -1,0 +1,308 @@
+"""Every source's white-noise variance to infinite bandwidth for large circuits, from a low-rank
+approximation of the observability Gramian.
+
+The exact method (:mod:`netnoise.engine.total_variance`) gives
+``var_k = (S_k/2)·b_kᵀ W b_k`` with ``W`` the observability Gramian of the descriptor system
+``E = C``, ``A = −G``, output ``c``: dense QZ, O(n³).  Here ``W`` is approximated on a small
+space: the output is one column, so one basis ``V`` (n × r, orthonormal) of the rational Krylov
+space spanned by the adjoint solutions ``z(σ) = (G + σC)⁻ᵀ c`` at a few shifts σ serves every
+source.  ``G``, ``C``, ``c`` and the K injection columns are projected onto ``V`` (one-sided,
+Galerkin: the reduced transfer ``cᵣᵀ(Gᵣ + sCᵣ)⁻¹bᵣ`` equals the full one at every shift, for
+every column at once) and the small problem is solved exactly:
+
+* symmetric ``G`` and ``C`` whose projections are positive definite (RC networks): a symmetric
+  eigen-solution ``Gᵣ u = λ Cᵣ u``, ``UᵀCᵣU = I``, gives ``H_k(s) = Σ_i (c̃_i b̃_ki)/(λ_i + s)``
+  and ``var_k = (S_k/2)·Σ_ij c̃_i c̃_j b̃_ki b̃_kj / (λ_i + λ_j)``; the projection of such a
+  network is itself a stable RC network, so it cannot fail;
+* otherwise (controlled sources, amplifiers, inductors, branch currents):
+  :func:`~netnoise.engine.total_variance.infinite_band_totals` on the projected pencil, which
+  handles its algebraic part as the exact path does; a reduced model with a pole in the right
+  half-plane is not accepted.
+
+Shifts: σ = 0 (the DC moment) and σ at the Gershgorin bound of the highest pole first; then, one
+factorisation at a time, the shift where the rational function ``∏_j |s − σ_j| / |s + θ_j|``
+(θ_j the reduced model's poles mirrored into the right half-plane) is largest over the spectral
+range — where the current space explains the circuit worst (Druskin and Simoncini, Systems &
+Control Letters 60 (2011) 546: adaptive rational Krylov subspaces).  A complex shift adds the
+real and imaginary parts of its solution, so the basis stays real.  Each sparse LU serves
+``_MOMENTS`` solves (``z``, then ``(G + σC)⁻ᵀ Cᵀ z``: Hermite interpolation at σ), since a solve
+costs a few percent of a factorisation.
+
+Stop: when every source's variance changes by at most ``tol/10`` of the total between two
+enlargements of the basis, twice in a row; the result is stated to ``tol`` relative to the
+total (each source's share ``var_k / Σ var`` to ``tol`` absolute).  A column whose white input
+reaches the output with no roll-off is found on the full circuit (two solves far above the
+highest pole, the exact path's test) and gets ``inf``.
+"""
+
+from __future__ import annotations
+
+import math
+from dataclasses import dataclass
+
+import numpy as np
+
+from netnoise.errors import CircuitError
+
+__all__ = ["LowRankTotals", "LowRankUnsuitable", "lowrank_totals"]
+
+_MOMENTS = 2  # solves per factorisation: z(σ) and the next moment (G + σC)⁻ᵀ Cᵀ z(σ)
+_ORTHO_DROP = 1e-10  # a new vector keeping less than this share of its norm after orthogonalisation adds nothing
+_CANDIDATES = 240  # real candidate shifts, log-spaced over the spectral range
+_CONFIRM_FACTOR = 1e4  # the no-roll-off test: |H| at 1e4 and 1e6 x the highest pole bound (as the exact path)
+_STABLE_ROUNDS = 2  # enlargements in a row whose change is within tol/10
+
+
+@dataclass(frozen=True, eq=False)
+class LowRankTotals:
+    """``variance`` (K,) V² (or the column's unit squared): ∫0^∞ |H_k(f)|² S_k df per column, the
+    convention of :func:`~netnoise.engine.total_variance.infinite_band_totals`, ``inf`` where the
+    white input reaches the output without roll-off; ``tolerance``: the stated accuracy of each
+    finite variance relative to the total of the finite ones; ``rank``: the basis size;
+    ``factorizations``: sparse LU factorisations used; ``poles_Hz``: the reduced model's pole
+    magnitudes, Hz."""
+
+    variance: np.ndarray
+    tolerance: float
+    rank: int
+    factorizations: int
+    poles_Hz: np.ndarray
+
+
+class LowRankUnsuitable(Exception):
+    """The circuit falls outside the low-rank method (the message says why); the caller falls back
+    on another method."""
+
+
+@dataclass
+class _Reduced:
+    variance: np.ndarray
+    poles: np.ndarray  # complex poles of the reduced model, rad/s (left half-plane)
+
+
+class _Basis:
+    """An orthonormal basis V, grown one vector at a time, with the projections Vᵀ G V,
+    Vᵀ C V, Vᵀ c and Bᵀ V kept up to date."""
+
+    def __init__(self, G, C, c: np.ndarray, B, capacity: int):
+        self.G, self.C, self.c, self.B = G, C, c, B
+        n = c.size
+        self.V = np.empty((n, capacity))
+        self.GV = np.empty((n, capacity))
+        self.CV = np.empty((n, capacity))
+        self.BtV: list[np.ndarray] = []
+        self.r = 0
+
+    def add(self, w: np.ndarray) -> bool:
+        """Orthogonalise ``w`` (classical Gram–Schmidt, twice) and append it; False if it adds
+        nothing new or the basis is full."""
+        if self.r >= self.V.shape[1]:
+            return False
+        w = np.asarray(w, dtype=float).copy()
+        size = float(np.linalg.norm(w))
+        if not (size > 0 and math.isfinite(size)):
+            return False
+        w /= size
+        V = self.V[:, : self.r]
+        for _ in range(2):
+            w -= V @ (V.T @ w)
+        kept = float(np.linalg.norm(w))
+        if kept < _ORTHO_DROP:
+            return False
+        w /= kept
+        self.V[:, self.r] = w
+        self.GV[:, self.r] = self.G @ w
+        self.CV[:, self.r] = self.C @ w
+        self.BtV.append(np.asarray(self.B.T @ w).ravel())
+        self.r += 1
+        return True
+
+    def projected(self) -> tuple[np.ndarray, np.ndarray, np.ndarray, np.ndarray]:
+        V = self.V[:, : self.r]
+        gr = V.T @ self.GV[:, : self.r]
+        cr = V.T @ self.CV[:, : self.r]
+        return gr, cr, V.T @ self.c, np.stack(self.BtV)
+
+
+def _symmetric(M) -> bool:
+    d = abs(M - M.T)
+    top = float(abs(M).max()) if M.nnz else 0.0
+    return d.nnz == 0 or float(d.max()) <= 1e-14 * top
+
+
+def _factor(G, C, sigma: complex):
+    """Sparse LU of G + σC (real when σ is real); None when it is singular."""
+    import scipy.sparse.linalg as spla
+
+    a = (G + sigma * C) if sigma.imag else (G + sigma.real * C)
+    try:
+        return spla.splu(
+            a.tocsc(), permc_spec="MMD_AT_PLUS_A", diag_pivot_thresh=0.1, options=dict(SymmetricMode=True)
+        )
+    except RuntimeError:
+        return None
+
+
+def _reduce_symmetric(gr, cr, cv, br, density) -> _Reduced | None:
+    """The reduced variances by the symmetric eigen-solution; None when the projected pencil is
+    not positive definite."""
+    import scipy.linalg as la
+
+    try:
+        lam, U = la.eigh(0.5 * (gr + gr.T), 0.5 * (cr + cr.T))
+    except (la.LinAlgError, ValueError):
+        return None
+    if not (lam.size and np.all(lam > 0) and np.all(np.isfinite(lam))):
+        return None
+    ct = U.T @ cv
+    bt = U.T @ br  # (r, K)
+    w = np.outer(ct, ct) / (lam[:, None] + lam[None, :])
+    variance = 0.5 * density * np.einsum("ik,ik->k", bt, w @ bt)
+    return _Reduced(np.maximum(variance, 0.0), -lam.astype(complex))
+
+
+def _reduce_general(gr, cr, cv, br, density) -> _Reduced | None:
+    """The reduced variances by the exact dense path; None when the reduced model is unstable
+    or cannot be solved."""
+    import scipy.linalg as la
+
+    from netnoise.engine.total_variance import finite_scaled_eigenvalues, infinite_band_totals
+
+    try:
+        exact = infinite_band_totals(gr, cr, cv, br, density)
+        lam, s0 = finite_scaled_eigenvalues(gr, cr)
+    except (CircuitError, la.LinAlgError, ValueError):
+        return None
+    return _Reduced(exact.variance, lam * s0)
+
+
+def _next_shift(shifts: list[complex], poles: np.ndarray, low: float, high: float, real_only: bool) -> complex:
+    """The candidate shift where ∏|s − σ_j| / ∏|s + θ_j| is largest (θ_j = −pole_j): real
+    candidates log-spaced over [low, high] rad/s and, unless ``real_only``, the mirrored complex
+    poles."""
+    candidates = np.logspace(math.log10(low), math.log10(high), _CANDIDATES).astype(complex)
+    mirrored = -poles[np.abs(poles.imag) > 1e-3 * np.abs(poles)] if not real_only else np.zeros(0, complex)
+    mirrored = mirrored[mirrored.imag > 0]
+    candidates = np.concatenate([candidates, mirrored])
+    sigma = np.array(shifts, dtype=complex)
+    sigma = np.concatenate([sigma, np.conj(sigma[sigma.imag != 0])])
+    with np.errstate(divide="ignore"):
+        score = np.log(np.abs(candidates[:, None] - sigma[None, :])).sum(axis=1) - np.log(
+            np.abs(candidates[:, None] + (-poles)[None, :])
+        ).sum(axis=1)
+    return complex(candidates[int(np.argmax(score))])
+
+
+def lowrank_totals(G, C, selector, columns, density, tol: float = 1e-8, max_rank: int | None = None) -> LowRankTotals:
+    """∫0^∞ |cᵀ(G + j2πfC)⁻¹ b_k|² S_k df for every column b_k of ``columns`` (n × K, sparse or
+    dense), ``density`` (K,) one-sided white densities, from a rational Krylov basis of the
+    adjoint solutions (module docstring).  ``tol``: the accuracy of each variance relative to the
+    total; ``max_rank``: the largest basis (default min(n, 400)).  LowRankUnsuitable when the
+    circuit falls outside the method (no DC solution at σ = 0, an unstable reduced model, no
+    convergence within ``max_rank``)."""
+    import scipy.sparse as sp
+
+    if not 0 < tol < 1:
+        raise ValueError(f"tol must lie between 0 and 1, not {tol!r}")
+    G = sp.csc_matrix(G, dtype=float)
+    C = sp.csc_matrix(C, dtype=float)
+    n = G.shape[0]
+    c = np.asarray(selector, dtype=float).ravel()
+    B = sp.csc_matrix(columns, dtype=float) if sp.issparse(columns) else np.asarray(columns, dtype=float)
+    if B.ndim == 1:
+        B = B[:, None]
+    density = np.asarray(density, dtype=float).ravel()
+    k = B.shape[1]
+    if n == 0 or C.nnz == 0:
+        raise LowRankUnsuitable("the circuit has no capacitance or inductance: no pole to reduce to")
+    capacity = min(n, max_rank if max_rank is not None else 400)
+    symmetric = _symmetric(G) and _symmetric(C)
+
+    c_diag = np.abs(C.diagonal())
+    dynamic = c_diag > 0
+    if not dynamic.any():
+        raise LowRankUnsuitable("no unknown has its own capacitance, so the pole range cannot be bounded")
+    g_rows = np.asarray(abs(G).sum(axis=1)).ravel()
+    top = float(np.max(g_rows[dynamic] / c_diag[dynamic]))  # rad/s, Gershgorin bound of the highest pole
+
+    basis = _Basis(G, C, c, B, capacity)
+    factorizations = 0
+
+    def enlarge(sigma: complex) -> bool:
+        nonlocal factorizations
+        lu = _factor(G, C, sigma)
+        factorizations += 1
+        if lu is None:
+            return False
+        rhs = c.astype(complex) if sigma.imag else c
+        grew = False
+        for _ in range(_MOMENTS):
+            z = lu.solve(rhs, trans="T")
+            parts = (z.real, z.imag) if sigma.imag else (z,)
+            for part in parts:
+                grew |= basis.add(part)
+            rhs = C.T @ z
+        return grew
+
+    # no roll-off, on the full circuit: |H| far above the highest pole stays flat (exact path's test)
+    high_gain = []
+    for w in (_CONFIRM_FACTOR * top, 100 * _CONFIRM_FACTOR * top):
+        lu = _factor(G, C, complex(w))
+        factorizations += 1
+        if lu is None:
+            raise LowRankUnsuitable(f"G + sC is singular at s = {w:.3g} /s, far above the poles")
+        z = lu.solve(c, trans="T")
+        high_gain.append(np.abs(np.asarray(B.T @ z).ravel()))
+        basis.add(z)
+    unbounded = (high_gain[0] > 0) & (high_gain[1] >= 0.1 * high_gain[0]) & (density > 0)
+
+    if not enlarge(0j):
+        raise LowRankUnsuitable("G is singular (no DC solution), so the basis cannot start at 0 Hz")
+    shifts: list[complex] = [0j, complex(_CONFIRM_FACTOR * top), complex(100 * _CONFIRM_FACTOR * top)]
+    enlarge(complex(top))
+    shifts.append(complex(top))
+
+    previous: np.ndarray | None = None
+    steady = 0
+    reduced: _Reduced | None = None
+    failed: set[complex] = set()
+    while True:
+        gr, cr, cv, br = basis.projected()
+        reduced = _reduce_symmetric(gr, cr, cv, br, density) if symmetric else None
+        if reduced is None:
+            reduced = _reduce_general(gr, cr, cv, br, density)
+        if reduced is not None:
+            finite = ~unbounded
+            variance = np.where(finite, reduced.variance, np.inf)
+            ok = bool(np.all(np.isfinite(variance[finite])))
+            total = float(variance[finite].sum())
+            if ok and previous is not None and total > 0:
+                change = float(np.max(np.abs(variance[finite] - previous[finite]), initial=0.0))
+                steady = steady + 1 if change <= 0.1 * tol * total else 0
+                if steady >= _STABLE_ROUNDS:
+                    poles = np.sort(np.abs(reduced.poles)) / (2 * math.pi)
+                    return LowRankTotals(variance, tol, basis.r, factorizations, poles)
+            previous = variance if ok else None
+            if not ok:
+                steady = 0
+        else:
+            steady = 0
+            previous = None
+        if basis.r >= capacity:
+            break
+        poles = reduced.poles if reduced is not None else np.zeros(0, complex)
+        poles = poles[poles.real < 0] if poles.size else poles
+        low = float(np.min(np.abs(poles))) / 10 if poles.size else top * 1e-9
+        high = max(top, float(np.max(np.abs(poles), initial=0.0))) * 10
+        sigma = _next_shift(shifts + list(failed), poles, max(low, 1e-30), high, symmetric)
+        shifts.append(sigma)
+        if not enlarge(sigma):
+            failed.add(sigma)
+            if len(failed) > 8:
+                break
+    why = (
+        "its reduced model stayed unstable"
+        if reduced is None
+        else f"every source's share did not settle to {tol:.0e} of the total"
+    )
+    raise LowRankUnsuitable(f"{why} within a basis of {basis.r} vectors ({factorizations} factorisations)")
