@@ -24,9 +24,9 @@ factorisation at a time, the shift where the rational function ``∏_j |s − σ
 (θ_j the reduced model's poles mirrored into the right half-plane) is largest over the spectral
 range — where the current space explains the circuit worst (Druskin and Simoncini, Systems &
 Control Letters 60 (2011) 546: adaptive rational Krylov subspaces).  A complex shift adds the
-real and imaginary parts of its solution, so the basis stays real.  Each sparse LU serves
-``_MOMENTS`` solves (``z``, then ``(G + σC)⁻ᵀ Cᵀ z``: Hermite interpolation at σ), since a solve
-costs a few percent of a factorisation.
+real and imaginary parts of its solution, so the basis stays real.  Each sparse LU can serve
+``_MOMENTS`` solves (``z``, then ``(G + σC)⁻ᵀ Cᵀ z``: Hermite interpolation at σ); on RC meshes a
+second moment did not save factorisations, so one is used (a complex shift: two vectors).
 
 Stop: when every source's variance changes by at most ``tol/10`` of the total between two
 enlargements of the basis, twice in a row; the result is stated to ``tol`` relative to the
@@ -82,46 +82,55 @@ class _Reduced:
 
 class _Basis:
     """An orthonormal basis V, grown one vector at a time, with the projections Vᵀ G V,
-    Vᵀ C V, Vᵀ c and Bᵀ V kept up to date."""
+    Vᵀ C V, Vᵀ c and Vᵀ B kept up to date (each new vector costs two sparse products with G
+    and with C and one with B; nothing of size n × r is formed but V)."""
 
     def __init__(self, G, C, c: np.ndarray, B, capacity: int):
         self.G, self.C, self.c, self.B = G, C, c, B
-        n = c.size
-        self.V = np.empty((n, capacity))
-        self.GV = np.empty((n, capacity))
-        self.CV = np.empty((n, capacity))
+        self.Gt, self.Ct = G.T.tocsc(), C.T.tocsc()
+        self.capacity = capacity
+        self.V = np.empty((c.size, min(capacity, 16)), order="F")  # columns contiguous
+        self.gr = np.empty((capacity, capacity))
+        self.cr = np.empty((capacity, capacity))
+        self.cv = np.empty(capacity)
         self.BtV: list[np.ndarray] = []
         self.r = 0
 
     def add(self, w: np.ndarray) -> bool:
         """Orthogonalise ``w`` (classical Gram–Schmidt, twice) and append it; False if it adds
         nothing new or the basis is full."""
-        if self.r >= self.V.shape[1]:
+        r = self.r
+        if r >= self.capacity:
             return False
         w = np.asarray(w, dtype=float).copy()
         size = float(np.linalg.norm(w))
         if not (size > 0 and math.isfinite(size)):
             return False
         w /= size
-        V = self.V[:, : self.r]
+        V = self.V[:, :r]
         for _ in range(2):
             w -= V @ (V.T @ w)
         kept = float(np.linalg.norm(w))
         if kept < _ORTHO_DROP:
             return False
         w /= kept
-        self.V[:, self.r] = w
-        self.GV[:, self.r] = self.G @ w
-        self.CV[:, self.r] = self.C @ w
+        if r == self.V.shape[1]:  # grow by doubling
+            grown = np.empty((self.V.shape[0], min(self.capacity, 2 * r)), order="F")
+            grown[:, :r] = V
+            self.V = grown
+        self.V[:, r] = w
+        V = self.V[:, : r + 1]
+        for small, M, Mt in ((self.gr, self.G, self.Gt), (self.cr, self.C, self.Ct)):
+            small[: r + 1, r] = V.T @ (M @ w)  # column r: v_iᵀ M w
+            small[r, :r] = (Mt @ w) @ V[:, :r]  # row r: wᵀ M v_i
+        self.cv[r] = w @ self.c
         self.BtV.append(np.asarray(self.B.T @ w).ravel())
-        self.r += 1
+        self.r = r + 1
         return True
 
     def projected(self) -> tuple[np.ndarray, np.ndarray, np.ndarray, np.ndarray]:
-        V = self.V[:, : self.r]
-        gr = V.T @ self.GV[:, : self.r]
-        cr = V.T @ self.CV[:, : self.r]
-        return gr, cr, V.T @ self.c, np.stack(self.BtV)
+        r = self.r
+        return self.gr[:r, :r].copy(), self.cr[:r, :r].copy(), self.cv[:r].copy(), np.stack(self.BtV)
 
 
 def _symmetric(M) -> bool:
@@ -246,13 +255,16 @@ def lowrank_totals(G, C, selector, columns, density, tol: float = 1e-8, max_rank
 
     # no roll-off, on the full circuit: |H| far above the highest pole stays flat (exact path's test)
     high_gain = []
+    b_norm = np.sqrt(np.asarray(B.multiply(B).sum(axis=0)).ravel()) if sp.issparse(B) else np.linalg.norm(B, axis=0)
     for w in (_CONFIRM_FACTOR * top, 100 * _CONFIRM_FACTOR * top):
         lu = _factor(G, C, complex(w))
         factorizations += 1
         if lu is None:
             raise LowRankUnsuitable(f"G + sC is singular at s = {w:.3g} /s, far above the poles")
         z = lu.solve(c, trans="T")
-        high_gain.append(np.abs(np.asarray(B.T @ z).ravel()))
+        # below 1e-9 of ‖z‖·‖b_k‖ a gain is rounding, not a path (the exact path's threshold)
+        gain = np.abs(np.asarray(B.T @ z).ravel())
+        high_gain.append(np.where(gain > 1e-9 * np.linalg.norm(z) * b_norm, gain, 0.0))
         basis.add(z)
     unbounded = (high_gain[0] > 0) & (high_gain[1] >= 0.1 * high_gain[0]) & (density > 0)
 
