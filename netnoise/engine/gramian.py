@@ -129,8 +129,43 @@ class _Basis:
         return True
 
     def projected(self) -> tuple[np.ndarray, np.ndarray, np.ndarray, np.ndarray]:
+        """Galerkin: Vᵀ G V, Vᵀ C V, Vᵀ c, Vᵀ B."""
         r = self.r
         return self.gr[:r, :r].copy(), self.cr[:r, :r].copy(), self.cv[:r].copy(), np.stack(self.BtV)
+
+    def petrov(self, sigma0: float) -> tuple[np.ndarray, np.ndarray, np.ndarray, np.ndarray]:
+        """Petrov–Galerkin for a general pencil: the adjoint equation tested on
+        W = orth((G + σ0 C)ᵀ V), i.e. the reduced system Vᵀ G W, Vᵀ C W, Wᵀ c, Vᵀ B.  Its
+        matrix at σ0 is (G + σ0C)(G + σ0C)ᵀ projected, never singular, where a Galerkin
+        projection of a saddle-point pencil (branch currents) can be singular for every s;
+        the reduced transfer still equals the full one at every shift."""
+        r = self.r
+        V = self.V[:, :r]
+        W, _ = np.linalg.qr((self.Gt + sigma0 * self.Ct) @ V)
+        return V.T @ (self.G @ W), V.T @ (self.C @ W), W.T @ self.c, np.stack(self.BtV)
+
+
+def _equilibrated(G, C, c, B):
+    """D G D, D C D, D c, D B with D diagonal (powers of two) so that every row and column of
+    |G| + s0|C| (s0 = ‖G‖/‖C‖) has its largest entry near 1: the transfers are unchanged, and
+    node voltages (conductances ~1e-3 S) and branch currents (entries ±1) weigh alike in the
+    basis's inner product.  Symmetric scaling keeps a symmetric pencil symmetric."""
+    import scipy.sparse as sp
+
+    norm_g = float(abs(G).sum(axis=0).max()) if G.nnz else 0.0
+    norm_c = float(abs(C).sum(axis=0).max())
+    s0 = norm_g / norm_c if norm_g > 0 and norm_c > 0 else 1.0
+    m = sp.csr_matrix(abs(G) + s0 * abs(C))
+    d = np.ones(G.shape[0])
+    for _ in range(6):  # symmetric Ruiz passes: d_i /= sqrt(max_j |m_ij| d_i d_j)
+        scaled = sp.diags(d) @ m @ sp.diags(d)
+        top = np.asarray(abs(scaled).max(axis=1).todense()).ravel()
+        d = d / np.sqrt(np.where(top > 0, top, 1.0))
+    _, exponent = np.frexp(d)
+    d = np.ldexp(1.0, exponent - 1)  # a power of two: the scaling is exact
+    D = sp.diags(d)
+    scaled_b = (D @ B).tocsc() if sp.issparse(B) else d[:, None] * B
+    return (D @ G @ D).tocsc(), (D @ C @ D).tocsc(), d * c, scaled_b
 
 
 def _symmetric(M) -> bool:
@@ -170,19 +205,56 @@ def _reduce_symmetric(gr, cr, cv, br, density) -> _Reduced | None:
     return _Reduced(np.maximum(variance, 0.0), -lam.astype(complex))
 
 
-def _reduce_general(gr, cr, cv, br, density) -> _Reduced | None:
-    """The reduced variances by the exact dense path; None when the reduced model is unstable
-    or cannot be solved."""
+def _reduce_general(gr, cr, cv, br, density, tol: float) -> _Reduced | None:
+    """The reduced variances by the exact dense path; when that refuses a pole on or right of
+    the imaginary axis, by the modal sum with the modes the output does not see left out (a
+    one-sided projection can add such a mode, cancelled in every transfer); None when a mode
+    the output sees is unstable or the reduced model cannot be solved."""
     import scipy.linalg as la
 
-    from netnoise.engine.total_variance import finite_scaled_eigenvalues, infinite_band_totals
+    from netnoise.engine.total_variance import UnstableCircuit, finite_scaled_eigenvalues, infinite_band_totals
 
     try:
         exact = infinite_band_totals(gr, cr, cv, br, density)
         lam, s0 = finite_scaled_eigenvalues(gr, cr)
+        return _Reduced(exact.variance, lam * s0)
+    except UnstableCircuit:
+        pass
     except (CircuitError, la.LinAlgError, ValueError):
         return None
-    return _Reduced(exact.variance, lam * s0)
+    return _reduce_modal(gr, cr, cv, br, density, tol)
+
+
+def _reduce_modal(gr, cr, cv, br, density, tol: float) -> _Reduced | None:
+    """var_k = (S_k/2)·Σ_ij a_ik ā_jk / (−λ_i − λ̄_j) over the finite modes λ_i of
+    (−Gᵣ, Cᵣ) with residues a_ik = (cᵣᵀx_i)(y_iᴴbᵣ_k)/(y_iᴴCᵣx_i); a mode whose output weight
+    is below ``tol``·1e-3 of the largest is left out; None if one that counts is unstable or
+    the pencil is not diagonalisable to working accuracy."""
+    import scipy.linalg as la
+
+    try:
+        w, vl, vr = la.eig(-gr, cr, left=True, right=True, homogeneous_eigvals=True)
+    except (la.LinAlgError, ValueError):
+        return None
+    alpha, beta = w
+    scale = float(np.abs(gr).max() / max(np.abs(cr).max(), 1e-300))
+    finite = np.abs(beta) * 1e13 * scale > np.abs(alpha)
+    lam = alpha[finite] / beta[finite]
+    x, y = vr[:, finite], vl[:, finite]
+    norm = np.einsum("ij,ik,kj->j", y.conj(), cr, x)  # y_iᴴ Cᵣ x_i
+    if np.any(np.abs(norm) < 1e-10 * np.linalg.norm(y, axis=0) * np.linalg.norm(cr, 2) * np.linalg.norm(x, axis=0)):
+        return None  # defective or ill-conditioned: the modal sum is not reliable
+    seen = cv @ x / norm  # output weight of each mode, per unit of y_iᴴ b
+    weight = np.abs(seen) * np.linalg.norm(y.conj().T @ br, axis=1)
+    keep = weight > 1e-3 * tol * weight.max(initial=0.0)
+    stable = lam.real < -1e-9 * np.abs(lam)
+    if np.any(keep & ~stable):
+        return None
+    lam, seen, y = lam[keep], seen[keep], y[:, keep]
+    a = seen[:, None] * (y.conj().T @ br)  # (m, K) residues
+    m = 1.0 / (-lam[:, None] - lam.conj()[None, :])
+    variance = 0.5 * density * np.real(np.einsum("ik,ij,jk->k", a, m, a.conj()))
+    return _Reduced(np.maximum(variance, 0.0), lam)
 
 
 def _next_shift(shifts: list[complex], poles: np.ndarray, low: float, high: float, real_only: bool) -> complex:
@@ -221,9 +293,9 @@ def lowrank_totals(G, C, selector, columns, density, tol: float = 1e-8, max_rank
     if B.ndim == 1:
         B = B[:, None]
     density = np.asarray(density, dtype=float).ravel()
-    k = B.shape[1]
     if n == 0 or C.nnz == 0:
         raise LowRankUnsuitable("the circuit has no capacitance or inductance: no pole to reduce to")
+    G, C, c, B = _equilibrated(G, C, c, B)
     capacity = min(n, max_rank if max_rank is not None else 400)
     symmetric = _symmetric(G) and _symmetric(C)
 
@@ -237,12 +309,13 @@ def lowrank_totals(G, C, selector, columns, density, tol: float = 1e-8, max_rank
     basis = _Basis(G, C, c, B, capacity)
     factorizations = 0
 
-    def enlarge(sigma: complex) -> bool:
+    def enlarge(sigma: complex) -> bool | None:
+        """Factor G + σC and add its solutions: None when it is singular, else whether the basis grew."""
         nonlocal factorizations
         lu = _factor(G, C, sigma)
         factorizations += 1
         if lu is None:
-            return False
+            return None
         rhs = c.astype(complex) if sigma.imag else c
         grew = False
         for _ in range(_MOMENTS):
@@ -265,12 +338,11 @@ def lowrank_totals(G, C, selector, columns, density, tol: float = 1e-8, max_rank
         # below 1e-9 of ‖z‖·‖b_k‖ a gain is rounding, not a path (the exact path's threshold)
         gain = np.abs(np.asarray(B.T @ z).ravel())
         high_gain.append(np.where(gain > 1e-9 * np.linalg.norm(z) * b_norm, gain, 0.0))
-        basis.add(z)
     unbounded = (high_gain[0] > 0) & (high_gain[1] >= 0.1 * high_gain[0]) & (density > 0)
 
-    if not enlarge(0j):
+    if enlarge(0j) is None:
         raise LowRankUnsuitable("G is singular (no DC solution), so the basis cannot start at 0 Hz")
-    shifts: list[complex] = [0j, complex(_CONFIRM_FACTOR * top), complex(100 * _CONFIRM_FACTOR * top)]
+    shifts: list[complex] = [0j]
     enlarge(complex(top))
     shifts.append(complex(top))
 
@@ -279,10 +351,11 @@ def lowrank_totals(G, C, selector, columns, density, tol: float = 1e-8, max_rank
     reduced: _Reduced | None = None
     failed: set[complex] = set()
     while True:
-        gr, cr, cv, br = basis.projected()
-        reduced = _reduce_symmetric(gr, cr, cv, br, density) if symmetric else None
+        reduced = _reduce_symmetric(*basis.projected(), density) if symmetric else None
         if reduced is None:
-            reduced = _reduce_general(gr, cr, cv, br, density)
+            positive = [x.real for x in shifts if x.real > 0]
+            sigma0 = math.exp(sum(math.log(x) for x in positive) / len(positive)) if positive else top
+            reduced = _reduce_general(*basis.petrov(sigma0), density, tol)
         if reduced is not None:
             finite = ~unbounded
             variance = np.where(finite, reduced.variance, np.inf)
@@ -291,9 +364,9 @@ def lowrank_totals(G, C, selector, columns, density, tol: float = 1e-8, max_rank
             if ok and previous is not None and total > 0:
                 change = float(np.max(np.abs(variance[finite] - previous[finite]), initial=0.0))
                 steady = steady + 1 if change <= 0.1 * tol * total else 0
-                if steady >= _STABLE_ROUNDS:
-                    poles = np.sort(np.abs(reduced.poles)) / (2 * math.pi)
-                    return LowRankTotals(variance, tol, basis.r, factorizations, poles)
+            if ok and (steady >= _STABLE_ROUNDS or basis.r == n):  # r = n: the projection is exact
+                poles = np.sort(np.abs(reduced.poles)) / (2 * math.pi)
+                return LowRankTotals(variance, tol, basis.r, factorizations, poles)
             previous = variance if ok else None
             if not ok:
                 steady = 0
@@ -308,7 +381,7 @@ def lowrank_totals(G, C, selector, columns, density, tol: float = 1e-8, max_rank
         high = max(top, float(np.max(np.abs(poles), initial=0.0))) * 10
         sigma = _next_shift(shifts + list(failed), poles, max(low, 1e-30), high, symmetric)
         shifts.append(sigma)
-        if not enlarge(sigma):
+        if not enlarge(sigma):  # singular there, or nothing new
             failed.add(sigma)
             if len(failed) > 8:
                 break
