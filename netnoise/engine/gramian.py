@@ -76,8 +76,8 @@ class LowRankUnsuitable(Exception):
 
 @dataclass
 class _Reduced:
-    variance: np.ndarray
-    poles: np.ndarray  # complex poles of the reduced model, rad/s (left half-plane)
+    variance: np.ndarray | None  # None: the reduced model is not usable (unstable), only its poles guide the shifts
+    poles: np.ndarray  # complex poles of the reduced model, rad/s (mirrored into the left half-plane if unstable)
 
 
 class _Basis:
@@ -222,7 +222,15 @@ def _reduce_general(gr, cr, cv, br, density, tol: float) -> _Reduced | None:
         pass
     except (CircuitError, la.LinAlgError, ValueError):
         return None
-    return _reduce_modal(gr, cr, cv, br, density, tol)
+    modal = _reduce_modal(gr, cr, cv, br, density, tol)
+    if modal is None:
+        try:  # its poles, mirrored into the left half-plane, still tell where the basis is poor
+            lam, s0 = finite_scaled_eigenvalues(gr, cr)
+        except (la.LinAlgError, ValueError, CircuitError):
+            return None
+        lam = lam * s0
+        return _Reduced(None, -np.abs(lam.real) + 1j * lam.imag)
+    return modal
 
 
 def _reduce_modal(gr, cr, cv, br, density, tol: float) -> _Reduced | None:
@@ -356,7 +364,7 @@ def lowrank_totals(G, C, selector, columns, density, tol: float = 1e-8, max_rank
             positive = [x.real for x in shifts if x.real > 0]
             sigma0 = math.exp(sum(math.log(x) for x in positive) / len(positive)) if positive else top
             reduced = _reduce_general(*basis.petrov(sigma0), density, tol)
-        if reduced is not None:
+        if reduced is not None and reduced.variance is not None:
             finite = ~unbounded
             variance = np.where(finite, reduced.variance, np.inf)
             ok = bool(np.all(np.isfinite(variance[finite])))
@@ -387,7 +395,7 @@ def lowrank_totals(G, C, selector, columns, density, tol: float = 1e-8, max_rank
                 break
     why = (
         "its reduced model stayed unstable"
-        if reduced is None
+        if reduced is None or reduced.variance is None
         else f"every source's share did not settle to {tol:.0e} of the total"
     )
     raise LowRankUnsuitable(f"{why} within a basis of {basis.r} vectors ({factorizations} factorisations)")
