@@ -200,3 +200,13 @@ def test_refusals():
         lowrank_totals(G, C, c, B, S)
     with pytest.raises(ValueError, match="tol"):
         lowrank_totals(G, C, c, B, S, tol=0.0)
+
+
+@pytest.mark.parametrize("bad", [0.0, 1.0, -1e-8])
+def test_solver_option_lowrank_tol_is_checked(bad):
+    from netnoise.engine.options import SolverOptions
+    from netnoise.errors import UsageError
+
+    assert SolverOptions().lowrank_tol == 1e-8
+    with pytest.raises(UsageError, match="lowrank_tol"):
+        SolverOptions(lowrank_tol=bad)

@@ -22,12 +22,16 @@ class SolverOptions:
     ``exact_limit``: unknowns up to which the total to infinite bandwidth is
     exact (dense QZ, O(n³)); beyond it, quadrature plus an analytic tail.
     ``rtol``: the band integrator's relative tolerance on its error estimate.
+    ``lowrank_tol``: beyond the exact limit, the accuracy of every source's share of the total
+    to infinite bandwidth by the low-rank Gramian (:mod:`netnoise.engine.gramian`), relative to
+    the total.
     """
 
     method: str | None = None
     dense_limit: int = 200
     exact_limit: int = EXACT_LIMIT
     rtol: float = 1e-6
+    lowrank_tol: float = 1e-8
 
     def __post_init__(self) -> None:
         if self.method is not None and self.method not in METHODS:
@@ -36,3 +40,5 @@ class SolverOptions:
             raise UsageError("dense_limit and exact_limit must be >= 0")
         if not 0 < self.rtol < 1:
             raise UsageError(f"rtol must lie between 0 and 1, not {self.rtol!r}")
+        if not 0 < self.lowrank_tol < 1:
+            raise UsageError(f"lowrank_tol must lie between 0 and 1, not {self.lowrank_tol!r}")
