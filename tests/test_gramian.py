@@ -11,7 +11,6 @@ from pathlib import Path
 import numpy as np
 import pytest
 import scipy.linalg as la
-import scipy.sparse as sp
 
 import netnoise
 from netnoise.constants import BOLTZMANN
@@ -106,17 +105,7 @@ def test_mesh_against_dense_eigh():
     # (figure "lowrank") checks 5,000
     nx = ny = 40
     G, C = gen.mesh_matrices(nx, ny)
-    n = nx * ny
-    idx = np.arange(n).reshape(nx, ny)
-    a = np.concatenate([idx[:-1, :].ravel(), idx[:, :-1].ravel()])
-    b = np.concatenate([idx[1:, :].ravel(), idx[:, 1:].ravel()])
-    k = a.size  # each resistor's thermal current between its nodes, then the ground resistor at node 0
-    rows = np.concatenate([a, b, [0]])
-    cols = np.concatenate([np.arange(k), np.arange(k), [k]])
-    B = sp.csc_matrix((np.concatenate([np.ones(k), -np.ones(k), [1.0]]), (rows, cols)), shape=(n, k + 1))
-    S = np.append(np.full(k, 4 * BOLTZMANN * T / 1e3), 4 * BOLTZMANN * T / 1e6)  # 4kT/R (Johnson–Nyquist)
-    c = np.zeros(n)
-    c[-1] = 1.0
+    B, S, c = gen.mesh_noise_columns(nx, ny, temperature_K=T)  # 4kT/R per resistor (Johnson–Nyquist)
     cap = 1e-13
     lam, U = la.eigh(G.toarray() / cap)
     U = U / np.sqrt(cap)
