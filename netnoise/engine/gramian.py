@@ -180,9 +180,7 @@ def _factor(G, C, sigma: complex):
 
     a = (G + sigma * C) if sigma.imag else (G + sigma.real * C)
     try:
-        return spla.splu(
-            a.tocsc(), permc_spec="MMD_AT_PLUS_A", diag_pivot_thresh=0.1, options=dict(SymmetricMode=True)
-        )
+        return spla.splu(a.tocsc(), permc_spec="MMD_AT_PLUS_A", diag_pivot_thresh=0.1, options=dict(SymmetricMode=True))
     except RuntimeError:
         return None
 
