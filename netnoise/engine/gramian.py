@@ -14,10 +14,15 @@ every column at once) and the small problem is solved exactly:
   eigen-solution ``Gᵣ u = λ Cᵣ u``, ``UᵀCᵣU = I``, gives ``H_k(s) = Σ_i (c̃_i b̃_ki)/(λ_i + s)``
   and ``var_k = (S_k/2)·Σ_ij c̃_i c̃_j b̃_ki b̃_kj / (λ_i + λ_j)``; the projection of such a
   network is itself a stable RC network, so it cannot fail;
-* otherwise (controlled sources, amplifiers, inductors, branch currents):
-  :func:`~netnoise.engine.total_variance.infinite_band_totals` on the projected pencil, which
-  handles its algebraic part as the exact path does; a reduced model with a pole in the right
-  half-plane is not accepted.
+* passive circuits with branch currents (inductors, voltage sources): the branch rows negated
+  (``JG = [[Gn, E], [−Eᵀ, 0]]``, ``JC = [[Cn, 0], [0, L]]``), then the same congruence
+  projection, which keeps ``Cᵣ ⪰ 0`` and ``Gᵣ + Gᵣᵀ ⪰ 0`` (PRIMA): stable by construction;
+* otherwise (controlled sources, amplifiers): a Petrov–Galerkin projection (test space
+  ``orth((G + σ0C)ᵀV)``, never singular at σ0).
+  Both go through :func:`~netnoise.engine.total_variance.infinite_band_totals` on the projected
+  pencil, which handles its algebraic part as the exact path does; when that finds a pole on or
+  right of the axis, the modal sum without the modes the output does not see; a reduced model
+  with an unstable mode that counts is not accepted.
 
 Shifts: σ = 0 (the DC moment) and σ at the Gershgorin bound of the highest pole first; then, one
 factorisation at a time, the shift where the rational function ``∏_j |s − σ_j| / |s + θ_j|``
@@ -168,6 +173,32 @@ def _equilibrated(G, C, c, B):
     return (D @ G @ D).tocsc(), (D @ C @ D).tocsc(), d * c, scaled_b
 
 
+def _passive_form(G, C):
+    """Row signs J (±1) that put a passive MNA pencil in the form JG = [[Gn, E], [−Eᵀ, 0]],
+    JC = [[Cn, 0], [0, L]] (branch rows of inductors and voltage sources negated), when both
+    symmetric parts are positive semidefinite by diagonal dominance; None otherwise (controlled
+    sources, amplifiers, mutual inductance).  A congruence projection of that form keeps
+    Cᵣ ⪰ 0 and Gᵣ + Gᵣᵀ ⪰ 0: the reduced model cannot be unstable (Odabasioglu, Celik and
+    Pileggi, IEEE TCAD 17 (1998) 645, PRIMA)."""
+    import scipy.sparse as sp
+
+    c_diag, g_diag = C.diagonal(), G.diagonal()
+    c_rows = np.asarray(abs(C).sum(axis=1)).ravel()
+    flip = (c_diag < 0) | ((c_rows == 0) & (g_diag == 0))
+    J = sp.diags(np.where(flip, -1.0, 1.0))
+    jg, jc = (J @ G).tocsc(), (J @ C).tocsc()
+    for m, need_symmetric in ((jg, False), (jc, True)):
+        sym = 0.5 * (m + m.T)
+        if need_symmetric and not _symmetric(m):
+            return None
+        diag = sym.diagonal()
+        off = np.asarray(abs(sym).sum(axis=1)).ravel() - np.abs(diag)
+        top = float(abs(sym).max()) if sym.nnz else 0.0
+        if np.any(diag < off - 1e-12 * max(top, 1e-300)):
+            return None
+    return J
+
+
 def _symmetric(M) -> bool:
     d = abs(M - M.T)
     top = float(abs(M).max()) if M.nnz else 0.0
@@ -302,6 +333,11 @@ def lowrank_totals(G, C, selector, columns, density, tol: float = 1e-8, max_rank
     if n == 0 or C.nnz == 0:
         raise LowRankUnsuitable("the circuit has no capacitance or inductance: no pole to reduce to")
     G, C, c, B = _equilibrated(G, C, c, B)
+    J = _passive_form(G, C)
+    passive = J is not None
+    if J is not None and np.any(J.diagonal() < 0):  # the same transfers: (JG + sJC) x = J b
+        G, C = (J @ G).tocsc(), (J @ C).tocsc()
+        B = (J @ B).tocsc() if sp.issparse(B) else J.diagonal()[:, None] * B
     capacity = min(n, max_rank if max_rank is not None else 400)
     symmetric = _symmetric(G) and _symmetric(C)
 
@@ -361,7 +397,7 @@ def lowrank_totals(G, C, selector, columns, density, tol: float = 1e-8, max_rank
         if reduced is None:
             positive = [x.real for x in shifts if x.real > 0]
             sigma0 = math.exp(sum(math.log(x) for x in positive) / len(positive)) if positive else top
-            reduced = _reduce_general(*basis.petrov(sigma0), density, tol)
+            reduced = _reduce_general(*(basis.projected() if passive else basis.petrov(sigma0)), density, tol)
         if reduced is not None and reduced.variance is not None:
             finite = ~unbounded
             variance = np.where(finite, reduced.variance, np.inf)
