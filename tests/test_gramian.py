@@ -188,3 +188,48 @@ def test_solver_option_lowrank_tol_is_checked(bad):
     assert SolverOptions().lowrank_tol == 1e-8
     with pytest.raises(UsageError, match="lowrank_tol"):
         SolverOptions(lowrank_tol=bad)
+
+
+def test_reduced_band_one_rc_is_the_arctangent():
+    # ∫ S·R²/(1 + (2πfRC)²) df from f1 to f2 = S·R/(2πC)·[atan(2πRC f)] (elementary integral):
+    # the thermal current 4kT/R of R in parallel with C, 1 kHz .. 100 kHz around the 15.9 kHz pole
+    from netnoise.engine.gramian import reduced_band_totals
+
+    R, Cap = 10e3, 1e-9
+    G, C, c, B, S = problem(f"one RC\nR1 a 0 {R:g}\nC1 a 0 {Cap:g}\n.end\n", "a")
+    band = reduced_band_totals(G, C, c, B, S, 1e3, 1e5)
+    x = 2 * np.pi * R * Cap
+    expected = S[0] * R / (2 * np.pi * Cap) * (np.arctan(x * 1e5) - np.arctan(x * 1e3))
+    assert band.values[0] == pytest.approx(expected, rel=1e-6)
+    assert band.model_error <= 1e-12
+
+
+@pytest.mark.parametrize("text,out", [(random_rc(300, 2), "n150"), (lossy_lc_ladder(40), "n40"), (AMPLIFIER, "out")])
+def test_reduced_band_matches_full_solves(text, out):
+    # reference: the same band integrator on dense np.linalg.solve transfers of the full circuit,
+    # so the difference is the reduced model's alone
+    from netnoise.engine.gramian import reduced_band_totals
+    from netnoise.engine.integrate import integrate_band
+
+    G, C, c, B, S = problem(text, out)
+    band = reduced_band_totals(G, C, c, B, S, 1e3, 1e8)
+    g, cap, b = G.toarray(), C.toarray(), B.toarray()
+
+    def full(f):
+        rows = np.empty((S.size, f.size))
+        for i, fi in enumerate(f):
+            h = np.linalg.solve((g + 2j * np.pi * fi * cap).T, c.astype(complex)) @ b
+            rows[:, i] = (h.real**2 + h.imag**2) * S
+        return rows
+
+    reference = integrate_band(full, 1e3, 1e8, points_per_decade=20, groups=[slice(0, S.size)]).values
+    assert band.model_error <= 1e-6
+    assert float(np.max(np.abs(band.values - reference))) <= 1e-7 * float(reference.sum())
+
+
+def test_reduced_band_refuses_a_model_off_by_more_than_asked():
+    from netnoise.engine.gramian import reduced_band_totals
+
+    G, C, c, B, S = problem(random_rc(150, 1), "n75")
+    with pytest.raises(LowRankUnsuitable, match="differ from the full circuit"):
+        reduced_band_totals(G, C, c, B, S, 1e3, 1e8, max_error=1e-300)
