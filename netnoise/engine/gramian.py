@@ -95,12 +95,14 @@ class ReducedModel:
     def power(self, frequency_Hz) -> np.ndarray:
         """(K, F) |H_k(f)|² of the reduced model (multiply by the densities for V²/Hz)."""
         f = np.atleast_1d(np.asarray(frequency_Hz, dtype=float))
-        out = np.empty((self.columns.shape[1], f.size))
-        for i, fi in enumerate(f):
-            y = np.linalg.solve((self.g + 2j * math.pi * fi * self.c).T, self.output.astype(complex))
-            h = y @ self.columns
-            out[:, i] = h.real**2 + h.imag**2
-        return out
+        # every frequency's small solve at once, then one real product for the real and imaginary parts
+        a = (self.g[None, :, :] + 2j * math.pi * f[:, None, None] * self.c[None, :, :]).transpose(0, 2, 1)
+        rhs = np.broadcast_to(self.output.astype(complex)[None, :, None], (f.size, self.output.size, 1))
+        y = np.linalg.solve(a, rhs)[:, :, 0]  # (F, r)
+        h = np.concatenate([y.real, y.imag]) @ self.columns  # (2F, K)
+        out = h[: f.size] ** 2
+        out += h[f.size :] ** 2
+        return np.ascontiguousarray(out.T)
 
 
 class LowRankUnsuitable(Exception):
