@@ -14,7 +14,7 @@ import scipy.linalg as la
 
 import netnoise
 from netnoise.constants import BOLTZMANN
-from netnoise.engine.gramian import LowRankUnsuitable, lowrank_totals
+from netnoise.engine.gramian import LowRankUnsuitable, lowrank_model, lowrank_totals
 from netnoise.engine.mna import assemble
 from netnoise.engine.noise_sources import collect_noise_sources
 from netnoise.engine.total_variance import infinite_band_totals
@@ -212,7 +212,9 @@ def test_reduced_band_matches_full_solves(text, out):
     from netnoise.engine.integrate import integrate_band
 
     G, C, c, B, S = problem(text, out)
-    band = reduced_band_totals(G, C, c, B, S, 1e3, 1e8)
+    model = lowrank_model(G, C, c, B, S)
+    band = reduced_band_totals(G, C, c, B, S, 1e3, 1e8, model=model)
+    assert band.totals is model[0]
     g, cap, b = G.toarray(), C.toarray(), B.toarray()
 
     def full(f):

@@ -505,12 +505,14 @@ def reduced_band_totals(
     tol: float = 1e-8,
     checks: int = 5,
     max_error: float = 1e-6,
+    model: tuple[LowRankTotals, ReducedModel] | None = None,
 ) -> ReducedBand:
     """Every source's white noise over ``[low, high]`` Hz from the reduced model of
     :func:`lowrank_model` (a small dense solve per frequency in place of a sparse LU), with the
     adaptive band integrator; the model is then checked against full sparse solves at ``checks``
     log-spaced frequencies of the band (and its edges): LowRankUnsuitable when it differs there
-    by more than ``max_error`` of the total density."""
+    by more than ``max_error`` of the total density.  ``model``: what :func:`lowrank_model` returned
+    for the same circuit, to reuse it (the infinite-band totals and a band share one model)."""
     import scipy.sparse as sp
     import scipy.sparse.linalg as spla
 
@@ -518,10 +520,10 @@ def reduced_band_totals(
 
     if not (0.0 <= low < high < math.inf):
         raise ValueError(f"band must satisfy 0 <= low < high < inf, got {low}, {high}")
-    totals, model = lowrank_model(G, C, selector, columns, density, tol)
+    totals, reduced_model = model if model is not None else lowrank_model(G, C, selector, columns, density, tol)
     S = np.asarray(density, dtype=float).ravel()
     band = integrate_band(
-        lambda f: model.power(f) * S[:, None],
+        lambda f: reduced_model.power(f) * S[:, None],
         low,
         high,
         points_per_decade=points_per_decade,
@@ -533,7 +535,7 @@ def reduced_band_totals(
     G, C = sp.csc_matrix(G, dtype=float), sp.csc_matrix(C, dtype=float)
     B = sp.csc_matrix(columns, dtype=float) if sp.issparse(columns) else np.asarray(columns, dtype=float)
     c = np.asarray(selector, dtype=float).ravel()
-    reduced = model.power(checked) * S[:, None]
+    reduced = reduced_model.power(checked) * S[:, None]
     error = 0.0
     for i, f in enumerate(checked):
         lu = spla.splu((G + 2j * math.pi * f * C).tocsc(), permc_spec="MMD_AT_PLUS_A")
