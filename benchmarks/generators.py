@@ -18,6 +18,7 @@ __all__ = [
     "scattered_network",
     "ladder_matrices",
     "mesh_matrices",
+    "mesh_noise_columns",
 ]
 
 LADDER_R = 100.0  # ohms per section
@@ -95,6 +96,28 @@ def mesh_matrices(nx: int, ny: int, *, r: float = 1e3, c: float = 1e-13, r_groun
     G = sp.csc_matrix((vals, (rows, cols)), shape=(n, n))
     C = sp.diags([np.full(n, c)], [0], format="csc")
     return G, C
+
+
+def mesh_noise_columns(nx: int, ny: int, *, r: float = 1e3, r_ground: float = 1e6, temperature_K: float = 300.15):
+    """The thermal noise of :func:`rc_mesh`'s resistors in :func:`mesh_matrices`' order: injection
+    columns B (n x K, sparse: each resistor's current between its nodes, the ground resistor
+    last), one-sided densities 4kT/R (A²/Hz) and the output selector (the last node)."""
+    import scipy.sparse as sp
+
+    n = nx * ny
+    idx = np.arange(n).reshape(nx, ny)
+    a = np.concatenate([idx[:-1, :].ravel(), idx[:, :-1].ravel()])
+    b = np.concatenate([idx[1:, :].ravel(), idx[:, 1:].ravel()])
+    k = a.size
+    rows = np.concatenate([a, b, [0]])
+    cols = np.concatenate([np.arange(k), np.arange(k), [k]])
+    vals = np.concatenate([np.ones(k), -np.ones(k), [1.0]])
+    B = sp.csc_matrix((vals, (rows, cols)), shape=(n, k + 1))
+    kt4 = 4 * 1.380649e-23 * temperature_K
+    density = np.append(np.full(k, kt4 / r), kt4 / r_ground)
+    selector = np.zeros(n)
+    selector[-1] = 1.0
+    return B, density, selector
 
 
 def small_circuit(nodes: int = 20, seed: int = 1) -> str:

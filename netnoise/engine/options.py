@@ -33,6 +33,9 @@ class SolverOptions:
     ``jobs``: threads solving frequencies at once (sparse and tridiagonal paths), each with
     BLAS on one thread; None: every core this process may use.  Never more than those
     cores; the results are the same bits whatever the number.
+    ``lowrank_tol``: beyond the exact limit, the accuracy of every source's share of the total
+    to infinite bandwidth by the low-rank Gramian (:mod:`netnoise.engine.gramian`), relative to
+    the total.
     """
 
     method: str | None = None
@@ -41,6 +44,7 @@ class SolverOptions:
     symmetric_limit: int = SYMMETRIC_LIMIT
     rtol: float = 1e-6
     jobs: int | None = None
+    lowrank_tol: float = 1e-8
 
     def __post_init__(self) -> None:
         if self.method is not None and self.method not in METHODS:
@@ -53,3 +57,5 @@ class SolverOptions:
             isinstance(self.jobs, bool) or not isinstance(self.jobs, Integral) or self.jobs < 1
         ):
             raise UsageError(f"jobs must be a whole number of 1 or more, or None for every core, not {self.jobs!r}")
+        if not 0 < self.lowrank_tol < 1:
+            raise UsageError(f"lowrank_tol must lie between 0 and 1, not {self.lowrank_tol!r}")
