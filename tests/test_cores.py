@@ -78,9 +78,17 @@ def _same_bits(a, b) -> None:
 
 CASES = [
     # beyond the exact limit, to infinite bandwidth: the quadrature's grid is the spectrum's
-    pytest.param(mesh(9, 9), "m8_8", (0.0, math.inf), dict(exact_limit=50), id="wideband-mesh"),
+    pytest.param(
+        mesh(9, 9), "m8_8", (0.0, math.inf), dict(exact_limit=50, symmetric_limit=0, lowrank=False), id="wideband-mesh"
+    ),
     # a band from above 0 Hz to infinity: grid, white tail above it, gain peak and pass band
-    pytest.param(mesh(9, 9), "m8_8", (1e5, math.inf), dict(exact_limit=50), id="from-low-to-infinity"),
+    pytest.param(
+        mesh(9, 9),
+        "m8_8",
+        (1e5, math.inf),
+        dict(exact_limit=50, symmetric_limit=0, lowrank=False),
+        id="from-low-to-infinity",
+    ),
     # a finite band from 0 Hz: the pass-band gain is asked at 0 Hz, which the integrator solved
     pytest.param(ladder(300), "n300", (0.0, 1e9), {}, id="finite-band-ladder"),
     pytest.param(mesh(6, 6), "m5_5", (0.0, 1e10), {}, id="finite-band-dense"),
@@ -107,7 +115,11 @@ def test_the_wideband_total_still_meets_equipartition(solved):
     # (equipartition; common practice); here through the quadrature beyond the exact limit
     circuit = netnoise.parse_netlist(mesh(9, 9, with_input=False))
     result = netnoise.analyze(
-        circuit, output="m8_8", band=(0.0, math.inf), temperature_celsius=27.0, options=SolverOptions(exact_limit=50)
+        circuit,
+        output="m8_8",
+        band=(0.0, math.inf),
+        temperature_celsius=27.0,
+        options=SolverOptions(exact_limit=50, symmetric_limit=0, lowrank=False),
     )
     c_out = (1 + (8 * 9 + 8) % 5) * 1e-13
     assert result.total_rms**2 == pytest.approx(BOLTZMANN * 300.15 / c_out, rel=1e-4)
@@ -116,7 +128,12 @@ def test_the_wideband_total_still_meets_equipartition(solved):
 
 def test_the_memo_lives_for_one_analysis_only(solved):
     circuit = netnoise.parse_netlist(mesh(9, 9))
-    kwargs = dict(output="m8_8", input_source="Vin", band=(0.0, math.inf), options=SolverOptions(exact_limit=50))
+    kwargs = dict(
+        output="m8_8",
+        input_source="Vin",
+        band=(0.0, math.inf),
+        options=SolverOptions(exact_limit=50, symmetric_limit=0, lowrank=False),
+    )
     prepared = netnoise.prepare(circuit, **kwargs)
     first = prepared.analyze()
     assert prepared.problem._memo is None  # forgotten with the analysis
@@ -155,7 +172,7 @@ def _threads_used(monkeypatch) -> list[int]:
 def test_two_jobs_give_the_bits_of_one(monkeypatch, text, out, band):
     used = _threads_used(monkeypatch)
     circuit = netnoise.parse_netlist(text)
-    options = dict(exact_limit=50, method="sparse") if math.isinf(band[1]) else {}
+    options = dict(exact_limit=50, symmetric_limit=0, lowrank=False, method="sparse") if math.isinf(band[1]) else {}
     kwargs = dict(output=out, input_source="Vin", band=band, points_per_decade=10)
     one = netnoise.analyze(circuit, **kwargs, options=SolverOptions(jobs=1, **options))
     assert used == []
@@ -317,7 +334,12 @@ def test_the_memo_keeps_no_rows_beyond_its_memory_share(monkeypatch, solved):
     from netnoise.engine import resources
 
     circuit = netnoise.parse_netlist(mesh(9, 9))
-    kwargs = dict(output="m8_8", input_source="Vin", band=(0.0, math.inf), options=SolverOptions(exact_limit=50))
+    kwargs = dict(
+        output="m8_8",
+        input_source="Vin",
+        band=(0.0, math.inf),
+        options=SolverOptions(exact_limit=50, symmetric_limit=0, lowrank=False),
+    )
     plenty = netnoise.analyze(circuit, **kwargs)
     with_room = len(solved)
     resources.set_available_memory(2**19)  # the memo's share (a fifth) is below one grid's rows

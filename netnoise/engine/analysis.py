@@ -879,16 +879,19 @@ class _InfiniteTotals:
 def _infinite_band_totals(problem: _Problem) -> _InfiniteTotals:
     """The white-noise totals from 0 Hz to infinity, by the first method that applies: one
     symmetric eigendecomposition (symmetric G and C, up to ``symmetric_limit`` unknowns), the
-    state space by QZ (up to ``exact_limit``), else quadrature with an analytic tail
-    (:mod:`netnoise.wideband`).  A method that cannot take the circuit returns None and the next
+    state space by QZ (up to ``exact_limit``), a low-rank Gramian (:mod:`netnoise.engine.gramian`,
+    unless ``lowrank`` is off), else quadrature with an analytic tail (:mod:`netnoise.wideband`).  A method that cannot take the circuit returns None and the next
     one is tried.  CircuitError when a source's white noise reaches the output unfiltered."""
     found = None
     if problem.symmetric() is not None:
         found = _symmetric_totals(problem)
     if found is None and problem.system.size <= problem.options.exact_limit:
         found = _qz_totals(problem)
+    refused = ""
+    if found is None and problem.options.lowrank:
+        found, refused = _lowrank_totals(problem)
     if found is None:
-        found = _quadrature_totals(problem)
+        found = _quadrature_totals(problem, refused)
     _refuse_unbounded(problem, found.variance)
     return found
 
@@ -951,9 +954,29 @@ def _qz_totals(problem: _Problem) -> _InfiniteTotals:
     )
 
 
-def _quadrature_totals(problem: _Problem) -> _InfiniteTotals:
+def _lowrank_totals(problem: _Problem) -> tuple[_InfiniteTotals | None, str]:
+    """Every source's total from a low-rank Gramian (:func:`netnoise.engine.gramian.lowrank_totals`),
+    stated to ``lowrank_tol`` of the total; (None, why) when the circuit falls outside the method."""
+    from netnoise.engine.gramian import LowRankUnsuitable, lowrank_totals
+
+    system, tol = problem.system, problem.options.lowrank_tol
+    columns, density = _columns(problem, dense=False)
+    try:
+        low = lowrank_totals(system.G, system.C, problem.selector, columns, density, tol)
+    except LowRankUnsuitable as why:
+        return None, str(why)
+    note = (
+        f"circuit of {system.size} unknowns, beyond the exact methods: the total to infinite bandwidth is "
+        f"found from a low-rank Gramian (a reduced model of {low.rank} states from {low.factorizations} "
+        f"factorisations), each source to {tol:.0e} of the total"
+    )
+    return _InfiniteTotals(low.variance, low.poles_Hz, "low-rank", tol, note), ""
+
+
+def _quadrature_totals(problem: _Problem, refused: str = "") -> _InfiniteTotals:
     """Numerical integration up to 100x the estimated highest pole plus an analytic tail
-    (:func:`netnoise.wideband.wideband_totals`); its error estimate is the stated tolerance."""
+    (:func:`netnoise.wideband.wideband_totals`); its error estimate is the stated tolerance.
+    ``refused``: why the low-rank method did not take the circuit, said in the note."""
     from netnoise.engine.wideband import wideband_totals
 
     system = problem.system
@@ -979,6 +1002,7 @@ def _quadrature_totals(problem: _Problem) -> _InfiniteTotals:
         f"infinite bandwidth is integrated numerically up to {format_quantity(wide.top_Hz, 'Hz')} "
         f"(100x the estimated highest pole) plus an analytic tail ({100 * wide.tail_share:.2g} % of the "
         f"total); estimated relative error {tolerance:.1e}"
+        + (f" (the low-rank method did not apply: {refused})" if refused else "")
     )
     return _InfiniteTotals(variance, poles, "quadrature", tolerance, note)
 

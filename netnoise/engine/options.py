@@ -33,6 +33,8 @@ class SolverOptions:
     ``jobs``: threads solving frequencies at once (sparse and tridiagonal paths), each with
     BLAS on one thread; None: every core this process may use.  Never more than those
     cores; the results are the same bits whatever the number.
+    ``lowrank``: beyond the exact limits, take the total to infinite bandwidth from a low-rank
+    Gramian (True) before falling back on quadrature; False: quadrature straight away.
     ``lowrank_tol``: beyond the exact limit, the accuracy of every source's share of the total
     to infinite bandwidth by the low-rank Gramian (:mod:`netnoise.engine.gramian`), relative to
     the total.
@@ -44,6 +46,7 @@ class SolverOptions:
     symmetric_limit: int = SYMMETRIC_LIMIT
     rtol: float = 1e-6
     jobs: int | None = None
+    lowrank: bool = True
     lowrank_tol: float = 1e-8
 
     def __post_init__(self) -> None:
