@@ -400,6 +400,7 @@ def test_every_method_has_words_and_keys():
         ("exact-qz", 1e-6),
         ("low-rank", 3e-7),
         ("quadrature", 2e-3),
+        ("reduced-model", 5e-7),
     ):
         result = dataclasses.replace(base, total_method=method, total_tolerance=tolerance)
         text = format_report(result)

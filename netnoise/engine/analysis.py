@@ -228,6 +228,9 @@ class _Problem:
         if settings.input_source is not None:
             self.input_vector, self.input_unit = self.system.excitation_vector(settings.input_source)
         self._memo: TransferMemo | None = None  # set for the length of one analysis (remembering)
+        # a reduced model (netnoise.engine.gramian.ReducedModel) standing in for the full solves
+        # in densities(), once checked against them (_adopt_model)
+        self.model: Any = None
 
     @contextlib.contextmanager
     def remembering(self, keep_rows: bool = True) -> Iterator[TransferMemo]:
@@ -267,7 +270,13 @@ class _Problem:
         require_memory(rows * np.size(frequency_Hz) * 8, "the per-source transfer at every frequency")
         out = np.empty((rows, np.size(frequency_Hz)))  # filled in place: no stacking copy
         with np.errstate(over="ignore", invalid="ignore"):  # an overflow here is refused just below, by name
-            if self._memo is None:
+            if self.model is not None:  # a checked reduced model: a small dense solve per frequency
+                reduced = self.model.power(np.asarray(frequency_Hz, dtype=float))
+                out[:k] = reduced[:k]
+                signal = reduced[k] if self.has_input else None
+                if self.progress is not None:
+                    self.progress(int(np.size(frequency_Hz)))
+            elif self._memo is None:
                 _, signal = transfer_power(
                     self.system,
                     self.selector,
@@ -618,15 +627,20 @@ def _analyze(problem: _Problem, source_resistor: str | None, gain_at_Hz: float |
         top = _decade_ceil(poles.max() * 100) if poles.size else 1e9
         start = low if low > 0 else (_decade_floor(poles.min() / 100) if poles.size else top * 1e-9)
         top = max(top, start * 1e3)
-        shown = integrate_band(
-            lambda f: problem.densities(f, "full", extra_colored=colored),
-            low,
-            top,
-            points_per_decade=settings.points_per_decade,
-            groups=problem.groups(extra_colored=colored),
-            linear_below=start if low == 0.0 else None,
-            rtol=problem.options.rtol,
-        )
+        model = problem.__dict__.pop("_lowrank_model", None)  # the low-rank totals' reduced model
+        model_note = _adopt_model(problem, model, low, top, start) if model is not None else None
+        try:
+            shown = integrate_band(
+                lambda f: problem.densities(f, "full", extra_colored=colored),
+                low,
+                top,
+                points_per_decade=settings.points_per_decade,
+                groups=problem.groups(extra_colored=colored),
+                linear_below=start if low == 0.0 else None,
+                rtol=problem.options.rtol,
+            )
+        finally:
+            problem.model = None  # checked up to top only: the tail above it is solved in full
         rel_error = 0.0
         if low > 0.0:
             # [low, inf) integrated itself, never as the exact [0, inf) total minus a numerical [0, low]
@@ -639,6 +653,8 @@ def _analyze(problem: _Problem, source_resistor: str | None, gain_at_Hz: float |
             totals = np.concatenate([shown.values[:k], shown.values[first_row:]]) + tail
             rel_error = shown.rel_error + tail_error
             total_method, total_tolerance = "quadrature", rel_error
+            if model_note is not None:
+                total_method, total_tolerance = "reduced-model", rel_error + model_note.data["error"]
             method = (
                 f"from {format_quantity(low, 'Hz')} to infinite bandwidth: integrated numerically up to there, "
                 "and above it in the variable 1/f"
@@ -660,19 +676,27 @@ def _analyze(problem: _Problem, source_resistor: str | None, gain_at_Hz: float |
     else:
         problem.check_stable(notes)
         poles = _positive(problem.poles_Hz()) if low == 0.0 else None
-        shown = integrate_band(
-            problem.densities,
-            low,
-            high,
-            points_per_decade=settings.points_per_decade,
-            groups=problem.groups(),
-            linear_below=_linear_start(poles, high) if low == 0.0 else None,
-            rtol=problem.options.rtol,
-        )
+        model_note = _band_model(problem, low, high)  # large circuits, many frequencies
+        try:
+            shown = integrate_band(
+                problem.densities,
+                low,
+                high,
+                points_per_decade=settings.points_per_decade,
+                groups=problem.groups(),
+                linear_below=_linear_start(poles, high) if low == 0.0 else None,
+                rtol=problem.options.rtol,
+            )
+        finally:
+            problem.model = None
         totals = shown.values
         rel_error = shown.rel_error
         total_method, total_tolerance = "quadrature", rel_error
+        if model_note is not None:
+            total_method, total_tolerance = "reduced-model", rel_error + model_note.data["error"]
         gain_row = k
+    if model_note is not None:
+        notes.append(model_note)
     if rel_error > 1e-4:
         notes.append(
             Note(
@@ -957,20 +981,89 @@ def _qz_totals(problem: _Problem) -> _InfiniteTotals:
 def _lowrank_totals(problem: _Problem) -> tuple[_InfiniteTotals | None, str]:
     """Every source's total from a low-rank Gramian (:func:`netnoise.engine.gramian.lowrank_totals`),
     stated to ``lowrank_tol`` of the total; (None, why) when the circuit falls outside the method."""
-    from netnoise.engine.gramian import LowRankUnsuitable, lowrank_totals
+    from netnoise.engine.gramian import LowRankUnsuitable, lowrank_model
 
     system, tol = problem.system, problem.options.lowrank_tol
     columns, density = _columns(problem, dense=False)
     try:
-        low = lowrank_totals(system.G, system.C, problem.selector, columns, density, tol)
+        low, model = lowrank_model(system.G, system.C, problem.selector, columns, density, tol)
     except LowRankUnsuitable as why:
         return None, str(why)
+    problem.__dict__["_lowrank_model"] = model  # the spectrum shown may come from it (_adopt_model)
     note = (
         f"circuit of {system.size} unknowns, beyond the exact methods: the total to infinite bandwidth is "
         f"found from a low-rank Gramian (a reduced model of {low.rank} states from {low.factorizations} "
         f"factorisations), each source to {tol:.0e} of the total"
     )
     return _InfiniteTotals(low.variance, low.poles_Hz, "low-rank", tol, note), ""
+
+
+# a reduced model stands in for the full solves only where it differs from them by at most this
+# much of the total density at every checked frequency (the 1e-6 of the integrator's own rtol)
+_MODEL_MAX_ERROR = 1e-6
+_MODEL_CHECKS = 5  # full solves that check it, log-spaced over the band
+# a finite band's grid must have at least this many points before a model is built for it: the
+# model costs about 30 real factorisations (benchmarks/README.md, "Low-rank Gramian")
+_MODEL_MIN_POINTS = 100
+
+
+def _adopt_model(problem: _Problem, model: Any, low: float, high: float, first: float | None = None) -> Note | None:
+    """Let ``model`` (a :class:`~netnoise.engine.gramian.ReducedModel`) stand in for the full
+    solves of ``problem`` over [low, high] Hz once it agrees with them at :data:`_MODEL_CHECKS`
+    frequencies log-spaced from ``first`` (default: low, or 1e-9·high) to high, and at 0 Hz when
+    low is 0, to :data:`_MODEL_MAX_ERROR` of the total density; a note saying so (its ``error``
+    in the data), or None, the full solves kept, when it does not agree."""
+    from netnoise.engine.gramian import model_error
+    from netnoise.engine.transfer import transfer_power
+
+    k = len(problem.sources)
+    f = np.geomspace(first or max(low, high * 1e-9), high, _MODEL_CHECKS)
+    f = np.concatenate([[0.0], f]) if low == 0.0 else f
+    full = np.empty((k, f.size))
+    _, signal = transfer_power(
+        problem.system,
+        problem.selector,
+        problem.sources.injection,
+        problem.input_vector,
+        f,
+        power_out=full,
+        options=problem.options,
+    )
+    reduced = model.power(f)
+    error = model_error(reduced[:k], full, problem.sources.density(f, "full"))
+    if signal is not None:  # the signal path judged on its own scale
+        error = max(error, model_error(reduced[k:], signal[None, :], np.ones(1)))
+    if not error <= _MODEL_MAX_ERROR:
+        return None
+    problem.model = model
+    rank = model.g.shape[0]
+    return Note(
+        "reduced-model",
+        f"densities from a reduced model of {rank} states, checked against the full circuit at "
+        f"{f.size} frequencies from {format_quantity(f[0], 'Hz')} to {format_quantity(f[-1], 'Hz')}: "
+        f"largest difference {error:.1e} of the total density",
+        {"states": rank, "error": error},
+    )
+
+
+def _band_model(problem: _Problem, low: float, high: float) -> Note | None:
+    """For a large circuit over a finite band of many grid points: a reduced model of its
+    transfers (:func:`netnoise.engine.gramian.lowrank_model`) adopted in place of a sparse solve
+    per frequency (:func:`_adopt_model`); None where it does not pay or does not apply."""
+    from netnoise.engine.gramian import LowRankUnsuitable, lowrank_model
+    from netnoise.engine.integrate import log_grid_intervals
+
+    options, system = problem.options, problem.system
+    if not options.lowrank or options.method == "dense" or system.size <= max(options.exact_limit, options.dense_limit):
+        return None
+    if log_grid_intervals(max(low, high * 1e-9), high, problem.settings.points_per_decade) < _MODEL_MIN_POINTS:
+        return None
+    columns, density = _columns(problem, dense=False)
+    try:
+        _, model = lowrank_model(system.G, system.C, problem.selector, columns, density, options.lowrank_tol)
+    except LowRankUnsuitable:
+        return None
+    return _adopt_model(problem, model, low, high)
 
 
 def _quadrature_totals(problem: _Problem, refused: str = "") -> _InfiniteTotals:

@@ -57,6 +57,7 @@ __all__ = [
     "lowrank_totals",
     "lowrank_model",
     "reduced_band_totals",
+    "model_error",
 ]
 
 _MOMENTS = 2  # solves per factorisation: z(σ) and the next moment (G + σC)⁻ᵀ Cᵀ z(σ)
@@ -492,6 +493,20 @@ class ReducedBand:
     totals: LowRankTotals
 
 
+def model_error(reduced: np.ndarray, full: np.ndarray, density: np.ndarray) -> float:
+    """The largest difference between the reduced and the full circuit's densities, any column,
+    relative to the full total density at its frequency: ``reduced``, ``full`` (K, F) power
+    transfers |H_k|², ``density`` (K,) one-sided densities, or (K, F) at each frequency."""
+    weighted = np.asarray(density, dtype=float)
+    weighted = weighted.ravel()[:, None] if weighted.ndim < 2 else weighted  # (K,) or per frequency (K, F)
+    full, reduced = full * weighted, reduced * weighted
+    total = full.sum(axis=0)
+    seen = total > 0
+    if not seen.any():
+        return 0.0
+    return float(np.max(np.max(np.abs(reduced - full), axis=0)[seen] / total[seen]))
+
+
 def reduced_band_totals(
     G,
     C,
@@ -535,16 +550,13 @@ def reduced_band_totals(
     G, C = sp.csc_matrix(G, dtype=float), sp.csc_matrix(C, dtype=float)
     B = sp.csc_matrix(columns, dtype=float) if sp.issparse(columns) else np.asarray(columns, dtype=float)
     c = np.asarray(selector, dtype=float).ravel()
-    reduced = reduced_model.power(checked) * S[:, None]
-    error = 0.0
+    full = np.empty((S.size, checked.size))
     for i, f in enumerate(checked):
         lu = spla.splu((G + 2j * math.pi * f * C).tocsc(), permc_spec="MMD_AT_PLUS_A")
         z = lu.solve(c.astype(complex), trans="T")
         h = np.asarray(B.T @ z).ravel()
-        full = (h.real**2 + h.imag**2) * S
-        total = float(full.sum())
-        if total > 0:
-            error = max(error, float(np.max(np.abs(reduced[:, i] - full))) / total)
+        full[:, i] = h.real**2 + h.imag**2
+    error = model_error(reduced_model.power(checked), full, S)
     if error > max_error:
         raise LowRankUnsuitable(
             f"the reduced model's densities differ from the full circuit's by {error:.1e} of the total "

@@ -20,7 +20,7 @@ JSON shape (fixed keys; more may be added, none removed)::
                   "cumulative_rms_V",
                   "input_referred_density_per_rtHz"},  # last one only with an input source
      "notes": [{"code", "text", "data"}, ...], "integration_rel_error",
-     "total_method": "exact-qz"|"exact-symmetric"|"low-rank"|"quadrature",   # how the totals were found
+     "total_method": "exact-qz"|"exact-symmetric"|"low-rank"|"quadrature"|"reduced-model",   # how the totals were found
      "total_tolerance": float,                 # their stated relative error
      "noise_figure_dB": float|null,            # null without a source resistor
      "noise_figure_spectrum_dB": [float|null]|null,   # null entry: no signal gain there

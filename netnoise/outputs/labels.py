@@ -20,6 +20,7 @@ _TOTAL_METHOD_WORDS = {
     "exact-qz": "exact state-space solution (QZ)",
     "low-rank": "low-rank Gramian",
     "quadrature": "numerical integration",
+    "reduced-model": "numerical integration of a checked reduced model",
 }
 
 

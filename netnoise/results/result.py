@@ -25,8 +25,9 @@ from netnoise.results.notes import Note, as_note
 __all__ = ["Contribution", "NoiseResult", "SourceBudget", "TOTAL_METHODS"]
 
 #: How a result's totals were found: exact by the state space (QZ), exact by one symmetric
-#: eigendecomposition, by a low-rank Gramian, or by numerical integration.
-TOTAL_METHODS = ("exact-qz", "exact-symmetric", "low-rank", "quadrature")
+#: eigendecomposition, by a low-rank Gramian, by numerical integration, or by numerical
+#: integration of a reduced model checked against the full circuit.
+TOTAL_METHODS = ("exact-qz", "exact-symmetric", "low-rank", "quadrature", "reduced-model")
 
 
 def _frozen(array, dtype=float) -> np.ndarray:
@@ -116,7 +117,8 @@ class NoiseResult:
     total_method : how ``source_variance`` was found, one of :data:`TOTAL_METHODS`
         (a finite band: "quadrature").
     total_tolerance : the stated relative error of the totals: the rounding level of an exact
-        method, the estimate of the low-rank or numerical one.
+        method, the estimate of the low-rank or numerical one (for a reduced model, the
+        integrator's estimate plus the model's largest checked difference).
     notes : :class:`~netnoise.results.notes.Note` remarks (a code, its data and a
         sentence: defaults chosen, warnings), in order; plain strings are taken as notes.
     source_elements : (K,) the element each source belongs to (an amplifier
