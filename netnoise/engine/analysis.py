@@ -1047,20 +1047,27 @@ def _adopt_model(problem: _Problem, model: Any, low: float, high: float, first: 
 
 
 def _band_model(problem: _Problem, low: float, high: float) -> Note | None:
-    """For a large circuit over a finite band of many grid points: a reduced model of its
+    """For a large circuit on the sparse path over a finite band of many grid points: a reduced model of its
     transfers (:func:`netnoise.engine.gramian.lowrank_model`) adopted in place of a sparse solve
     per frequency (:func:`_adopt_model`); None where it does not pay or does not apply."""
     from netnoise.engine.gramian import LowRankUnsuitable, lowrank_model
     from netnoise.engine.integrate import log_grid_intervals
 
+    from netnoise.engine.transfer import solver_for
+
     options, system = problem.options, problem.system
-    if not options.lowrank or options.method == "dense" or system.size <= max(options.exact_limit, options.dense_limit):
+    if not options.lowrank or system.size <= options.exact_limit:
         return None
-    if log_grid_intervals(max(low, high * 1e-9), high, problem.settings.points_per_decade) < _MODEL_MIN_POINTS:
+    if solver_for(system, options).method != "sparse":  # dense and banded solves cost less than a model
+        return None
+    points = log_grid_intervals(max(low, high * 1e-9), high, problem.settings.points_per_decade)
+    if points < _MODEL_MIN_POINTS:
         return None
     columns, density = _columns(problem, dense=False)
-    try:
-        _, model = lowrank_model(system.G, system.C, problem.selector, columns, density, options.lowrank_tol)
+    try:  # a basis of at most half the grid's size: a model that needs more would not pay
+        _, model = lowrank_model(
+            system.G, system.C, problem.selector, columns, density, options.lowrank_tol, max_rank=points // 2
+        )
     except LowRankUnsuitable:
         return None
     return _adopt_model(problem, model, low, high)
