@@ -1052,7 +1052,6 @@ def _band_model(problem: _Problem, low: float, high: float) -> Note | None:
     per frequency (:func:`_adopt_model`); None where it does not pay or does not apply."""
     from netnoise.engine.gramian import LowRankUnsuitable, lowrank_model
     from netnoise.engine.integrate import log_grid_intervals
-
     from netnoise.engine.transfer import solver_for
 
     options, system = problem.options, problem.system
