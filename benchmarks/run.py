@@ -362,7 +362,9 @@ def wideband(n_check: int, n_large: int) -> dict:
     t_small = time.perf_counter() - t
     big = netnoise.parse_netlist(gen.rc_ladder(n_large, source=False))
     t = time.perf_counter()
-    netnoise.analyze(big, output=f"n{n_large}", band=(0, math.inf), options=SolverOptions(symmetric_limit=0))
+    netnoise.analyze(
+        big, output=f"n{n_large}", band=(0, math.inf), options=SolverOptions(symmetric_limit=0, lowrank=False)
+    )
     t_large = time.perf_counter() - t
     v_e, v_a = np.asarray(exact.source_variance), np.asarray(approx.source_variance)
     return dict(
@@ -437,7 +439,7 @@ def cores(nx: int, ny: int, repeat: int = 3) -> dict:
             for jobs in (1, 2):  # interleaved: both see the same load
                 solved[0] = 0
                 t, c = time.perf_counter(), time.process_time()
-                results[jobs] = netnoise.analyze(circuit, band=(1e3, 1e10), options=SolverOptions(jobs=jobs))
+                results[jobs] = netnoise.analyze(circuit, band=(1e3, 1e10), options=SolverOptions(jobs=jobs, lowrank=False))
                 runs[jobs].append((time.perf_counter() - t, time.process_time() - c))
             load.append(os.getloadavg()[0])
         frequencies = solved[0]  # what one analysis solved
@@ -451,7 +453,7 @@ def cores(nx: int, ny: int, repeat: int = 3) -> dict:
                 analysis._Problem.remembering = lambda self, keep_rows=True: contextlib.nullcontext()
             solved[0] = 0
             t = time.perf_counter()
-            r = netnoise.analyze(circuit, band=(0.0, float("inf")), options=SolverOptions(jobs=1))
+            r = netnoise.analyze(circuit, band=(0.0, float("inf")), options=SolverOptions(jobs=1, lowrank=False))
             wide[label] = (solved[0], time.perf_counter() - t, r.source_variance)
         wide_same = bool(np.array_equal(wide["memo"][2], wide["none"][2]))
         wide = {{label: value[:2] for label, value in wide.items()}}
@@ -479,7 +481,7 @@ def cores(nx: int, ny: int, repeat: int = 3) -> dict:
             return Timed(lu)
         spla.splu = timed_splu
         t = time.perf_counter()
-        netnoise.analyze(circuit, band=(1e3, 1e10), options=SolverOptions(jobs=1))
+        netnoise.analyze(circuit, band=(1e3, 1e10), options=SolverOptions(jobs=1, lowrank=False))
         share = inside[0] / (time.perf_counter() - t)
         spla.splu = plain_splu
         G, C = gen.mesh_matrices({nx}, {ny})

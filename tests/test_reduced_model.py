@@ -12,7 +12,7 @@ import pytest
 from scipy import constants
 
 import netnoise
-from netnoise.engine import analysis
+from netnoise.engine import reduced
 from netnoise.engine.options import SolverOptions
 
 T27 = 300.15
@@ -76,7 +76,7 @@ def test_a_narrow_band_or_a_small_circuit_keeps_the_full_solves(circuit):
 
 
 def test_a_model_that_disagrees_is_not_used(circuit, monkeypatch):
-    monkeypatch.setattr(analysis, "_MODEL_MAX_ERROR", 0.0)  # no model can pass: the full solves stay
+    monkeypatch.setattr(reduced, "MODEL_MAX_ERROR", 0.0)  # no model can pass: the full solves stay
     band = (1e3, 1e10)
     kept = netnoise.analyze(circuit, output=OUT, band=band, options=LARGE)
     full = netnoise.analyze(circuit, output=OUT, band=band, options=FULL)

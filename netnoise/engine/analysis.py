@@ -10,7 +10,7 @@ sources, and integrates the output density over the band:
 * band from 0 Hz to infinity: the exact total, by one symmetric eigendecomposition for
   symmetric G and C (:mod:`netnoise.engine.symmetric`), else from the state space by QZ
   (:mod:`netnoise.engine.total_variance`), else (large circuits) by quadrature
-  (:mod:`netnoise.engine.wideband`); :func:`_infinite_band_totals` says which;
+  (:mod:`netnoise.engine.wideband`); :func:`totals_to_infinity` says which;
 * band from low > 0 to infinity: integrated itself, adaptively up to 100x the highest pole and
   in u = 1/f above (never as the exact total minus the stretch below low, which cancels).
 
@@ -33,6 +33,7 @@ from netnoise import circuit as ck
 from netnoise.circuit.topology import check_element_values, check_topology
 from netnoise.constants import DEFAULT_TEMPERATURE_C, MAX_TEMPERATURE_C, T0_KELVIN, ZERO_CELSIUS_K, canonical_node
 from netnoise.engformat import format_quantity
+from netnoise.engine.infinite import totals_to_infinity
 from netnoise.engine.integrate import integrate_band
 from netnoise.engine.memo import TransferMemo
 from netnoise.engine.mna import MnaSystem, assemble
@@ -40,20 +41,17 @@ from netnoise.engine.noise_sources import NoiseSources, collect_noise_sources
 from netnoise.engine.operating_point import NonlinearSolution, biased
 from netnoise.engine.options import SolverOptions
 from netnoise.engine.rails import rail_notes
+from netnoise.engine.reduced import adopt_model, band_model
 from netnoise.engine.resources import require_memory
 from netnoise.engine.symmetric import (
     NotSymmetricDefinite,
     SymmetricPencil,
     symmetric_pencil,
     symmetric_rates,
-    symmetric_totals,
 )
 from netnoise.engine.total_variance import (
-    QZ_TOLERANCE_MARGIN,
     UnstableCircuit,
     finite_scaled_eigenvalues,
-    infinite_band_totals,
-    rounding_tolerance,
     unstable_pole,
 )
 from netnoise.errors import CircuitError, UsageError
@@ -229,7 +227,7 @@ class _Problem:
             self.input_vector, self.input_unit = self.system.excitation_vector(settings.input_source)
         self._memo: TransferMemo | None = None  # set for the length of one analysis (remembering)
         # a reduced model (netnoise.engine.gramian.ReducedModel) standing in for the full solves
-        # in densities(), once checked against them (_adopt_model)
+        # in densities(), once checked against them (adopt_model)
         self.model: Any = None
 
     @contextlib.contextmanager
@@ -621,14 +619,14 @@ def _analyze(problem: _Problem, source_resistor: str | None, gain_at_Hz: float |
     if math.isinf(high):
         if problem.system.size > problem.options.exact_limit:  # the exact method below checks the smaller ones
             problem.check_stable(notes)
-        infinite = _infinite_band_totals(problem)  # white parts, from 0 Hz to infinity
+        infinite = totals_to_infinity(problem)  # white parts, from 0 Hz to infinity
         poles = _positive(infinite.poles_Hz)
         method, total_method, total_tolerance = infinite.note, infinite.method, infinite.tolerance
         top = _decade_ceil(poles.max() * 100) if poles.size else 1e9
         start = low if low > 0 else (_decade_floor(poles.min() / 100) if poles.size else top * 1e-9)
         top = max(top, start * 1e3)
         model = problem.__dict__.pop("_lowrank_model", None)  # the low-rank totals' reduced model
-        model_note = _adopt_model(problem, model, low, top, start) if model is not None else None
+        model_note = adopt_model(problem, model, low, top, start) if model is not None else None
         try:
             shown = integrate_band(
                 lambda f: problem.densities(f, "full", extra_colored=colored),
@@ -676,7 +674,7 @@ def _analyze(problem: _Problem, source_resistor: str | None, gain_at_Hz: float |
     else:
         problem.check_stable(notes)
         poles = _positive(problem.poles_Hz()) if low == 0.0 else None
-        model_note = _band_model(problem, low, high)  # large circuits, many frequencies
+        model_note = band_model(problem, low, high)  # large circuits, many frequencies
         try:
             shown = integrate_band(
                 problem.densities,
@@ -883,241 +881,6 @@ def _white_tail(problem: _Problem, top: float) -> tuple[np.ndarray, float]:
         if total > 0:
             error = max(error, float(np.sum(np.abs(fine[rows] - coarse[rows]))) / total)
     return fine, error
-
-
-@dataclass(frozen=True, eq=False)
-class _InfiniteTotals:
-    """How the totals from 0 Hz to infinite bandwidth were found.  ``variance`` (K[+1],): every
-    source's white-noise variance (V²), then ∫|H|² df of the input when there is one;
-    ``poles_Hz``: the finite pole magnitudes (Hz), or None; ``method``: one of
-    :data:`~netnoise.results.result.TOTAL_METHODS`; ``tolerance``: the stated relative error of
-    the totals; ``note``: a sentence for the notes."""
-
-    variance: np.ndarray
-    poles_Hz: np.ndarray | None
-    method: str
-    tolerance: float
-    note: str
-
-
-def _infinite_band_totals(problem: _Problem) -> _InfiniteTotals:
-    """The white-noise totals from 0 Hz to infinity, by the first method that applies: one
-    symmetric eigendecomposition (symmetric G and C, up to ``symmetric_limit`` unknowns), the
-    state space by QZ (up to ``exact_limit``), a low-rank Gramian (:mod:`netnoise.engine.gramian`,
-    unless ``lowrank`` is off), else quadrature with an analytic tail (:mod:`netnoise.wideband`).  A method that cannot take the circuit returns None and the next
-    one is tried.  CircuitError when a source's white noise reaches the output unfiltered."""
-    found = None
-    if problem.symmetric() is not None:
-        found = _symmetric_totals(problem)
-    if found is None and problem.system.size <= problem.options.exact_limit:
-        found = _qz_totals(problem)
-    refused = ""
-    if found is None and problem.options.lowrank:
-        found, refused = _lowrank_totals(problem)
-    if found is None:
-        found = _quadrature_totals(problem, refused)
-    _refuse_unbounded(problem, found.variance)
-    return found
-
-
-def _columns(problem: _Problem, dense: bool) -> tuple[Any, np.ndarray]:
-    """The injection columns (sparse, or dense with ``dense``) with the input's vector last, and
-    their one-sided white densities (1 for the input)."""
-    import scipy.sparse as sp
-
-    columns = problem.sources.injection
-    density = np.asarray(problem.sources.white_density)
-    if problem.input_vector is not None:
-        columns = sp.hstack([columns, sp.csc_matrix(problem.input_vector[:, None])], format="csc")
-        density = np.append(density, 1.0)
-    return (columns.toarray() if dense else columns), density
-
-
-def _white_only(problem: _Problem) -> str:
-    return " for white noise" if problem.sources.colored.any() else ""
-
-
-def _symmetric_totals(problem: _Problem) -> _InfiniteTotals | None:
-    """Exact, by :func:`netnoise.engine.symmetric.symmetric_totals`; None when the method refuses
-    (a source reaching the output unfiltered, a rate not clearly positive): the QZ path then
-    reports those by name."""
-    pencil = problem.symmetric()
-    assert pencil is not None
-    columns, density = _columns(problem, dense=False)
-    try:
-        exact = symmetric_totals(pencil, problem.selector, columns, density)
-    except NotSymmetricDefinite:
-        return None
-    problem.__dict__["_rates"] = 2 * math.pi * exact.poles_Hz  # for poles_Hz, check_stable
-    return _InfiniteTotals(
-        exact.variance,
-        exact.poles_Hz,
-        "exact-symmetric",
-        exact.tolerance,
-        "the total to infinite bandwidth is exact" + _white_only(problem) + " (one symmetric eigendecomposition)",
-    )
-
-
-def _qz_totals(problem: _Problem) -> _InfiniteTotals:
-    """Exact, from the state space by QZ and a Lyapunov solve (:mod:`netnoise.total_variance`);
-    an unstable circuit refused with the elements that can supply gain named."""
-    system = problem.system
-    columns, density = _columns(problem, dense=True)
-    try:
-        exact = infinite_band_totals(system.G.toarray(), system.C.toarray(), problem.selector, columns, density)
-    except UnstableCircuit as found:
-        if found.lossless:
-            raise
-        problem.refuse_unstable(found)
-    return _InfiniteTotals(
-        exact.variance,
-        exact.poles_Hz,
-        "exact-qz",
-        rounding_tolerance(exact.poles_Hz, QZ_TOLERANCE_MARGIN),
-        "the total to infinite bandwidth is exact" + _white_only(problem) + " (the state space, by QZ)",
-    )
-
-
-def _lowrank_totals(problem: _Problem) -> tuple[_InfiniteTotals | None, str]:
-    """Every source's total from a low-rank Gramian (:func:`netnoise.engine.gramian.lowrank_totals`),
-    stated to ``lowrank_tol`` of the total; (None, why) when the circuit falls outside the method."""
-    from netnoise.engine.gramian import LowRankUnsuitable, lowrank_model
-
-    system, tol = problem.system, problem.options.lowrank_tol
-    columns, density = _columns(problem, dense=False)
-    try:
-        low, model = lowrank_model(system.G, system.C, problem.selector, columns, density, tol)
-    except LowRankUnsuitable as why:
-        return None, str(why)
-    problem.__dict__["_lowrank_model"] = model  # the spectrum shown may come from it (_adopt_model)
-    note = (
-        f"circuit of {system.size} unknowns, beyond the exact methods: the total to infinite bandwidth is "
-        f"found from a low-rank Gramian (a reduced model of {low.rank} states from {low.factorizations} "
-        f"factorisations), each source to {tol:.0e} of the total"
-    )
-    return _InfiniteTotals(low.variance, low.poles_Hz, "low-rank", tol, note), ""
-
-
-# a reduced model stands in for the full solves only where it differs from them by at most this
-# much of the total density at every checked frequency (the 1e-6 of the integrator's own rtol)
-_MODEL_MAX_ERROR = 1e-6
-_MODEL_CHECKS = 5  # full solves that check it, log-spaced over the band
-# a finite band's grid must have at least this many points before a model is built for it: the
-# model costs about 30 real factorisations (benchmarks/README.md, "Low-rank Gramian")
-_MODEL_MIN_POINTS = 100
-
-
-def _adopt_model(problem: _Problem, model: Any, low: float, high: float, first: float | None = None) -> Note | None:
-    """Let ``model`` (a :class:`~netnoise.engine.gramian.ReducedModel`) stand in for the full
-    solves of ``problem`` over [low, high] Hz once it agrees with them at :data:`_MODEL_CHECKS`
-    frequencies log-spaced from ``first`` (default: low, or 1e-9·high) to high, and at 0 Hz when
-    low is 0, to :data:`_MODEL_MAX_ERROR` of the total density; a note saying so (its ``error``
-    in the data), or None, the full solves kept, when it does not agree."""
-    from netnoise.engine.gramian import model_error
-    from netnoise.engine.transfer import transfer_power
-
-    k = len(problem.sources)
-    f = np.geomspace(first or max(low, high * 1e-9), high, _MODEL_CHECKS)
-    f = np.concatenate([[0.0], f]) if low == 0.0 else f
-    full = np.empty((k, f.size))
-    _, signal = transfer_power(
-        problem.system,
-        problem.selector,
-        problem.sources.injection,
-        problem.input_vector,
-        f,
-        power_out=full,
-        options=problem.options,
-    )
-    reduced = model.power(f)
-    error = model_error(reduced[:k], full, problem.sources.density(f, "full"))
-    if signal is not None:  # the signal path judged on its own scale
-        error = max(error, model_error(reduced[k:], signal[None, :], np.ones(1)))
-    if not error <= _MODEL_MAX_ERROR:
-        return None
-    problem.model = model
-    rank = model.g.shape[0]
-    return Note(
-        "reduced-model",
-        f"densities from a reduced model of {rank} states, checked against the full circuit at "
-        f"{f.size} frequencies from {format_quantity(f[0], 'Hz')} to {format_quantity(f[-1], 'Hz')}: "
-        f"largest difference {error:.1e} of the total density",
-        {"states": rank, "error": error},
-    )
-
-
-def _band_model(problem: _Problem, low: float, high: float) -> Note | None:
-    """For a large circuit on the sparse path over a finite band of many grid points: a reduced model of its
-    transfers (:func:`netnoise.engine.gramian.lowrank_model`) adopted in place of a sparse solve
-    per frequency (:func:`_adopt_model`); None where it does not pay or does not apply."""
-    from netnoise.engine.gramian import LowRankUnsuitable, lowrank_model
-    from netnoise.engine.integrate import log_grid_intervals
-    from netnoise.engine.transfer import solver_for
-
-    options, system = problem.options, problem.system
-    if not options.lowrank or system.size <= options.exact_limit:
-        return None
-    if solver_for(system, options).method != "sparse":  # dense and banded solves cost less than a model
-        return None
-    points = log_grid_intervals(max(low, high * 1e-9), high, problem.settings.points_per_decade)
-    if points < _MODEL_MIN_POINTS:
-        return None
-    columns, density = _columns(problem, dense=False)
-    try:  # a basis of at most half the grid's size: a model that needs more would not pay
-        _, model = lowrank_model(
-            system.G, system.C, problem.selector, columns, density, options.lowrank_tol, max_rank=points // 2
-        )
-    except LowRankUnsuitable:
-        return None
-    return _adopt_model(problem, model, low, high)
-
-
-def _quadrature_totals(problem: _Problem, refused: str = "") -> _InfiniteTotals:
-    """Numerical integration up to 100x the estimated highest pole plus an analytic tail
-    (:func:`netnoise.wideband.wideband_totals`); its error estimate is the stated tolerance.
-    ``refused``: why the low-rank method did not take the circuit, said in the note."""
-    from netnoise.engine.wideband import wideband_totals
-
-    system = problem.system
-    k = len(problem.sources)
-    poles = problem.poles_Hz()
-    if poles is None:
-        raise CircuitError(
-            f"the total to infinite bandwidth of this circuit ({system.size} unknowns) cannot be "
-            "estimated: its pole range is not defined. Give a finite band with --band LOW HIGH"
-        )
-    wide = wideband_totals(
-        lambda f: problem.densities(f, "white"), problem.groups(), float(poles.min()), float(poles.max())
-    )
-    unbounded_rows = np.flatnonzero(wide.unbounded[:k])
-    variance = wide.values
-    if unbounded_rows.size:
-        variance = variance.copy()
-        variance[unbounded_rows] = np.inf
-    tolerance = max(wide.rel_error, 1e-2 * wide.tail_share)
-    note = (
-        f"circuit of {system.size} unknowns, beyond the exact methods (up to {problem.options.exact_limit} "
-        f"unknowns, {problem.options.symmetric_limit} for symmetric G and C): the total to "
-        f"infinite bandwidth is integrated numerically up to {format_quantity(wide.top_Hz, 'Hz')} "
-        f"(100x the estimated highest pole) plus an analytic tail ({100 * wide.tail_share:.2g} % of the "
-        f"total); estimated relative error {tolerance:.1e}"
-        + (f" (the low-rank method did not apply: {refused})" if refused else "")
-    )
-    return _InfiniteTotals(variance, poles, "quadrature", tolerance, note)
-
-
-def _refuse_unbounded(problem: _Problem, variance: np.ndarray) -> None:
-    """CircuitError naming the sources whose white noise reaches the output with no roll-off."""
-    k = len(problem.sources)
-    unbounded = [problem.sources.sources[i].name for i in np.flatnonzero(np.isinf(variance[:k]))]
-    if unbounded:
-        shown = ", ".join(unbounded[:5]) + (f" and {len(unbounded) - 5} more" if len(unbounded) > 5 else "")
-        raise CircuitError(
-            "the output noise integrated to infinite bandwidth is unbounded: the white noise of "
-            f"{shown} reaches the output with no roll-off (nothing limits the bandwidth). "
-            "Give a finite band (--band LOW HIGH, or a .noise card), or add the capacitance "
-            "that limits the real circuit's bandwidth"
-        )
 
 
 def _extreme_values(circuit: ck.Circuit, most: int = 3) -> str:
