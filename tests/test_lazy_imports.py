@@ -110,7 +110,7 @@ def test_a_small_circuit_loads_only_what_it_needs(tmp_path):
         from netnoise.cli import main
         status = main(["analyze", {str(netlist)!r}, "--json", {str(tmp_path / "r.json")!r}])
         heavy = ("scipy.linalg", "scipy.sparse.linalg", "scipy.sparse.csgraph", "scipy.integrate",
-                 "scipy.optimize", "threadpoolctl", "matplotlib")
+                 "scipy.optimize", "threadpoolctl", "matplotlib", "netnoise.engine.gramian")
         loaded = sorted(n for n in sys.modules if n in heavy or n.startswith(tuple(h + "." for h in heavy)))
         print("STATUS:", status, file=sys.stderr)
         print("LOADED:" + ",".join(loaded), file=sys.stderr)

@@ -71,16 +71,16 @@ def adopt_model(problem: Problem, model: Any, low: float, high: float, first: fl
 
 
 def band_model(problem: Problem, low: float, high: float) -> Note | None:
-    """For a large circuit on the sparse path over a finite band of many grid points: a reduced model of its
-    transfers (:func:`netnoise.engine.gramian.lowrank_model`) adopted in place of a sparse solve
+    """For a large circuit on the sparse path over a finite band of many grid points: a reduced
+    model of its transfers (:func:`netnoise.engine.gramian.lowrank_model`) adopted in place of a sparse solve
     per frequency (:func:`adopt_model`); None where it does not pay or does not apply."""
-    from netnoise.engine.gramian import LowRankUnsuitable, lowrank_model
-    from netnoise.engine.integrate import log_grid_intervals
-    from netnoise.engine.transfer import solver_for
-
     options, system = problem.options, problem.system
     if not options.lowrank or system.size <= options.exact_limit:
         return None
+    from netnoise.engine.gramian import LowRankUnsuitable, lowrank_model  # large circuits only
+    from netnoise.engine.integrate import log_grid_intervals
+    from netnoise.engine.transfer import solver_for
+
     if solver_for(system, options).method != "sparse":  # dense and banded solves cost less than a model
         return None
     points = log_grid_intervals(max(low, high * 1e-9), high, problem.settings.points_per_decade)
