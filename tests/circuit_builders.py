@@ -86,3 +86,21 @@ def opamp(name, plus, minus, out, **model):
     from netnoise.circuit import OpAmp, OpAmpModel
 
     return OpAmp(name=name, nodes=(plus, minus, out), model=OpAmpModel(name=model.pop("model_name", "test"), **model))
+
+
+def rc_grid_lines(nx: int, ny: int, leak: str | None = None) -> list[str]:
+    """Netlist lines of an invented RC grid m{i}_{j}: uneven resistors between neighbours, a
+    grounded capacitor of one of five values at every node (and a resistor ``leak`` to ground
+    at every node when given); the tests add their own source, ground path and ``.end``."""
+    lines = []
+    k = 0
+    for i in range(nx):
+        for j in range(ny):
+            for di, dj in ((1, 0), (0, 1)):
+                if i + di < nx and j + dj < ny:
+                    k += 1
+                    lines.append(f"R{k} m{i}_{j} m{i + di}_{j + dj} {1000 + 37 * (k % 11)}")
+            lines.append(f"C{i}_{j} m{i}_{j} 0 {(1 + (i * ny + j) % 5) * 1e-13:g}")
+            if leak is not None:
+                lines.append(f"Rg{i}_{j} m{i}_{j} 0 {leak}")
+    return lines

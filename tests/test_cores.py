@@ -10,6 +10,7 @@ import math
 
 import numpy as np
 import pytest
+from circuit_builders import rc_grid_lines
 
 import netnoise
 from netnoise import cli
@@ -22,20 +23,8 @@ from netnoise.errors import UsageError
 def mesh(nx: int, ny: int, with_input: bool = True) -> str:
     """An invented RC grid (uneven resistors and capacitors), driven at one corner through
     a source resistor when ``with_input``; output at the opposite corner."""
-    lines = [f"grid {nx}x{ny}"]
-    k = 0
-    for i in range(nx):
-        for j in range(ny):
-            for di, dj in ((1, 0), (0, 1)):
-                if i + di < nx and j + dj < ny:
-                    k += 1
-                    lines.append(f"R{k} m{i}_{j} m{i + di}_{j + dj} {1000 + 37 * (k % 11)}")
-            lines.append(f"C{i}_{j} m{i}_{j} 0 {(1 + (i * ny + j) % 5) * 1e-13:g}")
-    lines.append("Rs in m0_0 50" if with_input else "Rg m0_0 0 1meg")
-    if with_input:
-        lines.append("Vin in 0 AC 1")
-    lines.append(".end")
-    return "\n".join(lines) + "\n"
+    ends = ["Rs in m0_0 50", "Vin in 0 AC 1"] if with_input else ["Rg m0_0 0 1meg"]
+    return "\n".join([f"grid {nx}x{ny}", *rc_grid_lines(nx, ny), *ends, ".end"]) + "\n"
 
 
 def ladder(sections: int) -> str:

@@ -9,6 +9,7 @@ import math
 
 import numpy as np
 import pytest
+from circuit_builders import rc_grid_lines
 from scipy import constants
 
 import netnoise
@@ -19,19 +20,9 @@ T27 = 300.15
 
 
 def mesh(nx: int, ny: int) -> str:
-    """An invented RC grid: resistors between neighbours, grounded capacitors of five values,
-    one resistor to ground at the first corner."""
-    lines = [f"mesh {nx}x{ny}"]
-    k = 0
-    for i in range(nx):
-        for j in range(ny):
-            for di, dj in ((1, 0), (0, 1)):
-                if i + di < nx and j + dj < ny:
-                    k += 1
-                    lines.append(f"R{k} m{i}_{j} m{i + di}_{j + dj} {1000 + 37 * (k % 11)}")
-            lines.append(f"C{i}_{j} m{i}_{j} 0 {(1 + (i * ny + j) % 5) * 1e-13:g}")
-    lines += ["Rg m0_0 0 1meg", ".end"]
-    return "\n".join(lines) + "\n"
+    """An invented RC grid with grounded capacitors of five values (circuit_builders), one
+    resistor to ground at the first corner."""
+    return "\n".join([f"mesh {nx}x{ny}", *rc_grid_lines(nx, ny), "Rg m0_0 0 1meg", ".end"]) + "\n"
 
 
 NX = NY = 30  # 900 unknowns: above the QZ limit (600); the symmetric limit is set to 0 below

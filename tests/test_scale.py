@@ -9,6 +9,7 @@ import math
 
 import numpy as np
 import pytest
+from circuit_builders import rc_grid_lines
 
 import netnoise
 from netnoise.engine import resources, transfer
@@ -27,16 +28,7 @@ def ladder(sections: int, r: str = "100", c: str = "1p") -> str:
 
 
 def mesh(nx: int, ny: int) -> str:
-    lines = [f"mesh {nx}x{ny}"]
-    k = 0
-    for i in range(nx):
-        for j in range(ny):
-            for di, dj in ((1, 0), (0, 1)):
-                if i + di < nx and j + dj < ny:
-                    k += 1
-                    lines.append(f"R{k} m{i}_{j} m{i + di}_{j + dj} {1000 + 37 * (k % 11)}")
-            lines.append(f"C{i}_{j} m{i}_{j} 0 {(1 + (i * ny + j) % 5) * 1e-13:g}")
-    lines += ["Cf m0_0 m1_1 1p", "Rg m0_0 0 1meg", ".end"]
+    lines = [f"mesh {nx}x{ny}", *rc_grid_lines(nx, ny), "Cf m0_0 m1_1 1p", "Rg m0_0 0 1meg", ".end"]
     return "\n".join(lines) + "\n"
 
 

@@ -8,6 +8,7 @@ from __future__ import annotations
 
 import numpy as np
 import pytest
+from circuit_builders import rc_grid_lines
 
 import netnoise
 from netnoise.engine import transfer
@@ -34,17 +35,8 @@ def ladder(sections: int) -> str:
 
 
 def mesh(nx: int, ny: int) -> str:
-    lines = [f"mesh {nx}x{ny}"]
-    k = 0
-    for i in range(nx):
-        for j in range(ny):
-            for di, dj in ((1, 0), (0, 1)):
-                if i + di < nx and j + dj < ny:
-                    k += 1
-                    lines.append(f"R{k} m{i}_{j} m{i + di}_{j + dj} {1000 + 37 * (k % 11)}")
-            lines.append(f"C{i}_{j} m{i}_{j} 0 {(1 + (i * ny + j) % 5) * 1e-13:g}")
-            lines.append(f"Rg{i}_{j} m{i}_{j} 0 100k")  # a leak at every node keeps it well conditioned
-    return "\n".join(lines + [".end"]) + "\n"
+    # a leak at every node keeps it well conditioned
+    return "\n".join([f"mesh {nx}x{ny}", *rc_grid_lines(nx, ny, leak="100k"), ".end"]) + "\n"
 
 
 def coupled(nodes: int) -> str:
