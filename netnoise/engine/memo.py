@@ -47,23 +47,11 @@ class TransferMemo:
 
     def unknown(self, frequency_Hz: np.ndarray) -> np.ndarray:
         """The distinct frequencies of ``frequency_Hz`` with no per-source row kept, in order of first appearance."""
-        seen: set[float] = set()
-        out = []
-        for f in frequency_Hz.tolist():
-            if f not in self._column and f not in seen:
-                seen.add(f)
-                out.append(f)
-        return np.array(out, dtype=float)
+        return _missing(frequency_Hz, self._column)
 
     def unknown_signal(self, frequency_Hz: np.ndarray) -> np.ndarray:
         """The distinct frequencies of ``frequency_Hz`` with no signal value kept."""
-        seen: set[float] = set()
-        out = []
-        for f in frequency_Hz.tolist():
-            if f not in self._signal and f not in seen:
-                seen.add(f)
-                out.append(f)
-        return np.array(out, dtype=float)
+        return _missing(frequency_Hz, self._signal)
 
     def keep(self, frequency_Hz: np.ndarray, power: np.ndarray | None, signal: np.ndarray | None) -> None:
         """Keep the solves at ``frequency_Hz`` (M,): ``power`` (K, M) (None: the signal alone
@@ -98,3 +86,8 @@ class TransferMemo:
     def signal(self, frequency_Hz: np.ndarray) -> np.ndarray:
         """|H|² of the input at every frequency of ``frequency_Hz`` (all kept)."""
         return np.array([self._signal[f] for f in frequency_Hz.tolist()], dtype=float)
+
+
+def _missing(frequency_Hz: np.ndarray, known) -> np.ndarray:
+    """The distinct frequencies of ``frequency_Hz`` not in ``known``, in order of first appearance."""
+    return np.array([f for f in dict.fromkeys(frequency_Hz.tolist()) if f not in known], dtype=float)
