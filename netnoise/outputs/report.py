@@ -29,8 +29,9 @@ a :class:`~netnoise.errors.CircuitError` before anything is formatted
 from __future__ import annotations
 
 import dataclasses
+import itertools
 import math
-from collections.abc import Mapping
+from collections.abc import Mapping, Sequence
 from typing import TYPE_CHECKING, Any
 
 from netnoise.constants import celsius
@@ -55,7 +56,7 @@ from netnoise.outputs.text_layout import hz as _hz
 from netnoise.outputs.text_layout import output_text as _output_text
 from netnoise.outputs.text_layout import percent as _percent
 from netnoise.outputs.text_layout import section as _section
-from netnoise.results.result import NoiseResult
+from netnoise.results.result import Contribution, NoiseResult
 from netnoise.results.validation import check_finite, non_finite_fields
 
 if TYPE_CHECKING:  # pragma: no cover
@@ -184,7 +185,8 @@ def _spot_densities(result: NoiseResult) -> list[str]:
     return lines
 
 
-def _lump(rest: list[_Row]) -> _Row:
+def _lump(rest: Sequence[Contribution]) -> _Row:
+    """The rows below the shown ones, as one."""
     mechanisms = {r.mechanism for r in rest}
     return _Row(
         f"({len(rest)} others)",
@@ -228,36 +230,32 @@ def _element_value(result: NoiseResult, element: str) -> str:
     return heads.pop() if len(heads) == 1 else ""
 
 
-def _rows_of(result: NoiseResult, group_by: str, shown: int | None = None) -> tuple[_Row, ...]:
-    """The budget's rows; by source, only the first ``shown`` carry their value text (the
-    rest are lumped into one row, whose value is blank: 20,000 texts cost ~0.1 s)."""
+def _rows_of(result: NoiseResult, group_by: str, shown: int | None = None) -> list[_Row]:
+    """The budget's first ``shown`` rows (all of them when None) as printed, value texts
+    included: a budget of 200,000 sources prints a dozen rows, and its texts cost ~1 s."""
+    rows = result.grouped(group_by)[:shown]
     if group_by == "source":
-        rows = result.contributions
-        cut = len(rows) if shown is None else shown
-        return tuple(
-            _Row(c.label, c.mechanism, row_value_text(c) if i < cut else "", c.rms_V, c.share, c.cumulative_share)
-            for i, c in enumerate(rows)
-        )
-    rows = result.grouped(group_by)
+        return [_Row(c.label, c.mechanism, row_value_text(c), c.rms_V, c.share, c.cumulative_share) for c in rows]
     if group_by == "element":
-        return tuple(
+        return [
             _Row(c.label, c.mechanism, _element_value(result, c.label), c.rms_V, c.share, c.cumulative_share)
             for c in rows
-        )
-    return tuple(
+        ]
+    return [
         _Row(
             c.label, c.mechanism, f"{c.count} source{'s' if c.count > 1 else ''}", c.rms_V, c.share, c.cumulative_share
         )
         for c in rows
-    )
+    ]
 
 
 def _budget_rows(result: NoiseResult, top: int | None, group_by: str = "source") -> list[tuple[str, _Row]]:
-    rows = list(_rows_of(result, group_by, top))
-    ranked = [(str(i + 1), c) for i, c in enumerate(rows)]
-    if top is not None and len(rows) > top:
-        ranked = ranked[: top - 1] if top > 1 else []
-        ranked.append(("…", _lump(rows[len(ranked) :])))
+    everything = result.grouped(group_by)
+    if top is None or len(everything) <= top:
+        return [(str(i + 1), c) for i, c in enumerate(_rows_of(result, group_by))]
+    kept = max(top - 1, 0)
+    ranked = [(str(i + 1), c) for i, c in enumerate(_rows_of(result, group_by, kept))]
+    ranked.append(("…", _lump(everything[kept:])))
     return ranked
 
 
@@ -316,7 +314,10 @@ def _headline(result: NoiseResult, group_by: str = "source") -> list[str]:
     if not rows or result.total_variance <= 0.0:
         return ["", "No noise source contributes to this output."]
     lead = rows[0]
-    tied = [c for c in rows if math.isclose(c.share, lead.share, rel_tol=1e-6)]
+    # largest first, so the ties are the rows from the top down to the first that differs
+    tied = list(
+        itertools.takewhile(lambda c: math.isclose(c.share, lead.share, rel_tol=1e-6), result.grouped(group_by))
+    )
     kind = {"source": "sources", "element": "elements", "mechanism": "mechanisms"}[group_by]
     if len(tied) > 1:
         names = name_list([c.label for c in tied])
