@@ -72,7 +72,7 @@ import numpy as np
 
 from netnoise.constants import celsius
 from netnoise.errors import CircuitError, UsageError
-from netnoise.outputs.labels import row_value_text
+from netnoise.outputs.labels import row_value_texts
 from netnoise.outputs.merit_text import enob_bits
 from netnoise.results.result import NoiseResult
 from netnoise.results.validation import check_finite
@@ -296,12 +296,12 @@ def result_to_dict(
                 "mechanism": c.mechanism,
                 "value": c.value,
                 "unit": c.unit or None,
-                "value_text": row_value_text(c),
+                "value_text": text,
                 "rms_V": c.rms_V,
                 "share": c.share,
                 "cumulative_share": c.cumulative_share,
             }
-            for c in result.contributions
+            for c, text in zip(result.contributions, row_value_texts(result.contributions))
         ],
         "spectrum": spectrum,
         "notes": [{"code": n.code, "text": n.text, "data": _note_data(n.data)} for n in result.notes],

@@ -7,7 +7,7 @@
 from __future__ import annotations
 
 import math
-from collections.abc import Mapping
+from collections.abc import Iterable, Mapping
 
 from netnoise.engformat import format_quantity
 from netnoise.noise.mechanisms import SHOT
@@ -45,6 +45,23 @@ def value_text(
 def row_value_text(row) -> str:
     """The value column of a budget row (a :class:`~netnoise.results.result.Contribution`)."""
     return value_text(row.value, row.unit, row.mechanism, row.details)
+
+
+def row_value_texts(rows: Iterable) -> list[str]:
+    """:func:`row_value_text` of every row; rows without details that share a value, unit and
+    mechanism share one text (a mesh's 200,000 resistors have three values: ~0.7 s saved)."""
+    texts: dict[tuple, str] = {}
+    out = []
+    for row in rows:
+        if row.details:
+            out.append(row_value_text(row))
+            continue
+        key = (row.value, row.unit, row.mechanism)
+        text = texts.get(key)
+        if text is None:
+            text = texts[key] = row_value_text(row)
+        out.append(text)
+    return out
 
 
 def total_method_text(method: str, tolerance: float) -> str:
