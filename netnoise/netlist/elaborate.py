@@ -68,6 +68,7 @@ from netnoise.netlist.statements import (
     OptionsCard,
     ParamCard,
     ParsedFile,
+    Passive,
     ReaderNotice,
     SetAsideCard,
     Statement,
@@ -90,6 +91,8 @@ __all__ = [
     "elaborate",
     "flat_element_counts",
 ]
+
+_name_key = c.name_key
 
 # Subcircuit instances nested deeper than this are refused (the expansion
 # recurses; real designs nest a handful of levels).
@@ -151,15 +154,21 @@ class _Scope:
         key = word.text.lower()
         if key in GROUND_ALIASES:
             return c.GROUND
-        if key in self.pin_map:
-            return self.pin_map[key]
+        pin_map = self.pin_map
+        if key in pin_map:
+            return pin_map[key]
+        prefix = self.node_prefix
+        full = prefix + key
+        names = self.names
         # compared lower case, shown as first written (X1.Mid for x1.mid)
-        self.names.spelled.setdefault(self.node_prefix + key, self.element_prefix + word.text)
-        if self.node_prefix:
-            self.names.internal.add(self.node_prefix + key)
+        spelled = names.spelled
+        if full not in spelled:
+            spelled[full] = self.element_prefix + word.text
+        if prefix:
+            names.internal.add(full)
         elif "." in key:
-            self.names.top_dotted.setdefault(key, word)
-        return self.node_prefix + key
+            names.top_dotted.setdefault(key, word)
+        return full
 
 
 @dataclass
@@ -198,18 +207,19 @@ class _BuildContext:
     """What an element kind sees while it builds itself (see
     :class:`netnoise.circuit.elements.base.BuildContext`)."""
 
+    __slots__ = ("engine", "scope", "name", "loc", "node", "_refs")
+
     def __init__(self, engine: _Elaborator, scope: _Scope, name: str, loc: SourceLocation) -> None:
         self.engine = engine
         self.scope = scope
         self.name = name
         self.loc = loc
+        # a node word -> its canonical node (the scope's own method: one call less an element end)
+        self.node: Callable[[Word], str] = scope.node
         self._refs: list[tuple[Word, str, type, str, str]] = []
 
     def number(self, value: Value) -> float:
         return self.engine.number(value, self.scope)
-
-    def node(self, word: Word) -> str:
-        return self.scope.node(word)
 
     def local_name(self, word: Word) -> str:
         return self.scope.element_prefix + word.text
@@ -390,7 +400,7 @@ class _Elaborator:
 
     # ---- elements
     def add(self, element: c.Element, loc: SourceLocation) -> int:
-        key = c.name_key(element.name)
+        key = _name_key(element.name)
         if key in self.failed:
             name, first = self.failed[key]
             raise _fail(
@@ -406,8 +416,9 @@ class _Elaborator:
                 f"the first '{self.by_key[key][0].name}' is at {_where(first)}",
             )
         self.by_key[key] = (element, loc)
-        self.elements.append(element)
-        return len(self.elements) - 1
+        elements = self.elements
+        elements.append(element)
+        return len(elements) - 1
 
     def expand(self, scope: _Scope) -> None:
         body = scope.definition.body
@@ -415,11 +426,12 @@ class _Elaborator:
             if isinstance(statement, ParamCard):
                 self.define_params(statement.assignments, scope, scope)
         for statement in body:
-            if isinstance(statement, LeftOutLine):
-                self.left_out(scope.element_prefix + statement.name.text, statement.loc)
-                continue
-            if isinstance(statement, NOT_ELEMENTS):
-                continue
+            if type(statement) is not Passive:  # R, C and L lines (most of a large netlist) are elements
+                if isinstance(statement, LeftOutLine):
+                    self.left_out(scope.element_prefix + statement.name.text, statement.loc)
+                    continue
+                if isinstance(statement, NOT_ELEMENTS):
+                    continue
             try:
                 if isinstance(statement, Instance):
                     self.instance(statement, scope)
@@ -455,13 +467,16 @@ class _Elaborator:
             statement = inner
         kind = statement.kind  # an element line's statement names the kind that builds it
         name = scope.element_prefix + statement.name
-        ctx = _BuildContext(self, scope, name, statement.loc)
+        loc = statement.loc
+        ctx = _BuildContext(self, scope, name, loc)
         element = kind.build(statement, ctx)
-        index = self.add(element, statement.loc)
-        ctx.settle(index)
-        value = getattr(statement, kind.statement_value, None) if kind.statement_value else None
+        index = self.add(element, loc)
+        if ctx._refs:
+            ctx.settle(index)
+        value_field = kind.statement_value
+        value = getattr(statement, value_field, None) if value_field else None
         if value is not None:
-            self.origins[c.name_key(name)] = _origin(value, scope)
+            self.origins[_name_key(name)] = _origin(value, scope)
 
     def opamp(self, statement: Instance, scope: _Scope, model: ModelCard, home: Definition) -> None:
         name = scope.element_prefix + statement.name
