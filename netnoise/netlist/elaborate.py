@@ -32,7 +32,7 @@ import dataclasses
 import difflib
 import functools
 import math
-from collections.abc import Callable
+from collections.abc import Callable, Iterable
 from dataclasses import dataclass, field
 from pathlib import Path
 from typing import Any
@@ -776,11 +776,18 @@ def _rebuilt(parsed: ParsedFile, top: Definition, source_file: str, overrides: d
     return _flat_circuit(parsed, top, source_file, {**overrides, **new_overrides})
 
 
-def _functions(top: Definition, engine: _Elaborator) -> dict[str, Function]:
-    """The ``.func`` functions, wherever they are written (their names are global)."""
+def _cards(statements: Iterable[Statement]) -> list[Statement]:
+    """``statements`` but their R, C and L lines (most lines of a large netlist):
+    what the look-ups for cards go through, in the same order."""
+    return [statement for statement in statements if type(statement) is not Passive]
+
+
+def _functions(statements: list[Statement], engine: _Elaborator) -> dict[str, Function]:
+    """The ``.func`` functions of ``statements`` (every level's), wherever they are
+    written (their names are global)."""
     functions: dict[str, Function] = {}
     first: dict[str, SourceLocation] = {}
-    for statement in all_statements(top):
+    for statement in statements:
         if not isinstance(statement, FuncCard):
             continue
         key = statement.name.text.lower()
@@ -809,10 +816,11 @@ def _functions(top: Definition, engine: _Elaborator) -> dict[str, Function]:
     return functions
 
 
-def _set_aside_notice(top: Definition) -> str | None:
-    """One notice naming every card that was read and set aside, in file order."""
+def _set_aside_notice(statements: list[Statement]) -> str | None:
+    """One notice naming every card of ``statements`` (every level's) that was read
+    and set aside, in file order."""
     found: list[tuple[str, int, str]] = []  # file, line, text
-    for statement in all_statements(top):
+    for statement in statements:
         if isinstance(statement, (SetAsideCard, InitialCard)):
             loc = statement.loc
             where = _where(loc)
@@ -842,7 +850,9 @@ def _flat_circuit(
 ) -> c.Circuit:
     notices: list[str | _Grouped] = []
     engine = _Elaborator(notices, overrides, problems)
-    engine.functions = _functions(top, engine)
+    cards = _cards(all_statements(top))  # every level's
+    top_cards = _cards(top.body)
+    engine.functions = _functions(cards, engine)
     scope = _Scope(top, None, "", "", {})
     engine.expand(scope)
     try:
@@ -854,13 +864,13 @@ def _flat_circuit(
         raise _no_elements(parsed)
 
     temperature = None
-    temp_card = _one(top.body, TempCard, engine.problems)
+    temp_card = _one(top_cards, TempCard, engine.problems)
     if isinstance(temp_card, TempCard):
         temperature = engine.attempt(lambda: _temperature(temp_card, engine, scope))
-    ac_card = _one(top.body, AcCard, engine.problems)
+    ac_card = _one(top_cards, AcCard, engine.problems)
     ac_sweep = engine.attempt(lambda: _sweep(ac_card.sweep, engine, scope)) if isinstance(ac_card, AcCard) else None
     circuit_nodes = {n for e in engine.elements for n in e.terminals()}
-    noise = _one(top.body, NoiseCard, engine.problems)
+    noise = _one(top_cards, NoiseCard, engine.problems)
     noise_card = (
         engine.attempt(lambda: _noise_card(noise, engine, scope, circuit_nodes))
         if isinstance(noise, NoiseCard)
@@ -868,14 +878,14 @@ def _flat_circuit(
     )
     raise_problems(engine.problems)
 
-    for statement in top.body:
+    for statement in top_cards:
         if isinstance(statement, OptionsCard):
             notices.append(f"{_where(statement.loc)}: .options ignored: netnoise has no simulator options to set")
-    set_aside = _set_aside_notice(top)
+    set_aside = _set_aside_notice(cards)
     if set_aside is not None:
         notices.append(set_aside)
     operating_point = False
-    for statement in all_statements(top):
+    for statement in cards:
         if isinstance(statement, ReaderNotice):
             notices.append(statement.text if statement.loc is None else f"{_where(statement.loc)}: {statement.text}")
         elif isinstance(statement, OperatingPointCard):
