@@ -21,6 +21,7 @@ from netnoise.netlist.statements import (
     OperatingPointCard,
     OptionsCard,
     ParamCard,
+    Passive,
     ReaderNotice,
     SetAsideCard,
     Statement,
@@ -124,6 +125,9 @@ def build_definitions(statements: list[Statement], problems: list[NetlistError] 
     top = Definition("", (), (), None, None)
     current = top
     for statement in statements:
+        if type(statement) is Passive:  # an R, C or L line (most of a large netlist): in the open definition
+            current.body.append(statement)
+            continue
         try:
             current, problem = _place(statement, current, top)
         except NetlistError as refused:
@@ -255,7 +259,7 @@ def flat_element_counts(top: Definition) -> dict[int, int]:
                 if isinstance(statement, Instance):
                     child = _instance_target(definition, statement)
                     total += 1 if child is None else counts.get(id(child), 0)
-                elif not isinstance(statement, NOT_ELEMENTS):
+                elif type(statement) is Passive or not isinstance(statement, NOT_ELEMENTS):
                     total += 1
             counts[id(definition)] = total
             continue

@@ -32,7 +32,7 @@ import dataclasses
 import difflib
 import functools
 import math
-from collections.abc import Callable
+from collections.abc import Callable, Iterable
 from dataclasses import dataclass, field
 from pathlib import Path
 from typing import Any
@@ -68,6 +68,7 @@ from netnoise.netlist.statements import (
     OptionsCard,
     ParamCard,
     ParsedFile,
+    Passive,
     ReaderNotice,
     SetAsideCard,
     Statement,
@@ -90,6 +91,8 @@ __all__ = [
     "elaborate",
     "flat_element_counts",
 ]
+
+_name_key = c.name_key
 
 # Subcircuit instances nested deeper than this are refused (the expansion
 # recurses; real designs nest a handful of levels).
@@ -151,15 +154,21 @@ class _Scope:
         key = word.text.lower()
         if key in GROUND_ALIASES:
             return c.GROUND
-        if key in self.pin_map:
-            return self.pin_map[key]
+        pin_map = self.pin_map
+        if key in pin_map:
+            return pin_map[key]
+        prefix = self.node_prefix
+        full = prefix + key
+        names = self.names
         # compared lower case, shown as first written (X1.Mid for x1.mid)
-        self.names.spelled.setdefault(self.node_prefix + key, self.element_prefix + word.text)
-        if self.node_prefix:
-            self.names.internal.add(self.node_prefix + key)
+        spelled = names.spelled
+        if full not in spelled:
+            spelled[full] = self.element_prefix + word.text
+        if prefix:
+            names.internal.add(full)
         elif "." in key:
-            self.names.top_dotted.setdefault(key, word)
-        return self.node_prefix + key
+            names.top_dotted.setdefault(key, word)
+        return full
 
 
 @dataclass
@@ -198,18 +207,19 @@ class _BuildContext:
     """What an element kind sees while it builds itself (see
     :class:`netnoise.circuit.elements.base.BuildContext`)."""
 
+    __slots__ = ("engine", "scope", "name", "loc", "node", "_refs")
+
     def __init__(self, engine: _Elaborator, scope: _Scope, name: str, loc: SourceLocation) -> None:
         self.engine = engine
         self.scope = scope
         self.name = name
         self.loc = loc
+        # a node word -> its canonical node (the scope's own method: one call less an element end)
+        self.node: Callable[[Word], str] = scope.node
         self._refs: list[tuple[Word, str, type, str, str]] = []
 
     def number(self, value: Value) -> float:
         return self.engine.number(value, self.scope)
-
-    def node(self, word: Word) -> str:
-        return self.scope.node(word)
 
     def local_name(self, word: Word) -> str:
         return self.scope.element_prefix + word.text
@@ -390,7 +400,7 @@ class _Elaborator:
 
     # ---- elements
     def add(self, element: c.Element, loc: SourceLocation) -> int:
-        key = c.name_key(element.name)
+        key = _name_key(element.name)
         if key in self.failed:
             name, first = self.failed[key]
             raise _fail(
@@ -406,8 +416,9 @@ class _Elaborator:
                 f"the first '{self.by_key[key][0].name}' is at {_where(first)}",
             )
         self.by_key[key] = (element, loc)
-        self.elements.append(element)
-        return len(self.elements) - 1
+        elements = self.elements
+        elements.append(element)
+        return len(elements) - 1
 
     def expand(self, scope: _Scope) -> None:
         body = scope.definition.body
@@ -415,11 +426,12 @@ class _Elaborator:
             if isinstance(statement, ParamCard):
                 self.define_params(statement.assignments, scope, scope)
         for statement in body:
-            if isinstance(statement, LeftOutLine):
-                self.left_out(scope.element_prefix + statement.name.text, statement.loc)
-                continue
-            if isinstance(statement, NOT_ELEMENTS):
-                continue
+            if type(statement) is not Passive:  # R, C and L lines (most of a large netlist) are elements
+                if isinstance(statement, LeftOutLine):
+                    self.left_out(scope.element_prefix + statement.name.text, statement.loc)
+                    continue
+                if isinstance(statement, NOT_ELEMENTS):
+                    continue
             try:
                 if isinstance(statement, Instance):
                     self.instance(statement, scope)
@@ -455,13 +467,16 @@ class _Elaborator:
             statement = inner
         kind = statement.kind  # an element line's statement names the kind that builds it
         name = scope.element_prefix + statement.name
-        ctx = _BuildContext(self, scope, name, statement.loc)
+        loc = statement.loc
+        ctx = _BuildContext(self, scope, name, loc)
         element = kind.build(statement, ctx)
-        index = self.add(element, statement.loc)
-        ctx.settle(index)
-        value = getattr(statement, kind.statement_value, None) if kind.statement_value else None
+        index = self.add(element, loc)
+        if ctx._refs:
+            ctx.settle(index)
+        value_field = kind.statement_value
+        value = getattr(statement, value_field, None) if value_field else None
         if value is not None:
-            self.origins[c.name_key(name)] = _origin(value, scope)
+            self.origins[_name_key(name)] = _origin(value, scope)
 
     def opamp(self, statement: Instance, scope: _Scope, model: ModelCard, home: Definition) -> None:
         name = scope.element_prefix + statement.name
@@ -761,11 +776,18 @@ def _rebuilt(parsed: ParsedFile, top: Definition, source_file: str, overrides: d
     return _flat_circuit(parsed, top, source_file, {**overrides, **new_overrides})
 
 
-def _functions(top: Definition, engine: _Elaborator) -> dict[str, Function]:
-    """The ``.func`` functions, wherever they are written (their names are global)."""
+def _cards(statements: Iterable[Statement]) -> list[Statement]:
+    """``statements`` but their R, C and L lines (most lines of a large netlist):
+    what the look-ups for cards go through, in the same order."""
+    return [statement for statement in statements if type(statement) is not Passive]
+
+
+def _functions(statements: list[Statement], engine: _Elaborator) -> dict[str, Function]:
+    """The ``.func`` functions of ``statements`` (every level's), wherever they are
+    written (their names are global)."""
     functions: dict[str, Function] = {}
     first: dict[str, SourceLocation] = {}
-    for statement in all_statements(top):
+    for statement in statements:
         if not isinstance(statement, FuncCard):
             continue
         key = statement.name.text.lower()
@@ -794,10 +816,11 @@ def _functions(top: Definition, engine: _Elaborator) -> dict[str, Function]:
     return functions
 
 
-def _set_aside_notice(top: Definition) -> str | None:
-    """One notice naming every card that was read and set aside, in file order."""
+def _set_aside_notice(statements: list[Statement]) -> str | None:
+    """One notice naming every card of ``statements`` (every level's) that was read
+    and set aside, in file order."""
     found: list[tuple[str, int, str]] = []  # file, line, text
-    for statement in all_statements(top):
+    for statement in statements:
         if isinstance(statement, (SetAsideCard, InitialCard)):
             loc = statement.loc
             where = _where(loc)
@@ -827,7 +850,9 @@ def _flat_circuit(
 ) -> c.Circuit:
     notices: list[str | _Grouped] = []
     engine = _Elaborator(notices, overrides, problems)
-    engine.functions = _functions(top, engine)
+    cards = _cards(all_statements(top))  # every level's
+    top_cards = _cards(top.body)
+    engine.functions = _functions(cards, engine)
     scope = _Scope(top, None, "", "", {})
     engine.expand(scope)
     try:
@@ -839,13 +864,13 @@ def _flat_circuit(
         raise _no_elements(parsed)
 
     temperature = None
-    temp_card = _one(top.body, TempCard, engine.problems)
+    temp_card = _one(top_cards, TempCard, engine.problems)
     if isinstance(temp_card, TempCard):
         temperature = engine.attempt(lambda: _temperature(temp_card, engine, scope))
-    ac_card = _one(top.body, AcCard, engine.problems)
+    ac_card = _one(top_cards, AcCard, engine.problems)
     ac_sweep = engine.attempt(lambda: _sweep(ac_card.sweep, engine, scope)) if isinstance(ac_card, AcCard) else None
     circuit_nodes = {n for e in engine.elements for n in e.terminals()}
-    noise = _one(top.body, NoiseCard, engine.problems)
+    noise = _one(top_cards, NoiseCard, engine.problems)
     noise_card = (
         engine.attempt(lambda: _noise_card(noise, engine, scope, circuit_nodes))
         if isinstance(noise, NoiseCard)
@@ -853,14 +878,14 @@ def _flat_circuit(
     )
     raise_problems(engine.problems)
 
-    for statement in top.body:
+    for statement in top_cards:
         if isinstance(statement, OptionsCard):
             notices.append(f"{_where(statement.loc)}: .options ignored: netnoise has no simulator options to set")
-    set_aside = _set_aside_notice(top)
+    set_aside = _set_aside_notice(cards)
     if set_aside is not None:
         notices.append(set_aside)
     operating_point = False
-    for statement in all_statements(top):
+    for statement in cards:
         if isinstance(statement, ReaderNotice):
             notices.append(statement.text if statement.loc is None else f"{_where(statement.loc)}: {statement.text}")
         elif isinstance(statement, OperatingPointCard):

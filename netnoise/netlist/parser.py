@@ -94,6 +94,14 @@ def _element(tree: Tree, fields: FieldReader) -> Statement:
 
 def _plain_element(token: Token, fields: FieldReader) -> Statement:
     """An element line of plain words only (one PLAIN_LINE token)."""
+    text = str(token)
+    pieces = text.split()
+    # most lines of a large netlist: 'R1 a b 1k', one blank between the words (their columns
+    # follow from their lengths), a number in the value's place (a word there names a model)
+    if len(pieces) == 4 and pieces[0][0].upper() in "RCL" and not pieces[3][:1].isalpha():
+        joined = " ".join(pieces)
+        if text.startswith(joined):
+            return _plain_passive(token, pieces, fields.source)
     name_word, *items = fields.words(token)
     name = name_word.text
     letter = name[0].upper()
@@ -106,6 +114,20 @@ def _plain_element(token: Token, fields: FieldReader) -> Statement:
 
 
 _PLAIN = {letter: kinds_for(letter)[0] for letter in "RCL"}
+
+
+def _plain_passive(token: Token, pieces: list[str], source: SourceText) -> Passive:
+    """``Rname node node number`` (words one blank apart): the statement
+    :func:`_plain_element` makes of it, without its general reading."""
+    name, first, second, value = pieces
+    line = token.line or 1
+    column = token.column or 1
+    letter = name[0].upper()
+    at = column + len(name) + 1
+    nodes = (Word(first, source, line, at), Word(second, source, line, at + len(first) + 1))
+    value_word = Word(value, source, line, at + len(first) + len(second) + 2)
+    number = as_value(value_word, "value of " + name)
+    return Passive(letter, name, nodes, number, source.location(line, column), kind=_PLAIN[letter])
 
 
 def _check_letter(name_word: Word) -> None:

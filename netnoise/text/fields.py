@@ -292,11 +292,18 @@ class FieldReader:
         text = str(token)
         line = token.line or 1
         column = token.column or 1
+        source = self.source
+        pieces = text.split()
         out: list[Word] = []
+        if text.startswith(" ".join(pieces)):  # most lines: one blank between words, columns by their lengths
+            for piece in pieces:
+                out.append(Word(piece, source, line, column))
+                column += len(piece) + 1
+            return out
         position = 0
-        for piece in text.split():
+        for piece in pieces:
             position = text.find(piece, position)
-            out.append(Word(piece, self.source, line, column + position))
+            out.append(Word(piece, source, line, column + position))
             position += len(piece)
         return out
 

@@ -52,8 +52,9 @@ class SourceText:
     lines: tuple[str, ...]
 
     def location(self, line: int, column: int) -> SourceLocation:
-        text = self.lines[line - 1] if 1 <= line <= len(self.lines) else ""
-        return SourceLocation(self.file, line, max(1, column), text)
+        lines = self.lines
+        text = lines[line - 1] if 0 < line <= len(lines) else ""
+        return SourceLocation(self.file, line, column if column > 1 else 1, text)
 
     def at(self, node: Tree | Token) -> SourceLocation:
         token = first_token(node)
