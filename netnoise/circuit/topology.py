@@ -31,7 +31,10 @@ def check_topology(circuit: ck.Circuit) -> None:
     dc_paths: list[tuple[str, str]] = []
     for element in circuit.elements:
         terminals = element.terminals()
-        every_terminal.extend((terminals[0], node) for node in terminals[1:])
+        if len(terminals) == 2:  # most elements: one pair, without a generator
+            every_terminal.append((terminals[0], terminals[1]))
+        else:
+            every_terminal.extend((terminals[0], node) for node in terminals[1:])
         dc_paths.extend(element.dc_paths())
     apart = _cut_off_from_ground(circuit.nodes, every_terminal)
     if apart:
@@ -73,8 +76,8 @@ def _cut_off_from_ground(nodes: tuple[str, ...], edges: list[tuple[str, str]]) -
 
     index = {ck.GROUND: 0, **{node: i + 1 for i, node in enumerate(nodes)}}
     if edges:
-        a = np.fromiter((index[e[0]] for e in edges), dtype=np.int64, count=len(edges))
-        b = np.fromiter((index[e[1]] for e in edges), dtype=np.int64, count=len(edges))
+        a = np.fromiter(map(index.__getitem__, [e[0] for e in edges]), dtype=np.int64, count=len(edges))
+        b = np.fromiter(map(index.__getitem__, [e[1] for e in edges]), dtype=np.int64, count=len(edges))
     else:
         a = b = np.zeros(0, dtype=np.int64)
     graph = coo_matrix((np.ones(a.size), (a, b)), shape=(len(index), len(index)))

@@ -23,6 +23,7 @@ from __future__ import annotations
 
 import difflib
 from dataclasses import dataclass, field
+from itertools import repeat
 
 import numpy as np
 import scipy.sparse as sp
@@ -86,6 +87,14 @@ class _Stamps:
     # rows
     def node(self, name: str) -> int:
         return -1 if name == ck.GROUND else self.layout.node_index[name]
+
+    def node_rows(self, names: list[str]) -> np.ndarray:
+        """Rows of ``names`` as one int64 array (-1: ground); KeyError as :meth:`node`."""
+        rows = np.fromiter(map(self.layout.node_index.get, names, repeat(-1)), dtype=np.int64, count=len(names))
+        strays = [names[at] for at in np.flatnonzero(rows < 0).tolist() if names[at] != ck.GROUND]
+        if strays:
+            self.node(strays[0])  # a name not in the circuit: its KeyError
+        return rows
 
     def branch(self, element: Element) -> int:
         return self.layout.branch_index[ck.name_key(element.name)]

@@ -88,6 +88,10 @@ class NoiseContext:
     def current_between(self, a: str, b: str) -> tuple[tuple[int, float], ...]:
         """Injection of a noise current in parallel with nodes ``a`` and ``b``:
         +1 at a's row, -1 at b's (ground rows left out)."""
+        index = self.system.node_index
+        ra, rb = index.get(a), index.get(b)
+        if ra is not None and rb is not None:  # two canonical nodes off ground: the common case
+            return ((ra, 1.0), (rb, -1.0))
         rows = []
         for node, sign in ((a, 1.0), (b, -1.0)):
             row = self.system.node_row(node)
@@ -119,25 +123,23 @@ def collect_noise_sources(
     found = [s for element in system.circuit.elements for s in element.noise_sources(ctx)]  # type: ignore[arg-type]
     found.sort(key=lambda s: ROW_ORDER[s.mechanism])  # stable: netlist order within a mechanism
     sources = tuple(found)
-    rows, cols, vals = [], [], []
-    for k, source in enumerate(sources):
-        for row, coefficient in source.injection:
-            rows.append(row)
-            cols.append(k)
-            vals.append(coefficient)
+    entries = [(row, k, coefficient) for k, source in enumerate(sources) for row, coefficient in source.injection]
+    rows = [e[0] for e in entries]
+    cols = [e[1] for e in entries]
+    vals = [e[2] for e in entries]
     injection = sp.csc_matrix((vals, (rows, cols)), shape=(system.size, len(sources)))
 
-    def column(attribute):
-        out = np.array([getattr(s, attribute) for s in sources], dtype=float)
+    def column(values):
+        out = np.array(values, dtype=float)
         out.setflags(write=False)
         return out
 
     return NoiseSources(
         sources=sources,
         injection=injection,
-        white_density=column("white_density"),
-        flicker_at_1Hz=column("flicker_at_1Hz"),
-        slope=column("slope"),
+        white_density=column([s.white_density for s in sources]),
+        flicker_at_1Hz=column([s.flicker_at_1Hz for s in sources]),
+        slope=column([s.slope for s in sources]),
     )
 
 

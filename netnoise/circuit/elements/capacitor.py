@@ -25,6 +25,7 @@ from netnoise.circuit.elements.base import (
     refuse_negative_reactance,
     value_nodes,
 )
+from netnoise.circuit.limits import VALUE_RANGE
 from netnoise.text.fields import LineReader
 
 __all__ = ["Capacitor", "CAPACITOR_OPTIONS"]
@@ -48,6 +49,16 @@ class Capacitor(TwoTerminal):
     def check_values(self) -> None:
         refuse_negative_reactance(self, "capacitance", "F", self.effective_capacitance)
 
+    @classmethod
+    def check_all(cls, elements, circuit) -> None:
+        """``check_values`` of every capacitor; those plainly in range in one vectorised step."""
+        members = list(elements)
+        c = np.fromiter((e.capacitance * e.multiplier for e in members), dtype=float, count=len(members))
+        low, high = VALUE_RANGE
+        refused = (c < 0.0) | ((c > 0.0) & ~((low <= c) & (c <= high)))
+        for at in np.flatnonzero(refused).tolist():  # netlist order: the first refused raises
+            members[at].check_values()
+
     @property
     def effective_capacitance(self) -> float:
         """The capacitance the circuit sees (F): one part's times ``multiplier``."""
@@ -68,9 +79,10 @@ class Capacitor(TwoTerminal):
 
     @classmethod
     def stamp_all(cls, elements, s) -> None:
-        a = np.fromiter((s.node(e.nodes[0]) for e in elements), dtype=np.int64, count=len(elements))
-        b = np.fromiter((s.node(e.nodes[1]) for e in elements), dtype=np.int64, count=len(elements))
-        y = np.fromiter((e.effective_capacitance for e in elements), dtype=float, count=len(elements))
+        members = list(elements)
+        a = s.node_rows([e.nodes[0] for e in members])
+        b = s.node_rows([e.nodes[1] for e in members])
+        y = np.fromiter((e.capacitance * e.multiplier for e in members), dtype=float, count=len(members))
         s.admittances("C", a, b, y)
 
     def stamp(self, s) -> None:

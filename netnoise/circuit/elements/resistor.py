@@ -278,12 +278,25 @@ class Resistor(TwoTerminal):
     @classmethod
     def stamp_all(cls, elements, s) -> None:
         """All resistors in one vectorised step (the bulk of a large circuit)."""
-        for element in elements:
-            element.check(s)
-        a = np.fromiter((s.node(e.nodes[0]) for e in elements), dtype=np.int64, count=len(elements))
-        b = np.fromiter((s.node(e.nodes[1]) for e in elements), dtype=np.int64, count=len(elements))
-        y = 1.0 / np.fromiter((e.effective_resistance for e in elements), dtype=float, count=len(elements))
-        s.admittances("G", a, b, y)
+        members = list(elements)
+        r = _effective_resistances(members)
+        bad = ~np.isfinite(r) | (r <= 0.0)
+        if bad.any():
+            members[int(np.argmax(bad))].check(s)  # the first one check refuses, with its message
+        a = s.node_rows([e.nodes[0] for e in members])
+        b = s.node_rows([e.nodes[1] for e in members])
+        s.admittances("G", a, b, 1.0 / r)
+
+    @classmethod
+    def check_all(cls, elements, circuit) -> None:
+        """``check_values`` of every resistor; those plainly in range in one vectorised step."""
+        members = list(elements)
+        r = _effective_resistances(members)
+        low, high = RESISTANCE_RANGE
+        plain = np.fromiter((e.tc1 == 0.0 and e.tc2 == 0.0 for e in members), dtype=bool, count=len(members))
+        fine = plain & ~(np.isfinite(r) & (r > 0.0) & ~((low <= r) & (r <= high)))
+        for at in np.flatnonzero(~fine).tolist():  # netlist order: the first refused raises
+            members[at].check_values()
 
     def stamp(self, s) -> None:
         type(self).stamp_all([self], s)
@@ -331,3 +344,12 @@ class Resistor(TwoTerminal):
             flicker_at_1Hz=self.multiplier * excess_current_flicker(self.noise_index_dB, v_dc, self.part_resistance),
             details={"noise_index_dB": self.noise_index_dB, "dc_voltage_V": v_dc},
         )
+
+
+def _effective_resistances(members: list[Resistor]) -> np.ndarray:
+    """Every member's ``effective_resistance`` (Ω), as one float array."""
+    return np.fromiter(
+        (e.resistance / e.multiplier if e.tc1 == 0.0 and e.tc2 == 0.0 else e.effective_resistance for e in members),
+        dtype=float,
+        count=len(members),
+    )
